@@ -1,0 +1,208 @@
+-- sluice.help: the one place where every function is described.  help()
+-- lists them by topic, help "name" shows one; docs/functions.md is built
+-- from these entries (make docs) and a test checks it is up to date.
+local H = {}
+
+H.caution = [[
+Estimates rest on the assumptions written into the causal graph. They are no
+substitute for qualified epidemiological or clinical judgement, nor for the
+local rules that govern health data.]]
+
+H.topics = {
+  {"graph",     "Writing a causal graph"},
+  {"structure", "Asking about its structure"},
+  {"picture",   "Pictures and text views"},
+  {"session",   "The session"},
+}
+
+-- name, topic, signature, returns, summary, example
+H.entries = {
+  { name = "graph", topic = "graph",
+    sig = "graph(text)",
+    returns = "an immutable graph",
+    summary = [[Parse the graph notation. `a -> b` (a causes b), `a <- b`, `a <-> b`
+(a and b share a hidden common cause), chains `a -> b -> c`, lists
+`a, b -> c`, `hidden u, v` (never measured), a name alone for an isolated
+node, "quoted names" for spaces or any UTF-8. Statements end at a newline
+or `;`; `#` starts a comment. Errors give the line and column with a caret.]],
+    example = [=[g = graph [[
+  rain -> soil -> yield
+  rain -> yield
+  hidden pests
+  pests -> yield; pests -> soil
+]]]=] },
+  { name = "read_graph", topic = "graph",
+    sig = "read_graph(path)",
+    returns = "an immutable graph",
+    summary = "Read a file written in the graph notation. Errors name the file, line and column.",
+    example = [[g = read_graph "examples/orchard.graph"]] },
+  { name = "g:with", topic = "graph",
+    sig = "g:with(text)",
+    returns = "a new graph",
+    summary = "Add nodes, edges or hidden marks. The result holds g and everything text declares (same notation).",
+    example = [[g2 = g:with "frost -> yield"]] },
+  { name = "g:without", topic = "graph",
+    sig = "g:without(text)",
+    returns = "a new graph",
+    summary = [[Remove edges or nodes. The edges named in text go, and a node named alone goes
+with all its edges. Every name and edge must exist.]],
+    example = [[g2 = g:without "rain -> yield; pests"]] },
+  { name = "tostring", topic = "graph",
+    sig = "tostring(g)",
+    returns = "text in the graph notation",
+    summary = [[The canonical notation of g. Hidden declarations come first, then one line per
+node with its arrows, sorted by name. It parses back to an equal graph (g1 == g2
+compares graphs).]],
+    example = [[print(tostring(g))]] },
+  { name = "g:nodes", topic = "structure",
+    sig = "g:nodes()",
+    returns = "list of names, sorted",
+    summary = "Every node, hidden ones included. #g is the number of nodes.",
+    example = [[g:nodes()]] },
+  { name = "g:edges", topic = "structure",
+    sig = "g:edges()",
+    returns = "list of {from=, to=, kind=}",
+    summary = [[Every edge; kind is "->" or "<->". Directed edges come first, each sorted by
+(from, to).]],
+    example = [[for _, e in ipairs(g:edges()) do print(e.from, e.kind, e.to) end]] },
+  { name = "g:hidden", topic = "structure",
+    sig = "g:hidden()",
+    returns = "list of names, sorted",
+    summary = "The nodes declared hidden. They are never measured and never adjusted for.",
+    example = [[g:hidden()]] },
+  { name = "g:parents", topic = "structure",
+    sig = "g:parents(v)",
+    returns = "list of names, sorted",
+    summary = "Nodes with an arrow into v (for a list of nodes, into any of them).",
+    example = [[g:parents "yield"]] },
+  { name = "g:children", topic = "structure",
+    sig = "g:children(v)",
+    returns = "list of names, sorted",
+    summary = "Nodes v has an arrow into (for a list of nodes, the union).",
+    example = [[g:children "rain"]] },
+  { name = "g:ancestors", topic = "structure",
+    sig = "g:ancestors(set)",
+    returns = "list of names, sorted",
+    summary = [[Nodes with a directed path into the node or set. A member of the set appears
+only if it is itself an ancestor of another member.]],
+    example = [[g:ancestors "yield"]] },
+  { name = "g:descendants", topic = "structure",
+    sig = "g:descendants(set)",
+    returns = "list of names, sorted",
+    summary = [[Nodes reached by a directed path from the node or set. A member appears only
+if it is itself a descendant of another member.]],
+    example = [[g:descendants {"rain", "pests"}]] },
+  { name = "g:order", topic = "structure",
+    sig = "g:order()",
+    returns = "list of names",
+    summary = [[A topological order. Every node comes after all its ancestors; it is the
+alphabetically first such order, so it is the same on every run.]],
+    example = [[g:order()]] },
+  { name = "g:show", topic = "picture",
+    sig = "g:show()",
+    returns = "text",
+    summary = [[A text view for the terminal. One line per node in causal order with its causal
+depth, its parents (<-) and its hidden-cause partners (<->).]],
+    example = [[g:show()]] },
+  { name = "g:dot", topic = "picture",
+    sig = "g:dot()",
+    returns = "DOT text",
+    summary = [[The graph in DOT, the Graphviz language. Hidden nodes and their arrows are
+dashed; <-> edges are dashed with two heads.]],
+    example = [[io.open("orchard.dot", "w"):write(g:dot())]] },
+  { name = "g:draw", topic = "picture",
+    sig = "g:draw(path)",
+    returns = "path",
+    summary = [[Write a picture of the graph. Graphviz lays it out; the format follows the
+extension: .svg, .png or .pdf.]],
+    example = [[g:draw "orchard.svg"]] },
+  { name = "help", topic = "session",
+    sig = "help([name])",
+    returns = "nothing; prints",
+    summary = "Describe the functions. Without a name, every function by topic; with one, its signature, result and an example.",
+    example = [[help "g:parents"]] },
+  { name = "version", topic = "session",
+    sig = "version",
+    returns = "a string",
+    summary = "The version of sluice.",
+    example = [[print(version)]] },
+}
+
+local by_name = {}
+for _, e in ipairs(H.entries) do
+  by_name[e.name] = e
+  local short = e.name:match("^g:(.+)$")
+  if short then by_name[short] = by_name[short] or e end
+end
+
+-- Edit distance, for suggestions.
+local function distance(a, b)
+  local prev = {}
+  for j = 0, #b do prev[j] = j end
+  for i = 1, #a do
+    local cur = {[0] = i}
+    for j = 1, #b do
+      local cost = a:sub(i, i) == b:sub(j, j) and 0 or 1
+      cur[j] = math.min(prev[j] + 1, cur[j - 1] + 1, prev[j - 1] + cost)
+    end
+    prev = cur
+  end
+  return prev[#b]
+end
+
+function H.closest(word)
+  local best, bestd
+  for name in pairs(by_name) do
+    local d = distance(word, name)
+    if d <= math.max(1, #word // 3) and (not bestd or d < bestd or (d == bestd and name < best)) then
+      best, bestd = name, d
+    end
+  end
+  return best
+end
+
+function H.lookup(name) return by_name[name] end
+
+-- The text of one entry.
+function H.entry_text(e)
+  return string.format("%s\n  returns: %s\n\n%s\n\nexample:\n  %s",
+                       e.sig, e.returns, e.summary, (e.example:gsub("\n", "\n  ")))
+end
+
+-- The overview: every function by topic.
+function H.overview()
+  local out = {"sluice " .. (H.version or "") .. ": functions by topic " ..
+               "(help \"name\" for one of them)"}
+  for _, topic in ipairs(H.topics) do
+    out[#out + 1] = ""
+    out[#out + 1] = topic[2]
+    for _, e in ipairs(H.entries) do
+      if e.topic == topic[1] then
+        local first = (e.summary:gsub("\n", " ") .. " "):match("^(.-)[.;]%s") or e.summary
+        out[#out + 1] = string.format("  %-24s %s", e.sig, first)
+      end
+    end
+  end
+  out[#out + 1] = ""
+  out[#out + 1] = H.caution
+  return table.concat(out, "\n")
+end
+
+function H.text(name)
+  if name == nil then return H.overview() end
+  if type(name) ~= "string" then
+    error("bad argument #1 to 'help' (string expected, got " .. type(name) .. ")", 3)
+  end
+  local e = by_name[name] or by_name[name:gsub("^%w+:", "")]
+  if e then return H.entry_text(e) end
+  local near = H.closest(name)
+  error(string.format("help: no function named '%s'%s", name,
+                      near and ("; did you mean '" .. near .. "'?") or ""), 3)
+end
+
+function H.install(M)
+  H.version = M.version
+  M.help = function(name) print(H.text(name)) end
+end
+
+return H

@@ -1,0 +1,34 @@
+/*
+** bind.h: helpers shared by the Lua bindings (one file per object type).
+*/
+#ifndef SL_BIND_H
+#define SL_BIND_H
+
+#include <lua.h>
+#include <lauxlib.h>
+#include "graph.h"
+
+#define SL_GRAPH_MT "sluice.graph"
+#define SL_LIST_MT  "sluice.list"
+#define SL_EDGE_MT  "sluice.edge"
+
+/* Raise e as a Lua error; src (may be NULL) adds the caret view.
+** prefix names the function or file. */
+int sl_bind_raise(lua_State *L, const sl_error *e, const char *prefix,
+                  const char *src, size_t srclen);
+
+/* Push a new empty list (a table with the list metatable). */
+void sl_bind_newlist(lua_State *L, int n);
+
+/* Push the graph as a new userdata that owns it. */
+void sl_bind_pushgraph(lua_State *L, sl_graph *g);
+sl_graph *sl_bind_checkgraph(lua_State *L, int arg);
+
+/* Read a node-set argument (a name or a list of names) as node ids into a
+** new array (caller frees); raises argument errors that name the node. */
+int32_t *sl_bind_checkset(lua_State *L, const sl_graph *g, int arg, size_t *n,
+                          int allow_nil);
+
+int sl_open_graph(lua_State *L);   /* registers the graph functions */
+
+#endif

@@ -1,0 +1,67 @@
+/*
+** module.c: luaopen_sluice, the entry point of the Lua module "sluice".
+** The pure-Lua layer (the files of lua/sluice) is compiled in and made available
+** through package.preload.
+*/
+#include <string.h>
+#include "bind.h"
+#include "embedded.h"
+
+#ifndef SLUICE_VERSION
+#define SLUICE_VERSION "unknown"
+#endif
+
+/* Loader for an embedded Lua file: upvalue 1 is its index. */
+static int load_embedded(lua_State *L) {
+  const sl_embedded *m = &sl_embedded_lua[lua_tointeger(L, lua_upvalueindex(1))];
+  if (luaL_loadbuffer(L, m->source, m->len, m->chunkname) != LUA_OK)
+    return lua_error(L);
+  lua_pushstring(L, m->module);
+  lua_call(L, 1, 1);
+  return 1;
+}
+
+/* package.preload[name] = loader, for every embedded file. */
+static void preload(lua_State *L) {
+  luaL_getsubtable(L, LUA_REGISTRYINDEX, LUA_PRELOAD_TABLE);
+  for (int i = 0; sl_embedded_lua[i].module; i++) {
+    lua_pushinteger(L, i);
+    lua_pushcclosure(L, load_embedded, 1);
+    lua_setfield(L, -2, sl_embedded_lua[i].module);
+  }
+  lua_pop(L, 1);
+}
+
+/* require(name) and leave the result on the stack. */
+static void require(lua_State *L, const char *name) {
+  lua_getglobal(L, "require");
+  lua_pushstring(L, name);
+  lua_call(L, 1, 1);
+}
+
+int luaopen_sluice(lua_State *L) {
+  luaL_checkversion(L);
+  preload(L);
+  lua_newtable(L);                          /* the module */
+  luaL_newmetatable(L, SL_LIST_MT);
+  lua_pop(L, 1);
+  luaL_newmetatable(L, SL_EDGE_MT);
+  lua_pop(L, 1);
+  sl_open_graph(L);
+  lua_pushliteral(L, SLUICE_VERSION);
+  lua_setfield(L, -2, "version");
+  /* the Lua layer: printing, then help; each may add to the module */
+  const char *layers[] = {"sluice.print", "sluice.help", NULL};
+  for (int i = 0; layers[i]; i++) {
+    require(L, layers[i]);     /* a table with install(M, list_mt, edge_mt) */
+    lua_getfield(L, -1, "install");
+    if (lua_isfunction(L, -1)) {
+      lua_pushvalue(L, -3);
+      luaL_getmetatable(L, SL_LIST_MT);
+      luaL_getmetatable(L, SL_EDGE_MT);
+      lua_call(L, 3, 0);
+    } else lua_pop(L, 1);
+    lua_pop(L, 1);
+  }
+  return 1;
+}

@@ -1,0 +1,94 @@
+/*
+** names.c: interned node names (an arena plus an open-addressing table).
+*/
+#include <stdlib.h>
+#include <string.h>
+#include "graph_internal.h"
+
+/* FNV-1a, 64 bit. */
+static uint64_t hash(const char *s, size_t len) {
+  uint64_t h = 1469598103934665603ull;
+  for (size_t i = 0; i < len; i++) { h ^= (unsigned char)s[i]; h *= 1099511628211ull; }
+  return h;
+}
+
+int sl_names_init(sl_names *t) {
+  memset(t, 0, sizeof *t);
+  t->nslot = 64;
+  t->slot = malloc(t->nslot * sizeof *t->slot);
+  if (!t->slot) return -1;
+  memset(t->slot, 0xff, t->nslot * sizeof *t->slot);
+  return 0;
+}
+
+void sl_names_free(sl_names *t) {
+  free(t->arena); free(t->off); free(t->len); free(t->slot);
+  memset(t, 0, sizeof *t);
+}
+
+int32_t sl_names_find(const sl_names *t, const char *s, size_t len) {
+  size_t mask = t->nslot - 1, i = (size_t)hash(s, len) & mask;
+  for (;; i = (i + 1) & mask) {
+    int32_t v = t->slot[i];
+    if (v < 0) return -1;
+    if (t->len[v] == len && memcmp(t->arena + t->off[v], s, len) == 0) return v;
+  }
+}
+
+/* Double the table and reinsert every name. */
+static int grow_table(sl_names *t) {
+  size_t nslot = t->nslot * 2, mask = nslot - 1;
+  int32_t *slot = malloc(nslot * sizeof *slot);
+  if (!slot) return -1;
+  memset(slot, 0xff, nslot * sizeof *slot);
+  for (size_t v = 0; v < t->n; v++) {
+    size_t i = (size_t)hash(t->arena + t->off[v], t->len[v]) & mask;
+    while (slot[i] >= 0) i = (i + 1) & mask;
+    slot[i] = (int32_t)v;
+  }
+  free(t->slot);
+  t->slot = slot;
+  t->nslot = nslot;
+  return 0;
+}
+
+/* Make room for one more name of len bytes. */
+static int reserve(sl_names *t, size_t len) {
+  if (t->n == t->cap) {
+    size_t cap = t->cap ? t->cap * 2 : 64;
+    uint32_t *off = realloc(t->off, cap * sizeof *off);
+    if (!off) return -1;
+    t->off = off;
+    uint32_t *ln = realloc(t->len, cap * sizeof *ln);
+    if (!ln) return -1;
+    t->len = ln;
+    t->cap = cap;
+  }
+  if (t->arena_len + len + 1 > t->arena_cap) {
+    size_t cap = t->arena_cap ? t->arena_cap : 1024;
+    while (cap < t->arena_len + len + 1) cap *= 2;
+    if (cap > UINT32_MAX) return -1;
+    char *a = realloc(t->arena, cap);
+    if (!a) return -1;
+    t->arena = a;
+    t->arena_cap = cap;
+  }
+  return 0;
+}
+
+int32_t sl_names_intern(sl_names *t, const char *s, size_t len) {
+  int32_t v = sl_names_find(t, s, len);
+  if (v >= 0) return v;
+  if (t->n >= SL_MAX_NODES || reserve(t, len) != 0) return -1;
+  if ((t->n + 1) * 2 > t->nslot && grow_table(t) != 0) return -1;
+  v = (int32_t)t->n++;
+  t->off[v] = (uint32_t)t->arena_len;
+  t->len[v] = (uint32_t)len;
+  memcpy(t->arena + t->arena_len, s, len);
+  t->arena[t->arena_len + len] = '\0';
+  t->arena_len += len + 1;
+  size_t mask = t->nslot - 1, i = (size_t)hash(s, len) & mask;
+  while (t->slot[i] >= 0) i = (i + 1) & mask;
+  t->slot[i] = v;
+  return v;
+}

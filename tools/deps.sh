@@ -1,0 +1,27 @@
+#!/bin/sh
+# deps.sh: make sure the Debian packages sluice builds and tests with are
+# present.  As root, install what is missing; otherwise print the one
+# apt-get line that would, and fail.
+#   usage: tools/deps.sh build|check
+set -e
+build="make gcc pkg-config lua5.4 liblua5.4-dev libgsl-dev libopenblas-dev
+libreadline-dev libgraphviz-dev"
+check="libcmocka-dev python3 python3-networkx clang"
+want=$build
+[ "$1" = check ] && want="$build $check"
+missing=
+for p in $want; do
+  dpkg-query -W -f='${Status}\n' "$p" 2>/dev/null | grep -q '^install ok installed' \
+    || missing="$missing $p"
+done
+[ -z "$missing" ] && exit 0
+if [ "$(id -u)" = 0 ]; then
+  echo "deps: installing$missing"
+  export DEBIAN_FRONTEND=noninteractive
+  apt-get update -qq
+  apt-get install -y -qq --no-install-recommends $missing >/dev/null
+else
+  echo "deps: missing packages; run:" >&2
+  echo "  sudo apt-get install$missing" >&2
+  exit 1
+fi
