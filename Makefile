@@ -43,6 +43,9 @@ BIND_OBJ  := $(call obj,$(BIND_SRC)) $(B)/obj/gen/lua_embedded.o
 SHELL_OBJ := $(call obj,$(SHELL_SRC))
 CTESTS    := $(patsubst tests/c/%.c,$(B)/tests/%,$(CTEST_SRC))
 
+.DEFAULT_GOAL := all
+-include $(LIB_OBJ:.o=.d) $(BIND_OBJ:.o=.d) $(SHELL_OBJ:.o=.d)
+
 .PHONY: all deps deps-check demo check test asan fuzz bench docs install \
         uninstall clean
 all: $(B)/libsluice.a $(B)/sluice $(B)/sluice.so
@@ -52,9 +55,9 @@ deps:
 deps-check:
 	@sh tools/deps.sh check
 
-$(B)/obj/%.o: %.c $(wildcard src/*/*.h)
+$(B)/obj/%.o: %.c
 	@mkdir -p $(dir $@)
-	$(CC) $(ALLCFLAGS) -c $< -o $@
+	$(CC) $(ALLCFLAGS) -MMD -MP -c $< -o $@
 
 $(B)/gen/lua_embedded.c: tools/embed.lua $(LUA_SRC)
 	@mkdir -p $(dir $@)

@@ -38,11 +38,11 @@ sl_graph *sl_bind_checkgraph(lua_State *L, int arg) {
 /* One node name at the top of the stack, or an argument error. */
 static int32_t check_name(lua_State *L, const sl_graph *g, int arg, int idx) {
   size_t len;
-  const char *s = lua_tolstring(L, idx, &len);
   if (lua_type(L, idx) != LUA_TSTRING) {
     lua_pushfstring(L, "node names are strings, got %s", luaL_typename(L, idx));
     luaL_argerror(L, arg, lua_tostring(L, -1));
   }
+  const char *s = lua_tolstring(L, idx, &len);
   sl_error e;
   int32_t v = sl_graph_lookup(g, s, len, &e);
   if (v < 0) luaL_argerror(L, arg, e.msg);
