@@ -86,7 +86,7 @@ check: deps-check
 	@$(MAKE) --no-print-directory test
 
 test: all $(CTESTS)
-	@B=$(B) PYTHON=$(PYTHON) LUA=$(LUA) sh tests/run.sh
+	@B=$(B) PYTHON=$(PYTHON) LUA=$(LUA) SLUICE_ASAN=$(SLUICE_ASAN) sh tests/run.sh
 
 asan: deps-check
 	@$(MAKE) --no-print-directory B=build/asan OPT=-O1 \

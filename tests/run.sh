@@ -3,6 +3,12 @@
 # Environment: B (build dir), PYTHON, LUA.
 B=${B:-build}; PYTHON=${PYTHON:-python3}; LUA=${LUA:-lua5.4}
 export B PYTHON LUA
+if [ -n "$SLUICE_ASAN" ]; then
+  export SLUICE_ASAN
+  export LSAN_OPTIONS="suppressions=$(pwd)/tests/lsan.supp:print_suppressions=0"
+  export ASAN_OPTIONS="abort_on_error=0:detect_leaks=1"
+  export UBSAN_OPTIONS="print_stacktrace=1:halt_on_error=1"
+fi
 pass=0; fail=0; failed=
 run() {  # run NAME CMD...
   name=$1; shift

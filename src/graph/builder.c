@@ -290,7 +290,7 @@ sl_graph *sl_builder_finish(sl_builder *b, sl_error *err) {
       int32_t t = e[i].from; e[i].from = e[i].to; e[i].to = t;
     }
   sort_rank = g->rank;
-  qsort(e, ne, sizeof *e, cmp_pending);
+  if (ne) qsort(e, ne, sizeof *e, cmp_pending);
   for (size_t i = 0; i < ne; i++)
     if (m == 0 || e[i].kind != e[m - 1].kind || e[i].from != e[m - 1].from ||
         e[i].to != e[m - 1].to)

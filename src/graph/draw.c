@@ -9,6 +9,14 @@
 
 static char gv_message[256];     /* Graphviz reports errors through a callback */
 
+/* One Graphviz context for the whole process: its text-layout plugin caches
+** fonts across contexts, and a second context would read freed memory. */
+static GVC_t *context(void) {
+  static GVC_t *gvc;
+  if (!gvc) gvc = gvContext();
+  return gvc;
+}
+
 static int capture(char *msg) {
   size_t n = strlen(gv_message);
   if (n < sizeof gv_message - 1)
@@ -42,7 +50,7 @@ int sl_graph_draw(const sl_graph *g, const char *path, sl_error *e) {
   agseterr(AGERR);
   agseterrf(capture);
   int rc = SL_OK;
-  GVC_t *gvc = gvContext();
+  GVC_t *gvc = context();
   Agraph_t *ag = gvc ? agmemread(dot.data) : NULL;
   if (!ag) rc = sl_error_set(e, SL_EARG, 0, 0, "Graphviz could not read the graph: %s", gv_message);
   else if (gvLayout(gvc, ag, "dot") != 0)
@@ -54,7 +62,6 @@ int sl_graph_draw(const sl_graph *g, const char *path, sl_error *e) {
     gvFreeLayout(gvc, ag);
   }
   if (ag) agclose(ag);
-  if (gvc) gvFreeContext(gvc);
   agseterrf(NULL);
   sl_buf_free(&dot);
   return rc;
