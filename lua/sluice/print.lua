@@ -103,7 +103,8 @@ local function edge_tostring(e)
   return P.name(e.from) .. " " .. e.kind .. " " .. P.name(e.to)
 end
 
-function P.install(M, list_mt, edge_mt)
+function P.install(M, metas)
+  local list_mt, edge_mt = metas.list, metas.edge
   list_mt.__tostring = list_tostring
   list_mt.__name = "sluice.list"
   edge_mt.__tostring = edge_tostring

@@ -55,29 +55,25 @@ int32_t *sl_bind_checkset(lua_State *L, const sl_graph *g, int arg, size_t *n,
   *n = 0;
   if (t == LUA_TNONE || t == LUA_TNIL) {
     if (!allow_nil) luaL_typeerror(L, arg, "node name or list of names");
-    return calloc(1, sizeof(int32_t));
+    return lua_newuserdatauv(L, sizeof(int32_t), 0);
   }
   if (t == LUA_TSTRING) {
     int32_t id = check_name(L, g, arg, arg);
-    int32_t *v = malloc(sizeof *v);
-    if (!v) luaL_error(L, "out of memory");
+    int32_t *v = lua_newuserdatauv(L, sizeof *v, 0);
     *v = id;
     *n = 1;
     return v;
   }
   if (t != LUA_TTABLE) luaL_typeerror(L, arg, "node name or list of names");
   lua_Integer len = luaL_len(L, arg);
-  /* the array goes into a userdata so an error while checking frees it */
-  int32_t *tmp = lua_newuserdatauv(L, (size_t)(len ? len : 1) * sizeof *tmp, 0);
+  if (len < 0 || (size_t)len > sl_graph_nnodes(g) * 4 + 16)
+    luaL_argerror(L, arg, "the list is longer than the graph could hold");
+  int32_t *v = lua_newuserdatauv(L, (size_t)(len ? len : 1) * sizeof *v, 0);
   for (lua_Integer i = 1; i <= len; i++) {
     lua_geti(L, arg, i);
-    tmp[i - 1] = check_name(L, g, arg, -1);
+    v[i - 1] = check_name(L, g, arg, -1);
     lua_pop(L, 1);
   }
-  int32_t *v = malloc((size_t)(len ? len : 1) * sizeof *v);
-  if (!v) luaL_error(L, "out of memory");
-  memcpy(v, tmp, (size_t)len * sizeof *v);
-  lua_pop(L, 1);
   *n = (size_t)len;
   return v;
 }
@@ -235,7 +231,6 @@ static int neighbours(lua_State *L, int which) {
     size_t k;
     const int32_t *adj = which == 0 ? sl_graph_parents(g, set[0], &k)
                                     : sl_graph_children(g, set[0], &k);
-    free(set);
     push_names(L, g, adj, k);
     return 1;
   }
@@ -249,7 +244,6 @@ static int neighbours(lua_State *L, int which) {
                                     : sl_graph_children(g, set[i], &k);
     for (size_t j = 0; j < k; j++) mark[adj[j]] = 1;
   }
-  free(set);
   push_marked(L, g, mark);
   return 1;
 }
@@ -264,7 +258,6 @@ static int lineage(lua_State *L, int up) {
   sl_error e;
   int rc = up ? sl_graph_ancestors(g, set, n, mark, &e)
               : sl_graph_descendants(g, set, n, mark, &e);
-  free(set);
   if (rc) return sl_bind_raise(L, &e, NULL, NULL, 0);
   push_marked(L, g, mark);
   return 1;

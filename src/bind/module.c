@@ -43,25 +43,40 @@ int luaopen_sluice(lua_State *L) {
   luaL_checkversion(L);
   preload(L);
   lua_newtable(L);                          /* the module */
-  luaL_newmetatable(L, SL_LIST_MT);
-  lua_pop(L, 1);
-  luaL_newmetatable(L, SL_EDGE_MT);
-  lua_pop(L, 1);
+  /* metatables of result values, handed to the Lua layer to dress */
+  static const char *const metas[] = {"list", "edge", "trails", "trail", "reasons",
+                                      "reason", "sets", NULL};
+  lua_newtable(L);
+  for (int i = 0; metas[i]; i++) {
+    lua_pushfstring(L, "sluice.%s", metas[i]);
+    luaL_newmetatable(L, lua_tostring(L, -1));
+    lua_setfield(L, -3, metas[i]);
+    lua_pop(L, 1);
+  }
+  int metas_at = lua_gettop(L);
+  lua_newtable(L);                          /* hooks the Lua layer fills */
+  lua_pushvalue(L, -1);
+  lua_setfield(L, LUA_REGISTRYINDEX, SL_HOOKS);
+  int hooks_at = lua_gettop(L);
+  lua_pushvalue(L, metas_at - 1);
   sl_open_graph(L);
+  sl_open_adjust(L);
   lua_pushliteral(L, SLUICE_VERSION);
   lua_setfield(L, -2, "version");
   /* the Lua layer: printing, then help; each may add to the module */
-  const char *layers[] = {"sluice.print", "sluice.help", NULL};
+  const char *layers[] = {"sluice.print", "sluice.explain", "sluice.help", NULL};
   for (int i = 0; layers[i]; i++) {
-    require(L, layers[i]);     /* a table with install(M, list_mt, edge_mt) */
+    require(L, layers[i]);     /* a table with install(M, metas, hooks) */
     lua_getfield(L, -1, "install");
     if (lua_isfunction(L, -1)) {
       lua_pushvalue(L, -3);
-      luaL_getmetatable(L, SL_LIST_MT);
-      luaL_getmetatable(L, SL_EDGE_MT);
+      lua_pushvalue(L, metas_at);
+      lua_pushvalue(L, hooks_at);
       lua_call(L, 3, 0);
     } else lua_pop(L, 1);
     lua_pop(L, 1);
   }
+  lua_replace(L, metas_at - 1);             /* leave just the module */
+  lua_settop(L, metas_at - 1);
   return 1;
 }

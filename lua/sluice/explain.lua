@@ -1,0 +1,158 @@
+-- sluice.explain: the words for trails, adjustment sets and the reasons a
+-- set fails.  install() dresses the result metatables and gives the C side
+-- hooks.explain(g, set, reasons), which adds a .text to every reason.
+local P = require "sluice.print"
+local E = {}
+
+local function q(name) return "'" .. name .. "'" end
+
+-- Colliders on a trail: inner nodes with arrowheads from both sides.
+local function colliders(trail)
+  local out, text = {}, trail.text
+  -- rebuild the steps from the text: split on arrows
+  local arrows = {}
+  for a in text:gmatch(" (<?%-+>?) ") do arrows[#arrows + 1] = a end
+  for i = 2, #trail.nodes - 1 do
+    local left, right = arrows[i - 1], arrows[i]
+    local head_left = left == "->" or left == "<->"
+    local head_right = right == "<-" or right == "<->"
+    if head_left and head_right then out[#out + 1] = trail.nodes[i] end
+  end
+  return out
+end
+E.colliders = colliders
+
+local function member_set(set)
+  local m = {}
+  for _, v in ipairs(set or {}) do m[v] = true end
+  return m
+end
+
+-- Why an open non-causal trail is open, given the set.
+local function why_open(g, set, trail)
+  local inset, parts = member_set(set), {}
+  for _, c in ipairs(colliders(trail)) do
+    if inset[c] then
+      parts[#parts + 1] = "the collider " .. q(c) .. " is in the set, which opens it"
+    else
+      for _, d in ipairs(g:descendants(c)) do
+        if inset[d] then
+          parts[#parts + 1] = "the collider " .. q(c) .. " has its descendant " .. q(d) ..
+                              " in the set, which opens it"
+          break
+        end
+      end
+    end
+  end
+  if #parts == 0 then
+    return "no member of the set blocks it"
+  end
+  return table.concat(parts, "; ")
+end
+
+local words = {
+  hidden = function(r) return q(r.node) .. " is hidden: it was never measured, so it cannot be adjusted for" end,
+  treatment = function(r) return q(r.node) .. " is a treatment" end,
+  outcome = function(r) return q(r.node) .. " is an outcome" end,
+  mediator = function(r)
+    return q(r.node) .. " lies on the causal path " .. (r.trail and r.trail.text or "?") ..
+           ": adjusting for a mediator blocks part of the effect"
+  end,
+  descendant = function(r)
+    return q(r.node) .. " descends from " .. q(r.via) .. ", which lies on the causal path " ..
+           (r.trail and r.trail.text or "?") .. ": adjusting for it distorts the effect"
+  end,
+  ["descendant of treatment"] = function(r)
+    return q(r.node) .. " descends from the treatment (" .. (r.trail and r.trail.text or "?") ..
+           "): the back-door criterion admits no descendant of the treatment"
+  end,
+  ["no causal path"] = function()
+    return "no outcome descends from the treatment: the effect is zero and O(X, Y) is not defined"
+  end,
+  bidirected = function()
+    return "the graph has hidden common causes (<->); O(X, Y) is guaranteed valid only " ..
+           "without them (Henckel, Perkovic and Maathuis 2022): use g:adjust"
+  end,
+}
+
+function E.explain(g, set, reasons, none)
+  for _, r in ipairs(reasons) do
+    if r.kind == "open" then
+      local kind = r.trail.kind == "backdoor" and "back-door" or "non-causal"
+      if none then
+        r.text = "no allowed set can block the " .. kind .. " trail " .. r.trail.text
+      else
+        r.text = "the " .. kind .. " trail " .. r.trail.text .. " is open: " ..
+                 why_open(g, set, r.trail)
+      end
+    else
+      r.text = (words[r.kind] or function() return r.kind end)(r)
+    end
+  end
+end
+
+local function trail_line(t)
+  local status = t.open and "open   " or "blocked"
+  local line = string.format("%s  %-9s  %s", status, t.kind, t.text)
+  if not t.open then
+    line = line .. "   (at " .. P.name(t.blocked_at) .. ": " ..
+           (t.why == "collider" and "a collider outside the set" or "in the set") .. ")"
+  end
+  return line
+end
+
+local function trails_tostring(list)
+  if #list == 0 then return "(no trails)" end
+  local lines, open = {}, 0
+  for i, t in ipairs(list) do
+    lines[i] = trail_line(t)
+    if t.open then open = open + 1 end
+  end
+  table.insert(lines, 1, string.format("%d trail%s, %d open", #list, #list == 1 and "" or "s", open))
+  if list.truncated then
+    lines[#lines + 1] = string.format("... stopped after %d trails (limit); g:count_trails " ..
+                                      "counts them all, {limit = n} lists more", list.truncated)
+  end
+  return table.concat(lines, "\n")
+end
+
+local function set_text(s)
+  if #s == 0 then return "{} (the empty set: no adjustment needed)" end
+  local names = {}
+  for i, v in ipairs(s) do names[i] = P.name(v) end
+  return "{" .. table.concat(names, ", ") .. "}"
+end
+
+local function sets_tostring(list)
+  if list.none then
+    local lines = {"no valid adjustment set exists:"}
+    for _, r in ipairs(list.none) do lines[#lines + 1] = "  " .. (r.text or r.kind) end
+    return table.concat(lines, "\n")
+  end
+  local lines = {}
+  for i, s in ipairs(list) do lines[i] = set_text(s) end
+  if list.truncated then
+    lines[#lines + 1] = string.format("... stopped after %d sets (limit)", list.truncated)
+  end
+  return table.concat(lines, "\n")
+end
+
+local function reasons_tostring(list)
+  local lines = {}
+  for i, r in ipairs(list) do lines[i] = "- " .. (r.text or r.kind) end
+  return table.concat(lines, "\n")
+end
+
+function E.install(M, metas, hooks)
+  metas.trail.__tostring = trail_line
+  metas.trails.__tostring = trails_tostring
+  metas.sets.__tostring = sets_tostring
+  metas.reason.__tostring = function(r) return r.text or r.kind end
+  metas.reasons.__tostring = reasons_tostring
+  hooks.explain = function(g, set, reasons)
+    E.explain(g, set, reasons, set and set.none_context)
+  end
+end
+
+E.set_text = set_text
+return E
