@@ -11,6 +11,7 @@ local rules that govern health data.]]
 H.topics = {
   {"graph",     "Writing a causal graph"},
   {"structure", "Asking about its structure"},
+  {"adjust",    "Trails, separation and adjustment sets"},
   {"picture",   "Pictures and text views"},
   {"session",   "The session"},
 }
@@ -98,6 +99,68 @@ if it is itself a descendant of another member.]],
     summary = [[A topological order. Every node comes after all its ancestors; it is the
 alphabetically first such order, so it is the same on every run.]],
     example = [[g:order()]] },
+  { name = "g:trails", topic = "adjust",
+    sig = "g:trails(x, y, {given=, limit=})",
+    returns = "list of {nodes=, text=, kind=, open=, blocked_at=, why=}",
+    summary = [[Every trail between x and y (a path that ignores arrow direction). kind is
+"causal" (all arrows point from x toward y), "backdoor" (it starts with an
+arrowhead into x) or "noncausal". Given a set, open tells whether the trail
+is open; a blocked trail names its first blocking node and why: a
+non-collider in the set, or a collider with neither itself nor a descendant
+in the set. <-> counts as two arrowheads. limit (default 10000) stops the
+listing with a note.]],
+    example = [[g:trails("mulch", "harvest", {given = {"slope"}})]] },
+  { name = "g:count_trails", topic = "adjust",
+    sig = "g:count_trails(x, y)",
+    returns = "an integer",
+    summary = "Count the trails between x and y without listing them. Ctrl-C stops a long count.",
+    example = [[g:count_trails("mulch", "harvest")]] },
+  { name = "g:separated", topic = "adjust",
+    sig = "g:separated(x, y, given)",
+    returns = "true, or false and an open trail",
+    summary = [[Whether x and y are d-separated given the set (m-separated when the graph has
+<-> edges), in time linear in the size of the graph. When they are not, an
+open trail is returned as a witness.]],
+    example = [[g:separated("slope", "rainfall", {"soil moisture"})]] },
+  { name = "g:admissible", topic = "adjust",
+    sig = "g:admissible(x, y, set)",
+    returns = "true, or false and a list of reasons",
+    summary = [[Whether the set is a valid adjustment set for the total effect of x on y (the
+adjustment criterion; it allows hidden common causes). Each reason names a
+mediator or a descendant of the causal path (with the path), a hidden node,
+or an open non-causal trail and what opened it (a collider in the set).]],
+    example = [[g:admissible("mulch", "harvest", {"slope", "soil moisture"})]] },
+  { name = "g:backdoor", topic = "adjust",
+    sig = "g:backdoor(x, y, set)",
+    returns = "true, or false and a list of reasons",
+    summary = [[Pearl's back-door criterion: no member descends from x, and the set blocks
+every trail that starts with an arrowhead into x. Stricter than
+g:admissible.]],
+    example = [[g:backdoor("mulch", "harvest", {"slope"})]] },
+  { name = "g:adjust", topic = "adjust",
+    sig = "g:adjust(x, y, {forbid=, require=, limit=})",
+    returns = "list of sets",
+    summary = [[Every minimal adjustment set for the effect of x on y, smallest first. Hidden
+nodes are never used; forbid keeps nodes out and require keeps nodes in
+(minimal among the sets that hold them). {} means no adjustment is needed;
+an empty list with .none says why no valid set exists.]],
+    example = [[g:adjust("mulch", "harvest", {forbid = {"tree age"}})]] },
+  { name = "g:optimal", topic = "adjust",
+    sig = "g:optimal(x, y)",
+    returns = "a set, or nil and the reasons",
+    summary = [[The optimal adjustment set O(X, Y) = pa(cn) \ forb (Henckel, Perkovic and
+Maathuis 2022): among valid sets, the one with the smallest asymptotic
+variance in linear models. nil when it would need a hidden node, when the
+graph's hidden common causes make it invalid, or when no outcome descends
+from the treatment.]],
+    example = [[g:optimal("mulch", "harvest")]] },
+  { name = "g:cheapest", topic = "adjust",
+    sig = "g:cheapest(x, y, costs)",
+    returns = "a set and its total cost, or nil and why",
+    summary = [[The adjustment set of least total cost, by a minimum cut; costs is a table of
+node = cost (default 1 each, so the smallest set). Use it when some
+covariates are expensive or unreliable to measure.]],
+    example = [[g:cheapest("mulch", "harvest", {slope = 5})]] },
   { name = "g:show", topic = "picture",
     sig = "g:show()",
     returns = "text",

@@ -48,6 +48,10 @@ int32_t sl_builder_node(sl_builder *b, const char *name, size_t len, sl_error *e
     sl_error_set(e, SL_ELIMIT, 0, 0, "a node name is longer than %d bytes", SL_MAX_NAME);
     return -1;
   }
+  if (b->bad) {
+    sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+    return -1;
+  }
   size_t before = b->names.n;
   int32_t v = sl_names_intern(&b->names, name, len);
   if (v < 0) {
@@ -87,7 +91,7 @@ int sl_builder_edge(sl_builder *b, int32_t from, int32_t to, int kind,
   }
   if (b->ne == b->ecap) {
     size_t cap = b->ecap ? b->ecap * 2 : 256;
-    if (cap > SL_MAX_EDGES * (size_t)2)
+    if (b->ne >= (size_t)SL_MAX_EDGES * 2)
       return sl_error_set(e, SL_ELIMIT, line, col, "more than %d edges", SL_MAX_EDGES);
     pending *p = realloc(b->e, cap * sizeof *p);
     if (!p) return sl_error_set(e, SL_ENOMEM, line, col, "out of memory");
@@ -131,18 +135,36 @@ static int cmp_by_name(const void *pa, const void *pb) {
   return strcmp(sl_names_get(sort_names, a), sl_names_get(sort_names, b));
 }
 
-static const int32_t *sort_rank;
+static const int32_t *sort_rank;   /* context for cmp_rank_of */
 
-/* Edges by kind, then from-rank, to-rank, then source position. */
-static int cmp_pending(const void *pa, const void *pb) {
-  const pending *a = pa, *b = pb;
-  if (a->kind != b->kind) return a->kind - b->kind;
-  int32_t fa = sort_rank[a->from], fb = sort_rank[b->from];
-  if (fa != fb) return fa < fb ? -1 : 1;
-  int32_t ta = sort_rank[a->to], tb = sort_rank[b->to];
-  if (ta != tb) return ta < tb ? -1 : 1;
-  if (a->line != b->line) return a->line < b->line ? -1 : 1;
-  return a->col < b->col ? -1 : a->col > b->col;
+/* One stable counting-sort pass of src into dst by key(e) in [0, nkeys). */
+static void count_pass(const pending *src, pending *dst, size_t ne, size_t nkeys,
+                       uint32_t *count, const int32_t *rank, int which) {
+  memset(count, 0, (nkeys + 1) * sizeof *count);
+#define KEY(p) ((size_t)(which == 0 ? rank[(p).to] : which == 1 ? rank[(p).from] : (p).kind))
+  for (size_t i = 0; i < ne; i++) count[KEY(src[i]) + 1]++;
+  for (size_t k = 0; k < nkeys; k++) count[k + 1] += count[k];
+  for (size_t i = 0; i < ne; i++) dst[count[KEY(src[i])]++] = src[i];
+#undef KEY
+}
+
+/* Sort the edges by kind, then from-rank, then to-rank, keeping the order
+** of writing among repeats (so the first written comes first): three stable
+** counting passes, linear in nodes plus edges. */
+static int sort_edges(sl_builder *b, const int32_t *rank, size_t n) {
+  size_t ne = b->ne;
+  if (ne < 2) return 0;
+  pending *tmp = malloc(ne * sizeof *tmp);
+  uint32_t *count = malloc((n + 2) * sizeof *count);
+  if (!tmp || !count) { free(tmp); free(count); return -1; }
+  count_pass(b->e, tmp, ne, n, count, rank, 0);
+  count_pass(tmp, b->e, ne, n, count, rank, 1);
+  count_pass(b->e, tmp, ne, 2, count, rank, 2);
+  free(b->e);
+  b->e = tmp;
+  b->ecap = ne;
+  free(count);
+  return 0;
 }
 
 /* Fill a CSR from (key, value) pairs given in value-rank order per key. */
@@ -176,7 +198,8 @@ static int cmp_rank_of(const void *pa, const void *pb) {
 }
 
 /* Sibling lists get entries from both ends of an edge: sort each. */
-static void csr_sort(sl_csr *c, size_t n) {
+static void csr_sort(sl_csr *c, const int32_t *rank, size_t n) {
+  sort_rank = rank;
   for (size_t v = 0; v < n; v++)
     qsort(c->adj + c->off[v], c->off[v + 1] - c->off[v], sizeof *c->adj, cmp_rank_of);
 }
@@ -274,7 +297,7 @@ sl_graph *sl_builder_finish(sl_builder *b, sl_error *err) {
   g->names = b->names;
   g->hidden = b->hidden ? b->hidden : calloc(1, 1);
   b->hidden = NULL; b->hidden_cap = 0;
-  sl_names_init(&b->names);
+  if (sl_names_init(&b->names) != 0) b->bad = 1;
   g->rank = malloc((n ? n : 1) * sizeof *g->rank);
   g->by_rank = malloc((n ? n : 1) * sizeof *g->by_rank);
   if (!g->rank || !g->by_rank || !g->hidden) goto nomem;
@@ -289,8 +312,8 @@ sl_graph *sl_builder_finish(sl_builder *b, sl_error *err) {
     if (e[i].kind == SL_BIDIRECTED && g->rank[e[i].from] > g->rank[e[i].to]) {
       int32_t t = e[i].from; e[i].from = e[i].to; e[i].to = t;
     }
-  sort_rank = g->rank;
-  if (ne) qsort(e, ne, sizeof *e, cmp_pending);
+  if (sort_edges(b, g->rank, n) != 0) goto nomem;
+  e = b->e;
   for (size_t i = 0; i < ne; i++)
     if (m == 0 || e[i].kind != e[m - 1].kind || e[i].from != e[m - 1].from ||
         e[i].to != e[m - 1].to)
@@ -300,8 +323,7 @@ sl_graph *sl_builder_finish(sl_builder *b, sl_error *err) {
       csr_build(&g->pa, n, g->nd, e, m, SL_DIRECTED, 1, 0) ||
       csr_build(&g->sb, n, 2 * g->nb, e, m, SL_BIDIRECTED, 0, 1))
     goto nomem;
-  csr_sort(&g->pa, n);   /* filled in from-rank order already; cheap */
-  csr_sort(&g->sb, n);
+  csr_sort(&g->sb, g->rank, n);   /* parents arrive in from-rank order already */
   if (check_acyclic(g, e, g->nd, err) != SL_OK) {
     b->ne = 0;
     sl_graph_free(g);

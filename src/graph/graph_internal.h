@@ -14,7 +14,7 @@ typedef struct sl_names {
   uint32_t *off;          /* start of each name in the arena */
   uint32_t *len;          /* its length in bytes */
   size_t n, cap;
-  int32_t *slot;          /* open addressing, -1 empty */
+  struct sl_slot { int32_t id; uint32_t hash; } *slot;  /* id -1: empty */
   size_t nslot;           /* a power of two */
 } sl_names;
 
