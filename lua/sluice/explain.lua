@@ -59,6 +59,11 @@ local words = {
            ": adjusting for a mediator blocks part of the effect"
   end,
   descendant = function(r)
+    local nodes = r.trail and r.trail.nodes or {}
+    if nodes[#nodes] == r.via then
+      return q(r.node) .. " descends from the outcome " .. q(r.via) ..
+             ": adjusting for it distorts the effect"
+    end
     return q(r.node) .. " descends from " .. q(r.via) .. ", which lies on the causal path " ..
            (r.trail and r.trail.text or "?") .. ": adjusting for it distorts the effect"
   end,
