@@ -16,8 +16,9 @@ void sl_effect_free(sl_effect *q) {
 }
 
 /* Breadth-first marking along children (down) or parents (up).  skip
-** marks nodes that the search may not enter; mark receives the result and
-** also the start nodes when reflexive. */
+** marks nodes that the search may not enter; mark receives the result (the
+** start nodes only when reached again).  queue needs room for the start
+** nodes plus every node. */
 void sl_adj_walk(const sl_graph *g, const int32_t *src, size_t ns, int down,
                  const unsigned char *skip, const unsigned char *no_leave,
                  unsigned char *mark, int32_t *queue) {
@@ -48,7 +49,7 @@ int sl_effect_init(sl_effect *q, const sl_graph *g, const int32_t *x, size_t nx,
   q->forb = calloc(n, 1); q->de_x = calloc(n, 1);
   q->x = malloc(nx * sizeof *q->x); q->y = malloc(ny * sizeof *q->y);
   unsigned char *down = calloc(n, 1), *up = calloc(n, 1);
-  int32_t *queue = malloc(n * sizeof *queue);
+  int32_t *queue = malloc(2 * n * sizeof *queue);   /* sources may be queued twice */
   int rc = SL_OK;
   if (!q->in_x || !q->in_y || !q->cn || !q->forb || !q->de_x || !q->x || !q->y ||
       !down || !up || !queue) {

@@ -137,7 +137,8 @@ static int remember(lister *L, int32_t *sep, size_t n) {
   size_t i = hash_set(sep, n) & (L->nslot - 1);
   for (; L->table[i] >= 0; i = (i + 1) & (L->nslot - 1)) {
     size_t f = (size_t)L->table[i];
-    if (L->len[f] == n && memcmp(L->pool + L->start[f], sep, n * sizeof *sep) == 0) return 0;
+    if (L->len[f] == n && (n == 0 || memcmp(L->pool + L->start[f], sep, n * sizeof *sep) == 0))
+      return 0;
   }
   if (L->nfound == L->capfound) {
     size_t c = L->capfound ? L->capfound * 2 : 256;
@@ -159,7 +160,7 @@ static int remember(lister *L, int32_t *sep, size_t n) {
     L->pool = p;
     L->pool_cap = c;
   }
-  memcpy(L->pool + L->pool_len, sep, n * sizeof *sep);
+  if (n) memcpy(L->pool + L->pool_len, sep, n * sizeof *sep);
   L->start[L->nfound] = L->pool_len;
   L->len[L->nfound] = n;
   L->pool_len += n;

@@ -1,6 +1,8 @@
 /*
 ** draw.c: pictures of a graph through the Graphviz library (libgvc).
 */
+#include <errno.h>
+#include <stdio.h>
 #include <string.h>
 #include <gvc.h>
 #include "notation.h"
@@ -56,9 +58,18 @@ int sl_graph_draw(const sl_graph *g, const char *path, sl_error *e) {
   else if (gvLayout(gvc, ag, "dot") != 0)
     rc = sl_error_set(e, SL_EARG, 0, 0, "Graphviz layout failed: %s", gv_message);
   else {
-    if (gvRenderFilename(gvc, ag, fmt, path) != 0)
-      rc = sl_error_set(e, SL_EIO, 0, 0, "cannot write '%s': %s", path,
-                        gv_message[0] ? gv_message : "Graphviz could not render it");
+    /* open the file ourselves: Graphviz reports a failed open only through
+    ** its message callback and still returns success */
+    FILE *out = fopen(path, "wb");
+    if (!out)
+      rc = sl_error_set(e, SL_EIO, 0, 0, "cannot write '%s': %s", path, strerror(errno));
+    else {
+      int bad = gvRender(gvc, ag, fmt, out) != 0;
+      bad |= fclose(out) != 0;
+      if (bad)
+        rc = sl_error_set(e, SL_EIO, 0, 0, "cannot write '%s': %s", path,
+                          gv_message[0] ? gv_message : "Graphviz could not render it");
+    }
     gvFreeLayout(gvc, ag);
   }
   if (ag) agclose(ag);

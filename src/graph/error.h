@@ -26,7 +26,8 @@ typedef struct sl_error {
   char msg[SL_MSG_MAX];  /* one line, no trailing newline */
 } sl_error;
 
-/* Record an error (printf-style message); returns code for tail calls. */
+/* Record an error (printf-style message); returns code for tail calls.
+** Every library function that takes an sl_error * needs a non-NULL one. */
 int sl_error_set(sl_error *e, int code, int line, int col, const char *fmt, ...)
 #if defined(__GNUC__)
   __attribute__((format(printf, 5, 6)))

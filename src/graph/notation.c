@@ -241,6 +241,12 @@ static int parse_statement(parser *P) {
     if (lex(L)) return L->e->code;
     if (parse_names(P, "after 'hidden'")) return L->e->code;
     for (size_t i = 0; i < P->nright; i++) sl_builder_hidden(P->b, P->right[i]);
+    if (L->tok != T_END && L->tok != T_EOF) {
+      char msg[160];
+      snprintf(msg, sizeof msg, "'hidden' takes names separated by ',' only, found %s; "
+               "write edges in a statement of their own", tok_text(L->tok));
+      return lex_error(L, L->tline, L->tcol, msg);
+    }
   } else {
     if (L->tok == T_RIGHT || L->tok == T_LEFT || L->tok == T_BOTH)
       return lex_error(L, L->tline, L->tcol, "an arrow needs a node name before it");

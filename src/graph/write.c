@@ -48,6 +48,7 @@ void sl_buf_addf(sl_buf *b, const char *fmt, ...) {
 /* Whether a name can be written without quotes. */
 static int bare_ok(const char *s) {
   if (!*s || strcmp(s, "hidden") == 0) return 0;
+  if (strncmp(s, "\xEF\xBB\xBF", 3) == 0) return 0;  /* would read as a byte-order mark */
   for (const unsigned char *p = (const unsigned char *)s; *p; p++)
     if (!((*p >= 'a' && *p <= 'z') || (*p >= 'A' && *p <= 'Z') || (*p >= '0' && *p <= '9') ||
           *p == '_' || *p == '.' || *p >= 0x80))
