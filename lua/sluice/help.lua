@@ -100,6 +100,7 @@ if it is itself a descendant of another member.]],
 alphabetically first such order, so it is the same on every run.]],
     example = [[g:order()]] },
   { name = "g:trails", topic = "adjust",
+    brief = "Every trail between x and y, open or blocked",
     sig = "g:trails(x, y, {given=, limit=})",
     returns = "list of {nodes=, text=, kind=, open=, blocked_at=, why=}",
     summary = [[Every trail between x and y (a path that ignores arrow direction). kind is
@@ -111,11 +112,13 @@ in the set. <-> counts as two arrowheads. limit (default 10000) stops the
 listing with a note.]],
     example = [[g:trails("mulch", "harvest", {given = {"slope"}})]] },
   { name = "g:count_trails", topic = "adjust",
+    brief = "Count the trails without listing them",
     sig = "g:count_trails(x, y)",
     returns = "an integer",
     summary = "Count the trails between x and y without listing them. Ctrl-C stops a long count.",
     example = [[g:count_trails("mulch", "harvest")]] },
   { name = "g:separated", topic = "adjust",
+    brief = "Are x and y d-separated given the set?",
     sig = "g:separated(x, y, given)",
     returns = "true, or false and an open trail",
     summary = [[Whether x and y are d-separated given the set (m-separated when the graph has
@@ -123,6 +126,7 @@ listing with a note.]],
 open trail is returned as a witness.]],
     example = [[g:separated("slope", "rainfall", {"soil moisture"})]] },
   { name = "g:admissible", topic = "adjust",
+    brief = "Is the set a valid adjustment set? If not, why",
     sig = "g:admissible(x, y, set)",
     returns = "true, or false and a list of reasons",
     summary = [[Whether the set is a valid adjustment set for the total effect of x on y (the
@@ -131,6 +135,7 @@ mediator or a descendant of the causal path (with the path), a hidden node,
 or an open non-causal trail and what opened it (a collider in the set).]],
     example = [[g:admissible("mulch", "harvest", {"slope", "soil moisture"})]] },
   { name = "g:backdoor", topic = "adjust",
+    brief = "Pearl's back-door criterion, with reasons",
     sig = "g:backdoor(x, y, set)",
     returns = "true, or false and a list of reasons",
     summary = [[Pearl's back-door criterion: no member descends from x, and the set blocks
@@ -138,6 +143,7 @@ every trail that starts with an arrowhead into x. Stricter than
 g:admissible.]],
     example = [[g:backdoor("mulch", "harvest", {"slope"})]] },
   { name = "g:adjust", topic = "adjust",
+    brief = "Every minimal adjustment set",
     sig = "g:adjust(x, y, {forbid=, require=, limit=})",
     returns = "list of sets",
     summary = [[Every minimal adjustment set for the effect of x on y, smallest first. Hidden
@@ -146,6 +152,7 @@ nodes are never used; forbid keeps nodes out and require keeps nodes in
 an empty list with .none says why no valid set exists.]],
     example = [[g:adjust("mulch", "harvest", {forbid = {"tree age"}})]] },
   { name = "g:optimal", topic = "adjust",
+    brief = "The optimal adjustment set O(X, Y)",
     sig = "g:optimal(x, y)",
     returns = "a set, or nil and the reasons",
     summary = [[The optimal adjustment set O(X, Y) = pa(cn) \ forb (Henckel, Perkovic and
@@ -155,6 +162,7 @@ graph's hidden common causes make it invalid, or when no outcome descends
 from the treatment.]],
     example = [[g:optimal("mulch", "harvest")]] },
   { name = "g:cheapest", topic = "adjust",
+    brief = "The adjustment set of least total cost",
     sig = "g:cheapest(x, y, costs)",
     returns = "a set and its total cost, or nil and why",
     summary = [[The adjustment set of least total cost, by a minimum cut; costs is a table of
@@ -241,8 +249,14 @@ function H.overview()
     out[#out + 1] = topic[2]
     for _, e in ipairs(H.entries) do
       if e.topic == topic[1] then
-        local first = (e.summary:gsub("\n", " ") .. " "):match("^(.-)[.;]%s") or e.summary
-        out[#out + 1] = string.format("  %-24s %s", e.sig, first)
+        local first = e.brief or (e.summary:gsub("\n", " ") .. " "):match("^(.-)[.;]%s")
+                      or e.summary
+        if #e.sig > 24 then
+          out[#out + 1] = "  " .. e.sig
+          out[#out + 1] = string.format("  %-24s %s", "", first)
+        else
+          out[#out + 1] = string.format("  %-24s %s", e.sig, first)
+        end
       end
     end
   end

@@ -144,10 +144,13 @@ static int push_buf(lua_State *L, sl_buf *b) {
   return 1;
 }
 
+/* The canonical notation, without the final newline so print(g) shows no
+** blank line. */
 static int l_tostring(lua_State *L) {
   sl_buf b;
   sl_buf_init(&b);
   sl_graph_write(sl_bind_checkgraph(L, 1), &b);
+  if (b.len && b.data[b.len - 1] == '\n') b.data[--b.len] = '\0';
   return push_buf(L, &b);
 }
 

@@ -53,7 +53,7 @@ end)
 test("canonical text parses back to an equal graph", function()
   local text = tostring(orchard)
   eq(text, 'hidden pests\n"frost days" -> yield\npests -> soil, yield\n' ..
-           'rain -> soil, yield\nsoil -> yield\nirrigation <-> rain\ncompost\n',
+           'rain -> soil, yield\nsoil -> yield\nirrigation <-> rain\ncompost',
      "canonical text")
   local back = graph(text)
   eq(back == orchard, true, "round trip")

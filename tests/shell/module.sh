@@ -16,7 +16,6 @@ out=$(LD_PRELOAD="$pre" LUA_CPATH="$B/?.so" "$LUA" -e '
 expected='hidden frost
 frost -> pears
 orchard -> pears
-
 frost,orchard
 0.1.0'
 if [ "$out" != "$expected" ]; then

@@ -1,0 +1,139 @@
+/*
+** options.c: parsing the command line.  Options come first; the first
+** argument that is not one is the script, and everything after it belongs
+** to the script.
+*/
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <lua.h>
+
+#include "options.h"
+
+#define PROGNAME "sluice"
+
+#ifndef SLUICE_VERSION
+#define SLUICE_VERSION "(unversioned)"
+#endif
+
+/* Report a usage error and return its exit status. */
+static int usage_error(const char *fmt, const char *what) {
+  fprintf(stderr, "%s: ", PROGNAME);
+  fprintf(stderr, fmt, what);
+  fprintf(stderr, " (see '%s --help')\n", PROGNAME);
+  return 2;
+}
+
+/* Handle "--log PATH" and "--log=PATH"; i moves past a separate PATH. */
+static int take_log(sl_options *o, int argc, char **argv, int *i) {
+  const char *a = argv[*i];
+  if (a[5] == '=') {
+    o->log_path = a + 6;
+  } else if (*i + 1 < argc) {
+    o->log_path = argv[++*i];
+  } else {
+    return usage_error("option '%s' needs a path", "--log");
+  }
+  if (o->log_path[0] == '\0')
+    return usage_error("option '%s' needs a path", "--log");
+  return 0;
+}
+
+/* Handle "-e CODE" and "-eCODE"; i moves past a separate CODE. */
+static int take_exec(sl_options *o, int argc, char **argv, int *i) {
+  const char *a = argv[*i];
+  if (a[2] != '\0')
+    o->exec[o->nexec++] = a + 2;
+  else if (*i + 1 < argc)
+    o->exec[o->nexec++] = argv[++*i];
+  else
+    return usage_error("option '%s' needs Lua code as its argument", "-e");
+  return 0;
+}
+
+/* Handle one option at argv[*i]; returns 0 or the usage-error status. */
+static int take_option(sl_options *o, int argc, char **argv, int *i) {
+  const char *a = argv[*i];
+  if (strcmp(a, "-h") == 0 || strcmp(a, "--help") == 0)
+    o->help = 1;
+  else if (strcmp(a, "--version") == 0)
+    o->version = 1;
+  else if (strcmp(a, "-i") == 0)
+    o->interactive = 1;
+  else if (strcmp(a, "-q") == 0)
+    o->quiet = 1;
+  else if (strcmp(a, "--no-log") == 0)
+    o->no_log = 1;
+  else if (strncmp(a, "--log", 5) == 0 && (a[5] == '\0' || a[5] == '='))
+    return take_log(o, argc, argv, i);
+  else if (strncmp(a, "-e", 2) == 0)
+    return take_exec(o, argc, argv, i);
+  else
+    return usage_error("unknown option '%s'", a);
+  return 0;
+}
+
+/* Walk the options up to the script, "-" or "--". */
+int options_parse(sl_options *o, int argc, char **argv) {
+  memset(o, 0, sizeof *o);
+  o->exec = malloc((size_t)(argc > 0 ? argc : 1) * sizeof *o->exec);
+  if (o->exec == NULL) {
+    fprintf(stderr, "%s: not enough memory\n", PROGNAME);
+    return 2;
+  }
+  for (int i = 1; i < argc; i++) {
+    const char *a = argv[i];
+    if (a[0] != '-' || strcmp(a, "-") == 0) {
+      o->script = i;
+      o->script_stdin = strcmp(a, "-") == 0;
+      return 0;
+    }
+    if (strcmp(a, "--") == 0) {
+      if (i + 1 < argc)
+        o->script = i + 1;
+      return 0;
+    }
+    int status = take_option(o, argc, argv, &i);
+    if (status != 0)
+      return status;
+  }
+  return 0;
+}
+
+/* Free what options_parse allocated. */
+void options_free(sl_options *o) {
+  free(o->exec);
+  o->exec = NULL;
+}
+
+/* The text of --help, on stdout. */
+void options_usage(const char *progname) {
+  printf(
+    "usage: %s [options] [script [args]]\n"
+    "A causal-analysis shell: a prompt for Lua with the sluice functions,\n"
+    "or a runner for sluice scripts.\n"
+    "\n"
+    "  -e CODE      run the Lua code CODE (may be given several times)\n"
+    "  -i           enter the prompt after the script or the -e code\n"
+    "  -q           start the prompt without the banner\n"
+    "  -            run standard input as the script\n"
+    "  --           stop handling options; the next argument is the script\n"
+    "  --log PATH   reserved for the session log (accepted, not yet used)\n"
+    "  --no-log     reserved for the session log (accepted, not yet used)\n"
+    "  -h, --help   print this help and leave\n"
+    "  --version    print the version and leave\n"
+    "\n"
+    "With no script and no -e, %s starts the prompt when standard input\n"
+    "is a terminal, and otherwise runs standard input as a script.  A script\n"
+    "sees its arguments in the table 'arg' and as '...'.\n"
+    "Exit status: 0 on success, 1 when the script or -e code fails, 2 on a\n"
+    "usage error.  At the prompt, type help() for the list of functions.\n",
+    progname, progname);
+}
+
+/* The text of --version, on stdout. */
+void options_version(void) {
+  printf("%s %s\n", PROGNAME, SLUICE_VERSION);
+  printf("built with %s; licence GPL-3.0-or-later\n", LUA_RELEASE);
+}

@@ -1,0 +1,111 @@
+/*
+** run.c: calling Lua code with a message handler and Ctrl-C armed, and
+** reporting what went wrong the way a command-line program does.
+*/
+#include <ctype.h>
+#include <stdio.h>
+#include <string.h>
+
+#include <lua.h>
+#include <lauxlib.h>
+
+#include "run.h"
+#include "signals.h"
+
+#define PROGNAME "sluice"
+
+/* Look for ":digits: " after a non-empty prefix on the first line. */
+int run_has_position(const char *msg) {
+  for (const char *p = msg; *p != '\0' && *p != '\n'; p++) {
+    if (p[0] != ':' || !isdigit((unsigned char)p[1]))
+      continue;
+    const char *q = p + 1;
+    while (isdigit((unsigned char)*q))
+      q++;
+    if (q[0] == ':' && q[1] == ' ')
+      return p != msg;
+  }
+  return 0;
+}
+
+/* Turn the error object on top into a string, the way lua.c does. */
+static const char *error_string(lua_State *L) {
+  const char *msg = lua_tostring(L, -1);
+  if (msg != NULL)
+    return msg;
+  if (luaL_callmeta(L, -1, "__tostring")) {
+    if (lua_type(L, -1) == LUA_TSTRING)
+      return lua_tostring(L, -1);
+    lua_pop(L, 1);
+  }
+  return lua_pushfstring(L, "(error object is a %s value)",
+                         luaL_typename(L, -1));
+}
+
+/* Prefix msg with the place of the innermost Lua function on the stack. */
+static void add_position(lua_State *L, const char *msg) {
+  lua_Debug ar;
+  for (int level = 1; lua_getstack(L, level, &ar); level++) {
+    if (lua_getinfo(L, "Sl", &ar) && ar.currentline > 0) {
+      lua_pushfstring(L, "%s:%d: %s", ar.short_src, ar.currentline, msg);
+      return;
+    }
+  }
+}
+
+/* Message handler for scripts: a string that says where. */
+static int script_handler(lua_State *L) {
+  const char *msg = error_string(L);
+  if (!run_has_position(msg))
+    add_position(L, msg);
+  return 1;
+}
+
+/* Message handler for the prompt: a string, nothing added. */
+static int prompt_handler(lua_State *L) {
+  error_string(L);
+  return 1;
+}
+
+/* lua_pcall with the mode's message handler, Ctrl-C armed. */
+int run_call(lua_State *L, int narg, int nres, enum run_mode mode) {
+  int base = lua_gettop(L) - narg;
+  lua_pushcfunction(L, mode == RUN_SCRIPT ? script_handler : prompt_handler);
+  lua_insert(L, base);
+  sig_run_begin(L);
+  int status = lua_pcall(L, narg, nres, base);
+  sig_run_end(L);
+  lua_remove(L, base);
+  return status;
+}
+
+/* Print a failed call's message the way a command does. */
+int run_report(lua_State *L, int status) {
+  if (status != LUA_OK) {
+    const char *msg = lua_tostring(L, -1);
+    fflush(stdout);
+    fprintf(stderr, "%s: %s\n", PROGNAME, msg ? msg : "(no message)");
+    fflush(stderr);
+    lua_pop(L, 1);
+  }
+  return status;
+}
+
+/* Load and run one piece of code. */
+int run_string(lua_State *L, const char *code, const char *chunkname) {
+  int status = luaL_loadbuffer(L, code, strlen(code), chunkname);
+  if (status == LUA_OK)
+    status = run_call(L, 0, 0, RUN_SCRIPT);
+  return status;
+}
+
+/* Load a file and run it with its arguments. */
+int run_script(lua_State *L, const char *path, char **args, int nargs) {
+  int status = luaL_loadfile(L, path);
+  if (status != LUA_OK)
+    return status;
+  luaL_checkstack(L, nargs + 1, "too many arguments to the script");
+  for (int i = 0; i < nargs; i++)
+    lua_pushstring(L, args[i]);
+  return run_call(L, nargs, 0, RUN_SCRIPT);
+}

@@ -1,0 +1,34 @@
+/*
+** run.h: running Lua code under the shell's rules: Ctrl-C stops it, error
+** objects become messages, script errors carry file and line.
+*/
+#ifndef SLUICE_RUN_H
+#define SLUICE_RUN_H
+
+#include <lua.h>
+
+/* How an error message is prepared. */
+enum run_mode {
+  RUN_SCRIPT,   /* the message gains "file:line: " when it has no position */
+  RUN_PROMPT    /* the message is left as the code raised it */
+};
+
+/* Call the function below narg arguments on the stack, like lua_pcall,
+** with nres results or the message on top. */
+int run_call(lua_State *L, int narg, int nres, enum run_mode mode);
+
+/* Print "sluice: message" on stderr and pop it when status is an error.
+** Returns status. */
+int run_report(lua_State *L, int status);
+
+/* Run a string (chunkname as for lua_load); status as lua_pcall. */
+int run_string(lua_State *L, const char *code, const char *chunkname);
+
+/* Run the script file path (NULL: standard input) with the nargs strings
+** of args as "...". */
+int run_script(lua_State *L, const char *path, char **args, int nargs);
+
+/* 1 when the first line of msg starts with a position "where:123: ". */
+int run_has_position(const char *msg);
+
+#endif
