@@ -94,7 +94,8 @@ asan: deps-check
 	  SLUICE_ASAN=1 test
 
 FUZZ_TIME ?= 60
-fuzz: deps-check
+fuzz:
+	@sh tools/deps.sh fuzz
 	@mkdir -p $(B)/fuzz
 	clang -std=c11 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -g -O1 \
 	  -fsanitize=fuzzer,address,undefined -Isrc/graph \

@@ -2,13 +2,14 @@
 # deps.sh: make sure the Debian packages sluice builds and tests with are
 # present.  As root, install what is missing; otherwise print the one
 # apt-get line that would, and fail.
-#   usage: tools/deps.sh build|check
+#   usage: tools/deps.sh build|check|fuzz
 set -e
 build="make gcc pkg-config lua5.4 liblua5.4-dev libgsl-dev libopenblas-dev
 libreadline-dev libgraphviz-dev"
-check="libcmocka-dev python3 python3-networkx clang"
+check="libcmocka-dev python3 python3-networkx"
 want=$build
 [ "$1" = check ] && want="$build $check"
+[ "$1" = fuzz ] && want="$build clang libclang-rt-dev"
 missing=
 for p in $want; do
   dpkg-query -W -f='${Status}\n' "$p" 2>/dev/null | grep -q '^install ok installed' \
