@@ -6,11 +6,11 @@ B        ?= build
 CC       ?= cc
 LUA      ?= lua5.4
 PYTHON   ?= $(shell test -x /usr/bin/python3 && echo /usr/bin/python3 || echo python3)
-PKGS     := lua5.4 gsl libgvc readline
+PKGS     := lua5.4 gsl libgvc readline sqlite3 plplot libsodium
 PKGCFLAGS = $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
-PKGLIBS   = $(shell pkg-config --libs lua5.4 readline libgvc 2>/dev/null) \
-            $(shell pkg-config --libs-only-L gsl 2>/dev/null) -lgsl -lopenblas -lm
-LIBLIBS   = $(shell pkg-config --libs libgvc 2>/dev/null) -lgsl -lopenblas -lm
+LIBLIBS   = $(shell pkg-config --libs libgvc sqlite3 plplot libsodium 2>/dev/null) -lcsv \
+            -lgsl -lopenblas -lpthread -lm
+PKGLIBS   = $(shell pkg-config --libs lua5.4 readline 2>/dev/null) $(LIBLIBS)
 SANITIZE ?=
 OPT      ?= -O2
 CFLAGS   ?= $(OPT) -g

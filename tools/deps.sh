@@ -5,8 +5,9 @@
 #   usage: tools/deps.sh build|check|fuzz
 set -e
 build="make gcc pkg-config lua5.4 liblua5.4-dev libgsl-dev libopenblas-dev
-libreadline-dev libgraphviz-dev"
-check="libcmocka-dev python3 python3-networkx"
+libreadline-dev libgraphviz-dev libcsv-dev libsqlite3-dev libplplot-dev
+libsodium-dev"
+check="libcmocka-dev python3 python3-networkx python3-statsmodels python3-pandas"
 want=$build
 [ "$1" = check ] && want="$build $check"
 [ "$1" = fuzz ] && want="$build clang libclang-rt-dev"

@@ -1,0 +1,75 @@
+/*
+** frame.h: a columnar data frame: numeric columns of doubles (NaN marks a
+** missing value) and categorical columns (text levels, code -1 missing).
+** Plain C; readers for CSV (libcsv) and SQLite live in csv.c and sql.c.
+*/
+#ifndef SL_FRAME_H
+#define SL_FRAME_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "error.h"
+
+enum sl_coltype { SL_NUMERIC = 0, SL_CATEGORICAL = 1 };
+
+typedef struct sl_column {
+  char *name;
+  int type;               /* sl_coltype */
+  double *x;              /* SL_NUMERIC: nrow values, NaN = missing */
+  int32_t *code;          /* SL_CATEGORICAL: nrow level indices, -1 = missing */
+  char **levels;          /* SL_CATEGORICAL: level texts, sorted bytewise */
+  size_t nlevels;
+} sl_column;
+
+typedef struct sl_frame {
+  size_t nrow, ncol;
+  sl_column *col;
+} sl_frame;
+
+sl_frame *sl_frame_alloc(size_t nrow);
+void sl_frame_free(sl_frame *f);
+/* Add a numeric column; x (nrow values) is copied.  Names must be unique. */
+int sl_frame_add_numeric(sl_frame *f, const char *name, const double *x, sl_error *e);
+/* Add a categorical column from codes (copied) and levels (copied). */
+int sl_frame_add_categorical(sl_frame *f, const char *name, const int32_t *code,
+                             const char *const *levels, size_t nlevels, sl_error *e);
+/* Index of a column, or -1. */
+int sl_frame_find(const sl_frame *f, const char *name);
+/* Like find, but fills e with "no column 'x'; did you mean 'y'?". */
+int sl_frame_lookup(const sl_frame *f, const char *name, sl_error *e);
+/* New frames: some columns; the rows where keep[i] is nonzero. */
+sl_frame *sl_frame_select(const sl_frame *f, const int *cols, size_t n, sl_error *e);
+sl_frame *sl_frame_filter(const sl_frame *f, const unsigned char *keep, sl_error *e);
+
+/* Per-column summary over the non-missing values (numeric columns). */
+typedef struct sl_summary {
+  size_t n, missing;
+  double mean, sd, min, q1, median, q3, max;   /* quartiles: type 7 (R's default) */
+} sl_summary;
+int sl_column_summary(const sl_column *c, size_t nrow, sl_summary *s, sl_error *e);
+
+/* ---- reading and writing ---- */
+typedef struct sl_csv_opts {
+  char delim;                  /* 0: detect among ',', ';' and tab */
+  const char *const *na;       /* extra missing-value tokens */
+  size_t nna;
+  int coerce;                  /* non-numeric cells in numeric columns become missing */
+} sl_csv_opts;
+
+typedef struct sl_read_report {
+  size_t coerced;              /* cells made missing by coerce */
+  size_t first_row, first_col; /* where the first one was (1-based file row/col) */
+  unsigned char sha256[32];    /* of the bytes read: the file's fingerprint */
+  uint64_t bytes;
+} sl_read_report;
+
+/* Read a CSV file with a header row.  Errors name the file, the row (line
+** of the file, 1-based, header = 1) in e->line and the column in e->col. */
+sl_frame *sl_csv_read(const char *path, const sl_csv_opts *opts, sl_read_report *rep,
+                      sl_error *e);
+int sl_csv_write(const sl_frame *f, const char *path, sl_error *e);
+/* The result of an SQL query on an SQLite file; SQL errors verbatim. */
+sl_frame *sl_sql_read(const char *dbpath, const char *query, sl_read_report *rep,
+                      sl_error *e);
+
+#endif
