@@ -3,9 +3,11 @@
 #
 # Builds the programs in bench/ into $B/bench, writes random DAGs in the
 # graph notation there, and prints each figure beside its baseline as a
-# ratio (sluice / baseline: below 1 is faster or smaller).  Timings never
-# fail the run: the exit status is non-zero only when a program crashes or
-# a parsed graph is not the one written.
+# ratio (sluice / baseline: below 1 is faster or smaller; for a rate, the
+# ratio of the times, baseline rate / sluice rate).  Timings never fail the
+# run: the exit status is non-zero only when a program crashes, a parsed
+# graph is not the one written, or two answers disagree (sluice and
+# networkx, or sluice and a property every answer must have).
 set -u
 cd "$(dirname "$0")/.." || exit 1
 B=${B:-build}
@@ -15,13 +17,21 @@ fail=0
 
 # val LINE KEY: the value of KEY=... in a line of key=value pairs.
 val() { printf '%s\n' "$1" | tr ' ' '\n' | sed -n "s/^$2=//p" | head -n 1; }
-# ratio A B: A/B as "0.12x", or "-" when either is missing.
+# ratio A B: A/B as "0.12x" (two significant digits below 0.01, "0.00068x"),
+# or "-" when either is missing.
 ratio() {
   awk -v a="${1:-}" -v b="${2:-}" 'BEGIN {
-    if (a == "" || b == "" || b + 0 <= 0) print "-"; else printf "%.2fx\n", a / b }'
+    if (a == "" || b == "" || b + 0 <= 0) print "-";
+    else if (a / b < 0.01) printf "%.2gx\n", a / b; else printf "%.2fx\n", a / b }'
 }
 secs() { awk -v t="$1" 'BEGIN { printf (t < 10 ? "%.3f s" : "%.2f s"), t }'; }
 ms() { awk -v t="$1" 'BEGIN { printf "%.1f ms", t }'; }
+# tms SECONDS: as milliseconds, or microseconds below 0.1 ms.
+tms() { awk -v t="$1" 'BEGIN { if (t < 1e-4) printf "%.1f us", t * 1e6;
+  else if (t < 1) printf "%.2f ms", t * 1e3; else printf "%.3f s", t }'; }
+# rate PER_S: "5.09 M/s", "119 k/s" or "212 /s".
+rate() { awk -v r="$1" 'BEGIN { if (r >= 1e6) printf "%.2f M/s", r / 1e6;
+  else if (r >= 1e4) printf "%.0f k/s", r / 1e3; else printf "%.0f /s", r }'; }
 # mb KIB: kibibytes (ru_maxrss) as megabytes of 10^6 bytes.
 mb() { awk -v k="$1" 'BEGIN { printf "%.1f MB", k * 1024 / 1e6 }'; }
 kdiff() { awk -v a="$1" -v b="$2" 'BEGIN { print a - b }'; }
@@ -34,7 +44,7 @@ if [ ! -f "$B/libsluice.a" ]; then
   exit 0
 fi
 mkdir -p "$D"
-for p in gen_graph bench_parse bench_start; do
+for p in gen_graph bench_parse bench_start bench_dsep bench_trails bench_adjust; do
   # shellcheck disable=SC2046
   cc -std=c11 -O2 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -Isrc/graph \
     "bench/$p.c" "$B/libsluice.a" $(pkg-config --libs libgvc) -lm -o "$D/$p" ||
@@ -134,6 +144,93 @@ else
   echo "start-up, sluice -q -e ''          skipped: $B/sluice not built ($luat)"
 fi
 
+# ---- 4: d-separation on the 1e5 graph ----
+# 200 queries, each timed alone (best of 3); networkx repeats the first
+# NX_QUERIES of them (both kinds: they alternate), as it takes seconds each.
+DQ=$D/dsep_queries.txt
+NXQ=${NX_QUERIES:-6}
+rd=""; nd=""
+if [ -f "$G5" ]; then
+  rd=$("$D/bench_dsep" "$G5" 200 11 3 "$DQ") ||
+    { failed "bench_dsep (crashed, or an answer broke the local Markov property)"; rd=""; }
+fi
+if [ -n "$rd" ]; then
+  dref="networkx not installed"; dtgt="-"; dtr="-"; drr="-"
+  if command -v "$PYTHON" >/dev/null 2>&1; then
+    if nd=$("$PYTHON" bench/nx_dsep.py "$G5" "$DQ" "$NXQ"); then
+      if [ -z "$(val "$nd" missing)" ]; then
+        np=$(val "$nd" per_query_s); ss=$(val "$nd" sluice_s)
+        np100=$(awk -v t="$np" 'BEGIN { print t / 100 }')
+        dtgt=$(tms "$np100"); dtr=$(ratio "$ss" "$np100")
+        dref="networkx $(tms "$np") ($(val "$nd" compared) queries)"; drr=$(ratio "$ss" "$np")
+      else
+        nd=""
+      fi
+    else
+      failed "bench/nx_dsep.py (crashed, or networkx and sluice disagree)"
+      nd=""
+    fi
+  else
+    dref="$PYTHON not found"
+  fi
+  row "d-separation 1e5 / 5e5, per query" "$(tms "$(val "$rd" mean_s)")" "$dtgt" "$dtr" "$dref" "$drr"
+fi
+
+# ---- 5: trails on a dense graph: 15 nodes, 52 of the 105 pairs joined ----
+GT=$D/dense_15.sl
+rtr=""; ntr=""
+if "$D/gen_graph" 15 52 3 "$GT" >/dev/null; then
+  rtr=$("$D/bench_trails" "$GT" n0 n14 3) || { failed "bench_trails $GT"; rtr=""; }
+else
+  failed "gen_graph 15"
+fi
+if [ -n "$rtr" ]; then
+  tref="networkx not installed"; trr="-"
+  if command -v "$PYTHON" >/dev/null 2>&1; then
+    if ntr=$("$PYTHON" bench/nx_paths.py "$GT" n0 n14); then
+      if [ -n "$(val "$ntr" missing)" ]; then
+        ntr=""
+      elif [ "$(val "$ntr" paths)" != "$(val "$rtr" trails)" ] ||
+           [ "$(val "$ntr" edges)" != "$(val "$rtr" edges)" ]; then
+        failed "trails n0 .. n14: sluice $(val "$rtr" trails) ($(val "$rtr" edges) edges)," \
+               "networkx $(val "$ntr" paths) ($(val "$ntr" edges) edges)"
+        tref="networkx: a different count"
+      else
+        tref="networkx $(rate "$(val "$ntr" per_s)")"; trr=$(ratio "$(val "$ntr" per_s)" "$(val "$rtr" per_s)")
+      fi
+    else
+      failed "bench/nx_paths.py (crashed)"
+      ntr=""
+    fi
+  else
+    tref="$PYTHON not found"
+  fi
+  row "trails, 15 nodes / 52 edges" "$(rate "$(val "$rtr" per_s)")" "-" "-" "$tref" "$trr"
+fi
+
+# ---- 6: minimal adjustment sets, 1e3 nodes / 5e3 edges ----
+# No library in Debian lists them; the reference is the textbook delay bound
+# O(n(n + m)) per set, taken as n(n + m) steps of an assumed 1 ns each.
+GA=$D/dag_1e3.sl
+ra=""
+if "$D/gen_graph" 1000 5000 4 "$GA" >/dev/null; then
+  ra=$("$D/bench_adjust" "$GA" n894 n999 10000) ||
+    { failed "bench_adjust (crashed, or a set listed is not a minimal adjustment set)"; ra=""; }
+else
+  failed "gen_graph 1000"
+fi
+if [ -n "$ra" ]; then
+  bnd=$(awk -v n="$(val "$ra" nodes)" -v m="$(val "$ra" edges)" 'BEGIN { print n * (n + m) * 1e-9 }')
+  bref="n(n+m) steps at 1 ns: $(tms "$bnd")"
+  row "adjust 1e3 / 5e3, first set" "$(tms "$(val "$ra" first_s)")" "-" "-" "$bref" \
+    "$(ratio "$(val "$ra" first_s)" "$bnd")"
+  row "adjust 1e3 / 5e3, mean delay" "$(tms "$(val "$ra" mean_delay_s)")" "-" "-" "$bref" \
+    "$(ratio "$(val "$ra" mean_delay_s)" "$bnd")"
+  row "adjust 1e3 / 5e3, sets per second" "$(rate "$(val "$ra" per_s)")" "-" "-" \
+    "1 / that bound: $(rate "$(awk -v b="$bnd" 'BEGIN { print 1 / b }')")" \
+    "$(ratio "$(awk -v b="$bnd" 'BEGIN { print 1 / b }')" "$(val "$ra" per_s)")"
+fi
+
 # ---- notes ----
 echo "notes: times are the parse alone, text already in memory; 1e5 is the best of 3" \
      "(first, cold run: $(secs "${t5cold:-0}"))"
@@ -141,5 +238,25 @@ echo "       memory is the peak RSS of a parsing process minus that of one that 
 echo "       whole-process peaks: sluice $(mb "$(val "$rm1" rss_kb)")${rn:+, networkx $(mb "$(val "$rn" rss_kb)")}," \
      "for $(awk -v b="$(val "$r0" bytes)" 'BEGIN { printf "%.1f MB", b / 1e6 }') of text"
 [ -n "$why" ] && echo "       start-up: $why"
+echo "       ratios of rates (trails, sets per second) are of the times: baseline rate / sluice rate"
+if [ -n "$rd" ]; then
+  echo "       d-separation: 200 queries, each the best of 3; the even ones a random x, y and 0-5 other"
+  echo "         random nodes given ($(val "$rd" random_separated) of 100 separated), the odd ones x before y given pa(y)"
+  echo "         (all 100 separated, by the local Markov property); target: 1/100 of networkx's time"
+  if [ -n "$nd" ]; then
+    echo "         networkx $(val "$nd" version) repeated the first $(val "$nd" compared) and agreed; the ratios are"
+    echo "         over those, where sluice took $(tms "$(val "$nd" sluice_s)") per query"
+  fi
+fi
+if [ -n "$rtr" ]; then
+  echo "       trails: all $(val "$rtr" trails) trails n0 .. n14 of a 15-node, 52-edge DAG, best of 3"
+  [ -n "$ntr" ] && echo "         networkx all_simple_paths on the undirected skeleton, once:" \
+    "$(secs "$(val "$ntr" best_s)"); same count and total length"
+fi
+if [ -n "$ra" ]; then
+  echo "       adjustment: effect of n894 on n999, stopped at $(val "$ra" sets) sets of mean size $(val "$ra" mean_size);"
+  echo "         longest delay $(tms "$(val "$ra" max_delay_s)"); the bound is O(n(n+m)) per set (van der Zander et al."
+  echo "         2019; Kloks and Kratsch 1998), at an assumed 1 ns per step: no library lists these sets"
+fi
 echo "bench: done"
 exit $fail

@@ -28,7 +28,6 @@ typedef struct lister {
   size_t *start, *len, nfound, capfound;
   int64_t *table;
   size_t nslot;
-  size_t *todo;                  /* indices of found sets, in BFS order */
 } lister;
 
 static void bump(lister *L) { L->gen++; }
@@ -147,9 +146,6 @@ static int remember(lister *L, int32_t *sep, size_t n) {
     L->start = s;
     if (!(l = realloc(L->len, c * sizeof *l))) return -1;
     L->len = l;
-    size_t *t = realloc(L->todo, c * sizeof *t);
-    if (!t) return -1;
-    L->todo = t;
     L->capfound = c;
   }
   if (L->pool_len + n > L->pool_cap) {
@@ -173,7 +169,7 @@ static void lister_free(lister *L) {
   sl_moral_free(&L->m);
   free(L->role); free(L->stamp_a); free(L->stamp_s); free(L->stamp_y);
   free(L->queue); free(L->sep); free(L->side);
-  free(L->pool); free(L->start); free(L->len); free(L->table); free(L->todo);
+  free(L->pool); free(L->start); free(L->len); free(L->table);
 }
 
 static const sl_graph *rank_graph;
@@ -229,12 +225,11 @@ int sl_adjust_each(const sl_effect *q, sl_mark forbid, sl_mark require,
     rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
     goto done;
   }
-  size_t nreq = 0;
   for (size_t i = 0; i < L.m.n; i++) {
     int32_t v = L.m.node[i];
     if (q->in_x[v]) L.role[i] = R_X;
     else if (q->in_y[v]) L.role[i] = R_Y;
-    else if (require && require[v]) { L.role[i] = R_REQ; nreq++; }
+    else if (require && require[v]) L.role[i] = R_REQ;
     else if (!q->forb[v] && !g->hidden[v] && !(forbid && forbid[v])) L.role[i] = R_OK;
   }
   /* the first set: closest to X */
@@ -253,16 +248,16 @@ int sl_adjust_each(const sl_effect *q, sl_mark forbid, sl_mark require,
     int r = fn(ctx, out, k);
     if (r) { rc = r; break; }
     /* its neighbours: move each member to X's side in turn */
+    x_side(&L, L.pool + L.start[next], L.len[next]);
+    size_t base = L.nside;
     for (size_t i = 0; i < L.len[next]; i++) {
-      int32_t s = L.pool[L.start[next] + i];
-      x_side(&L, L.pool + L.start[next], L.len[next]);
-      L.side[L.nside++] = s;
+      L.nside = base;     /* C_X(S) is unchanged: closest() only reads side */
+      L.side[L.nside++] = L.pool[L.start[next] + i];
       if (!closest(&L)) continue;
       if (remember(&L, L.sep, L.nsep) < 0) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
     }
   }
 done:
-  (void)nreq;
   free(out);
   lister_free(&L);
   return rc;

@@ -185,10 +185,13 @@ static inline int removed(sl_mark drop_out, sl_mark cut, int32_t p, int32_t v) {
 
 /* Find a simple open trail by depth-first search when the shortest
 ** connecting walk repeats a node: the context of the callback. */
-typedef struct find_ctx { sl_sep_ws *w; sl_mark drop_out, cut; int found; } find_ctx;
+typedef struct find_ctx { sl_sep_ws *w; sl_mark drop_out, cut; int found; size_t seen; } find_ctx;
+
+#define WITNESS_SEARCH_MAX 1000000   /* trails examined before keeping the walk */
 
 static int take_open(void *ctx, const sl_trail *t) {
   find_ctx *c = ctx;
+  if (++c->seen > WITNESS_SEARCH_MAX) return 1;
   for (size_t i = 0; i < t->len; i++)   /* skip trails using removed edges */
     if ((t->steps[i] == SL_FORWARD && removed(c->drop_out, c->cut, t->nodes[i], t->nodes[i + 1])) ||
         (t->steps[i] == SL_BACKWARD && removed(c->drop_out, c->cut, t->nodes[i + 1], t->nodes[i])))
@@ -201,7 +204,8 @@ static int take_open(void *ctx, const sl_trail *t) {
 }
 
 /* Rebuild the walk that reached state s; if it repeats a node, search for
-** a simple open trail instead. */
+** a simple open trail instead (within WITNESS_SEARCH_MAX trails; past that
+** the walk itself is the witness). */
 static void witness(sl_sep_ws *w, int32_t s, const int32_t *x, size_t nx,
                     const int32_t *y, size_t ny, sl_mark drop_out, sl_mark cut,
                     sl_trail *out) {
@@ -226,7 +230,7 @@ static void witness(sl_sep_ws *w, int32_t s, const int32_t *x, size_t nx,
       w->wmark[v] = w->in_z[v] == w->gen;
       w->wmark_an[v] = w->in_a[v] == w->gen;
     }
-    find_ctx c = {w, drop_out, cut, 0};
+    find_ctx c = {w, drop_out, cut, 0, 0};
     sl_trails_each(g, x, nx, y, ny, take_open, &c, NULL, NULL);
     for (size_t v = 0; v < g->n; v++) w->wmark[v] = w->wmark_an[v] = 0;
     if (c.found) len = (size_t)c.found;
