@@ -1,0 +1,84 @@
+/*
+** bootstrap.c: the nonparametric bootstrap of an estimate.  Replicate b
+** draws its rows with a generator seeded from (seed, b) alone, and writes
+** its result to slot b, so the replicates come out bit-identical whatever
+** the number of threads and whatever order they run in.
+*/
+#include <math.h>
+#include <pthread.h>
+#include <stdatomic.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+#include <gsl/gsl_rng.h>
+#include "estimate_internal.h"
+
+/* SplitMix64: a well-mixed seed for replicate b. */
+static uint64_t replicate_seed(uint64_t seed, uint64_t b) {
+  uint64_t z = seed + 0x9E3779B97F4A7C15ull * (b + 1);
+  z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ull;
+  z = (z ^ (z >> 27)) * 0x94D049BB133111EBull;
+  return z ^ (z >> 31);
+}
+
+typedef struct job {
+  const sl_est_spec *s;
+  const sl_prep *P;
+  double *est;
+  atomic_size_t next, done;
+  atomic_int failed_hard;          /* out of memory in a worker */
+} job;
+
+/* Take replicates until none are left. */
+static void *worker(void *arg) {
+  job *J = arg;
+  size_t n = J->P->n;
+  size_t *ix = malloc(n * sizeof *ix);
+  gsl_rng *r = gsl_rng_alloc(gsl_rng_mt19937);
+  if (!ix || !r) { atomic_store(&J->failed_hard, 1); free(ix); if (r) gsl_rng_free(r); return NULL; }
+  for (;;) {
+    if (J->s->stop && *J->s->stop) break;
+    size_t b = atomic_fetch_add(&J->next, 1);
+    if (b >= J->s->boot) break;
+    gsl_rng_set(r, (unsigned long)replicate_seed(J->s->seed, b));
+    for (size_t k = 0; k < n; k++) ix[k] = (size_t)gsl_rng_uniform_int(r, n);
+    sl_point pt;
+    sl_error e;
+    char warn[SL_WARN_MAX] = "";
+    J->est[b] = sl_est_point(J->s, J->P, ix, n, &pt, warn, &e) == SL_OK ? pt.est : NAN;
+    atomic_fetch_add(&J->done, 1);
+  }
+  free(ix);
+  gsl_rng_free(r);
+  return NULL;
+}
+
+int sl_est_bootstrap(const sl_est_spec *s, const sl_prep *P, double *est, sl_error *e) {
+  job J;
+  J.s = s; J.P = P; J.est = est;
+  atomic_init(&J.next, 0); atomic_init(&J.done, 0); atomic_init(&J.failed_hard, 0);
+  for (size_t b = 0; b < s->boot; b++) est[b] = NAN;
+  long cores = sysconf(_SC_NPROCESSORS_ONLN);
+  int nt = s->threads > 0 ? s->threads : (int)(cores > 0 ? cores : 1);
+  if ((size_t)nt > s->boot) nt = (int)s->boot;
+  if (nt > 64) nt = 64;
+  pthread_t th[64];
+  int started = 0;
+  for (int i = 1; i < nt; i++)   /* the calling thread is worker 0 */
+    if (pthread_create(&th[started], NULL, worker, &J) == 0) started++;
+  if (s->progress) {
+    /* report progress from this thread while the others work */
+    size_t last = (size_t)-1;
+    while (atomic_load(&J.next) < s->boot && !(s->stop && *s->stop) && started > 0) {
+      size_t d = atomic_load(&J.done);
+      if (d != last) { s->progress(s->progress_ctx, d, s->boot); last = d; }
+      usleep(50000);
+    }
+  }
+  worker(&J);
+  for (int i = 0; i < started; i++) pthread_join(th[i], NULL);
+  if (s->progress) s->progress(s->progress_ctx, atomic_load(&J.done), s->boot);
+  if (atomic_load(&J.failed_hard)) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory in the bootstrap");
+  if (s->stop && *s->stop) return sl_error_set(e, SL_ELIMIT, 0, 0, "interrupted");
+  return SL_OK;
+}

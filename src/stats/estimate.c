@@ -1,0 +1,301 @@
+/*
+** estimate.c: standardization, IPW and AIPW point estimates on a sample of
+** the complete rows.  Preparation of the data is in estimate_prep.c, the
+** bootstrap in bootstrap.c.
+*/
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include "estimate_internal.h"
+#include "regress.h"
+
+/* Append a warning line (kept once). */
+void sl_est_warn(char *buf, const char *msg) {
+  if (!buf || strstr(buf, msg)) return;
+  size_t len = strlen(buf);
+  if (len + strlen(msg) + 2 >= SL_WARN_MAX) return;
+  if (len) buf[len++] = '\n';
+  strcpy(buf + len, msg);
+}
+
+/* Outcome-model design row for sample row i with treatment value tv. */
+static void outcome_row(const sl_prep *P, size_t i, double tv, int inter, double *row) {
+  const double *c = P->C + i * P->q;
+  row[0] = 1;
+  row[1] = tv;
+  for (size_t j = 0; j < P->q; j++) row[2 + j] = c[j];
+  if (inter)
+    for (size_t j = 0; j < P->q; j++) row[2 + P->q + j] = tv * c[j];
+}
+
+/* Fit the outcome model on the sample ix; predictions under t = a and
+** t = b for every sample row go to m_a and m_b. */
+static int outcome_fit(const sl_prep *P, const size_t *ix, size_t n, int inter,
+                       const double *ta, const double *tb, double *m_a, double *m_b,
+                       char *warn, sl_error *e) {
+  size_t p = 2 + P->q * (inter ? 2 : 1);
+  double *X = malloc(n * p * sizeof *X), *y = malloc(n * sizeof *y);
+  double *row = malloc(p * sizeof *row);
+  int rc = SL_OK;
+  if (!X || !y || !row) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  for (size_t k = 0; k < n; k++) {
+    outcome_row(P, ix[k], P->t[ix[k]], inter, X + k * p);
+    y[k] = P->y[ix[k]];
+  }
+  sl_fit fit;
+  memset(&fit, 0, sizeof fit);
+  char w[256] = "";
+  rc = P->bin_y ? sl_logit(X, y, NULL, n, p, P->onames, 0, 0, &fit, w, sizeof w, e)
+                : sl_ols(X, y, n, p, P->onames, &fit, e);
+  if (rc) goto done;
+  if (w[0]) { char m[300]; snprintf(m, sizeof m, "outcome model: %s", w); sl_est_warn(warn, m); }
+  for (size_t k = 0; k < n; k++) {
+    outcome_row(P, ix[k], ta ? ta[ix[k]] : 1, inter, row);
+    sl_predict(&fit, row, 1, P->bin_y, &m_a[k]);
+    outcome_row(P, ix[k], tb ? tb[ix[k]] : 0, inter, row);
+    sl_predict(&fit, row, 1, P->bin_y, &m_b[k]);
+  }
+  sl_fit_free(&fit);
+done:
+  free(X); free(y); free(row);
+  return rc;
+}
+
+/* Propensity model on the sample: e[k] = P(T = 1 | C) for sample row k. */
+int sl_est_propensity(const sl_prep *P, const size_t *ix, size_t n, double *ps,
+                      char *warn, sl_error *e) {
+  size_t p = 1 + P->q;
+  double *X = malloc(n * p * sizeof *X), *t = malloc(n * sizeof *t);
+  int rc = SL_OK;
+  if (!X || !t) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  for (size_t k = 0; k < n; k++) {
+    X[k * p] = 1;
+    memcpy(X + k * p + 1, P->C + ix[k] * P->q, P->q * sizeof *X);
+    t[k] = P->t[ix[k]];
+  }
+  sl_fit fit;
+  memset(&fit, 0, sizeof fit);
+  char w[256] = "";
+  rc = sl_logit(X, t, NULL, n, p, P->pnames, 0, 0, &fit, w, sizeof w, e);
+  if (rc) goto done;
+  if (w[0]) { char m[300]; snprintf(m, sizeof m, "propensity model: %s", w); sl_est_warn(warn, m); }
+  sl_predict(&fit, X, n, 1, ps);
+  sl_fit_free(&fit);
+done:
+  free(X); free(t);
+  return rc;
+}
+
+/* Whether sample row k belongs to the target population of the estimand. */
+static int in_target(const sl_est_spec *s, double t) {
+  return s->estimand == SL_ATE || (s->estimand == SL_ATT ? t == 1 : t == 0);
+}
+
+/* The contrast of mu1 and mu0 on the chosen scale. */
+double sl_est_contrast(int scale, double mu1, double mu0) {
+  if (scale == SL_RATIO) return mu1 / mu0;
+  if (scale == SL_ODDS_RATIO) return (mu1 / (1 - mu1)) / (mu0 / (1 - mu0));
+  return mu1 - mu0;
+}
+
+/* Standardization (g-formula). */
+static int standardize(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
+                       sl_point *out, char *warn, sl_error *e) {
+  double *ma = malloc(n * sizeof *ma), *mb = malloc(n * sizeof *mb), *tp = NULL;
+  int rc = SL_OK;
+  if (!ma || !mb) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  int inter = s->interactions && P->q > 0;
+  if (!P->bin_t) {   /* the average effect of moving every unit by +contrast */
+    tp = malloc(P->n * sizeof *tp);
+    if (!tp) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+    for (size_t i = 0; i < P->n; i++) tp[i] = P->t[i] + s->contrast;
+    rc = outcome_fit(P, ix, n, inter, tp, P->t, ma, mb, warn, e);
+  } else rc = outcome_fit(P, ix, n, inter, NULL, NULL, ma, mb, warn, e);
+  if (rc) goto done;
+  double s1 = 0, s0 = 0;
+  size_t m = 0;
+  for (size_t k = 0; k < n; k++)
+    if (!P->bin_t || in_target(s, P->t[ix[k]])) { s1 += ma[k]; s0 += mb[k]; m++; }
+  if (m == 0) { rc = sl_error_set(e, SL_EARG, 0, 0, "no rows in the target population"); goto done; }
+  out->mu1 = s1 / (double)m;
+  out->mu0 = s0 / (double)m;
+  out->est = sl_est_contrast(s->scale, out->mu1, out->mu0);
+  out->has_se = 0;
+done:
+  free(ma); free(mb); free(tp);
+  return rc;
+}
+
+/* The value at percentile q (0..100) of v[0..n) by linear interpolation
+** (type 7); v is sorted in place. */
+static int cmp_double(const void *a, const void *b) {
+  double x = *(const double *)a, y = *(const double *)b;
+  return (x > y) - (x < y);
+}
+double sl_est_quantile(double *v, size_t n, double q) {
+  qsort(v, n, sizeof *v, cmp_double);
+  double h = (double)(n - 1) * q / 100.0;
+  size_t lo = (size_t)floor(h);
+  if (lo + 1 >= n) return v[n - 1];
+  return v[lo] + (h - (double)lo) * (v[lo + 1] - v[lo]);
+}
+
+/* IPW weights for the estimand, stabilised and truncated on request. */
+int sl_est_ipw_weights(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
+                       const double *ps, double *w, sl_error *e) {
+  double pt = 0;
+  for (size_t k = 0; k < n; k++) pt += P->t[ix[k]];
+  pt /= (double)n;
+  for (size_t k = 0; k < n; k++) {
+    double t = P->t[ix[k]], p = ps[k];
+    if (s->estimand == SL_ATE) w[k] = t ? 1 / p : 1 / (1 - p);
+    else if (s->estimand == SL_ATT) w[k] = t ? 1 : p / (1 - p);
+    else w[k] = t ? (1 - p) / p : 1;
+    if (s->stabilized && s->estimand == SL_ATE) w[k] *= t ? pt : 1 - pt;
+  }
+  if (s->trunc_lo > 0 || s->trunc_hi < 100) {
+    double *tmp = malloc(n * sizeof *tmp);
+    if (!tmp) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+    memcpy(tmp, w, n * sizeof *tmp);
+    double lo = sl_est_quantile(tmp, n, s->trunc_lo), hi = sl_est_quantile(tmp, n, s->trunc_hi);
+    free(tmp);
+    for (size_t k = 0; k < n; k++) w[k] = w[k] < lo ? lo : w[k] > hi ? hi : w[k];
+  }
+  return SL_OK;
+}
+
+/* Kish's effective sample size of weights w over rows with T == arm (or
+** all rows when arm < 0). */
+static double ess(const sl_prep *P, const size_t *ix, size_t n, const double *w, int arm) {
+  double s = 0, s2 = 0;
+  for (size_t k = 0; k < n; k++)
+    if (arm < 0 || P->t[ix[k]] == arm) { s += w[k]; s2 += w[k] * w[k]; }
+  return s2 > 0 ? s * s / s2 : 0;
+}
+
+/* Propensity range and the count outside [0.01, 0.99] (common practice). */
+static void ps_stats(const double *ps, size_t n, sl_point *out) {
+  out->ps_min = 1; out->ps_max = 0; out->ps_extreme = 0;
+  for (size_t k = 0; k < n; k++) {
+    if (ps[k] < out->ps_min) out->ps_min = ps[k];
+    if (ps[k] > out->ps_max) out->ps_max = ps[k];
+    if (ps[k] < 0.01 || ps[k] > 0.99) out->ps_extreme++;
+  }
+}
+
+/* Inverse probability weighting with normalised (Hajek) weights. */
+static int ipw(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
+               sl_point *out, char *warn, sl_error *e) {
+  double *ps = malloc(n * sizeof *ps), *w = malloc(n * sizeof *w);
+  int rc = SL_OK;
+  if (!ps || !w) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  if ((rc = sl_est_propensity(P, ix, n, ps, warn, e))) goto done;
+  if ((rc = sl_est_ipw_weights(s, P, ix, n, ps, w, e))) goto done;
+  double a1 = 0, b1 = 0, a0 = 0, b0 = 0;
+  for (size_t k = 0; k < n; k++) {
+    double t = P->t[ix[k]], y = P->y[ix[k]];
+    if (t) { a1 += w[k] * y; b1 += w[k]; } else { a0 += w[k] * y; b0 += w[k]; }
+  }
+  out->mu1 = a1 / b1;
+  out->mu0 = a0 / b0;
+  out->est = sl_est_contrast(s->scale, out->mu1, out->mu0);
+  /* a sandwich standard error that treats the propensities as known: on
+  ** the difference scale only, and conservative for the ATE */
+  if (s->scale == SL_DIFFERENCE) {
+    double sum = 0, sum2 = 0;
+    for (size_t k = 0; k < n; k++) {
+      double t = P->t[ix[k]], y = P->y[ix[k]];
+      double f = t ? w[k] * (y - out->mu1) / (b1 / (double)n)
+                   : -w[k] * (y - out->mu0) / (b0 / (double)n);
+      sum += f; sum2 += f * f;
+    }
+    double var = (sum2 - sum * sum / (double)n) / (double)(n - 1);
+    out->se = sqrt(var / (double)n);
+    out->has_se = 1;
+  }
+  out->ess = ess(P, ix, n, w, -1);
+  out->ess1 = ess(P, ix, n, w, 1);
+  out->ess0 = ess(P, ix, n, w, 0);
+  ps_stats(ps, n, out);
+done:
+  free(ps); free(w);
+  return rc;
+}
+
+/* Augmented IPW, doubly robust, with its influence-function standard error. */
+static int aipw(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
+                sl_point *out, char *warn, sl_error *e) {
+  double *ps = malloc(n * sizeof *ps), *m1 = malloc(n * sizeof *m1);
+  double *m0 = malloc(n * sizeof *m0), *psi = malloc(n * sizeof *psi);
+  int rc = SL_OK;
+  if (!ps || !m1 || !m0 || !psi) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  if ((rc = sl_est_propensity(P, ix, n, ps, warn, e))) goto done;
+  /* arm-specific outcome models: the full treatment-by-covariate model */
+  if ((rc = outcome_fit(P, ix, n, P->q > 0, NULL, NULL, m1, m0, warn, e))) goto done;
+  double pt = 0, sum = 0;
+  for (size_t k = 0; k < n; k++) pt += P->t[ix[k]];
+  pt /= (double)n;
+  double s1 = 0, s0 = 0;
+  for (size_t k = 0; k < n; k++) {
+    double t = P->t[ix[k]], y = P->y[ix[k]], p = ps[k];
+    if (s->estimand == SL_ATE) {
+      double a = m1[k] + t * (y - m1[k]) / p, b = m0[k] + (1 - t) * (y - m0[k]) / (1 - p);
+      psi[k] = a - b; s1 += a; s0 += b;
+    } else if (s->estimand == SL_ATT) {
+      psi[k] = t * (y - m0[k]) - (1 - t) * p / (1 - p) * (y - m0[k]);
+      s1 += t * y;
+    } else {
+      psi[k] = t * (1 - p) / p * (y - m1[k]) + (1 - t) * (m1[k] - y);
+      s0 += (1 - t) * y;
+    }
+    sum += psi[k];
+  }
+  double est;
+  if (s->estimand == SL_ATE) {
+    est = sum / (double)n;
+    out->mu1 = s1 / (double)n; out->mu0 = s0 / (double)n;
+  } else if (s->estimand == SL_ATT) {
+    est = sum / (pt * (double)n);
+    out->mu1 = s1 / (pt * (double)n); out->mu0 = out->mu1 - est;
+  } else {
+    est = sum / ((1 - pt) * (double)n);
+    out->mu0 = s0 / ((1 - pt) * (double)n); out->mu1 = out->mu0 + est;
+  }
+  /* influence function of the estimator, centred */
+  double f = 0, f2 = 0;
+  for (size_t k = 0; k < n; k++) {
+    double t = P->t[ix[k]], v;
+    if (s->estimand == SL_ATE) v = psi[k] - est;
+    else if (s->estimand == SL_ATT) v = (psi[k] - t * est) / pt;
+    else v = (psi[k] - (1 - t) * est) / (1 - pt);
+    f += v; f2 += v * v;
+  }
+  out->est = est;
+  out->se = sqrt((f2 - f * f / (double)n) / (double)(n - 1) / (double)n);
+  out->has_se = 1;
+  ps_stats(ps, n, out);
+  double *w = m0;  /* reuse for the IPW weights behind the ESS */
+  for (size_t k = 0; k < n; k++) { double t = P->t[ix[k]]; w[k] = t ? 1 / ps[k] : 1 / (1 - ps[k]); }
+  out->ess = ess(P, ix, n, w, -1); out->ess1 = ess(P, ix, n, w, 1); out->ess0 = ess(P, ix, n, w, 0);
+done:
+  free(ps); free(m1); free(m0); free(psi);
+  return rc;
+}
+
+int sl_est_point(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
+                 sl_point *out, char *warn, sl_error *e) {
+  memset(out, 0, sizeof *out);
+  /* a resample may lose one arm: no estimate from it */
+  if (P->bin_t) {
+    size_t n1 = 0;
+    for (size_t k = 0; k < n; k++) n1 += P->t[ix[k]] == 1;
+    if (n1 == 0 || n1 == n)
+      return sl_error_set(e, SL_EARG, 0, 0, "the sample holds one treatment level only");
+  }
+  switch (s->method) {
+    case SL_IPW: return ipw(s, P, ix, n, out, warn, e);
+    case SL_AIPW: return aipw(s, P, ix, n, out, warn, e);
+    default: return standardize(s, P, ix, n, out, warn, e);
+  }
+}

@@ -1,0 +1,47 @@
+/*
+** estimate_internal.h: what the estimator files share.
+*/
+#ifndef SL_ESTIMATE_INTERNAL_H
+#define SL_ESTIMATE_INTERNAL_H
+
+#include "estimate.h"
+
+/* The complete rows, as the models see them. */
+typedef struct sl_prep {
+  size_t n;              /* complete rows */
+  size_t *rows;          /* their frame rows */
+  double *t, *y;         /* treatment and outcome */
+  size_t q;              /* covariate columns after dummy coding */
+  double *C;             /* n x q, row-major */
+  char **cnames;         /* q names */
+  const char **onames;   /* outcome-model term names: (intercept), t, C, t:C */
+  const char **pnames;   /* propensity-model term names: (intercept), C */
+  char *namebuf;
+  int bin_t, bin_y;
+} sl_prep;
+
+/* One point estimate on a sample of the complete rows. */
+typedef struct sl_point {
+  double est, se, mu1, mu0;
+  int has_se;
+  double ess, ess1, ess0, ps_min, ps_max;
+  size_t ps_extreme;
+} sl_point;
+
+int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *e);
+void sl_est_prep_free(sl_prep *P);
+int sl_est_point(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
+                 sl_point *out, char *warn, sl_error *e);
+int sl_est_propensity(const sl_prep *P, const size_t *ix, size_t n, double *ps,
+                      char *warn, sl_error *e);
+int sl_est_ipw_weights(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
+                       const double *ps, double *w, sl_error *e);
+double sl_est_contrast(int scale, double mu1, double mu0);
+double sl_est_quantile(double *v, size_t n, double q);
+void sl_est_warn(char *buf, const char *msg);
+
+/* The bootstrap: replicate estimates into est[0..B) (NaN when a replicate
+** failed). */
+int sl_est_bootstrap(const sl_est_spec *s, const sl_prep *P, double *est, sl_error *e);
+
+#endif

@@ -1,0 +1,266 @@
+/*
+** estimate_prep.c: checking the question and collecting the complete rows
+** (covariates dummy-coded), then the whole estimate with its interval.
+*/
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <gsl/gsl_cdf.h>
+#include "estimate_internal.h"
+
+void sl_est_prep_free(sl_prep *P) {
+  free(P->rows); free(P->t); free(P->y); free(P->C);
+  free(P->cnames); free(P->onames); free(P->pnames); free(P->namebuf);
+  memset(P, 0, sizeof *P);
+}
+
+static int is_binary(const double *v, size_t n) {
+  for (size_t i = 0; i < n; i++) if (v[i] != 0 && v[i] != 1) return 0;
+  return 1;
+}
+
+/* Whether cell (row r, column c) is missing. */
+static int missing(const sl_column *c, size_t r) {
+  return c->type == SL_NUMERIC ? isnan(c->x[r]) : c->code[r] < 0;
+}
+
+/* Check the roles of the columns. */
+static int check_roles(const sl_est_spec *s, sl_error *e) {
+  const sl_frame *f = s->data;
+  if (s->treatment < 0 || (size_t)s->treatment >= f->ncol || s->outcome < 0 ||
+      (size_t)s->outcome >= f->ncol)
+    return sl_error_set(e, SL_EARG, 0, 0, "no such treatment or outcome column");
+  const sl_column *t = &f->col[s->treatment], *y = &f->col[s->outcome];
+  if (s->treatment == s->outcome)
+    return sl_error_set(e, SL_EARG, 0, 0, "'%s' is both the treatment and the outcome", t->name);
+  if (t->type != SL_NUMERIC)
+    return sl_error_set(e, SL_EARG, 0, 0, "the treatment '%s' has text values: code it as 0/1 "
+                        "(f:binarize) or as a number", t->name);
+  if (y->type != SL_NUMERIC)
+    return sl_error_set(e, SL_EARG, 0, 0, "the outcome '%s' has text values: code it as a number",
+                        y->name);
+  for (size_t i = 0; i < s->nset; i++) {
+    if (s->set[i] == s->outcome)
+      return sl_error_set(e, SL_EARG, 0, 0, "the outcome '%s' is also in the adjustment set", y->name);
+    if (s->set[i] == s->treatment)
+      return sl_error_set(e, SL_EARG, 0, 0, "the treatment '%s' is also in the adjustment set", t->name);
+    for (size_t j = 0; j < i; j++)
+      if (s->set[j] == s->set[i])
+        return sl_error_set(e, SL_EARG, 0, 0, "'%s' is named twice in the adjustment set",
+                            f->col[s->set[i]].name);
+  }
+  if ((s->method == SL_IPW || s->method == SL_AIPW) && s->contrast != 0 && s->contrast != 1)
+    return sl_error_set(e, SL_EARG, 0, 0, "a contrast applies to a continuous treatment with standardize");
+  if (s->method == SL_AIPW && s->scale != SL_DIFFERENCE)
+    return sl_error_set(e, SL_EARG, 0, 0, "aipw estimates differences only; use standardize or ipw for ratios");
+  if (s->method == SL_AIPW && (s->trunc_lo > 0 || s->trunc_hi < 100))
+    return sl_error_set(e, SL_EARG, 0, 0, "weight truncation applies to ipw");
+  if (s->trunc_lo < 0 || s->trunc_hi > 100 || s->trunc_lo >= s->trunc_hi)
+    return sl_error_set(e, SL_EARG, 0, 0, "truncation percentiles must satisfy 0 <= lo < hi <= 100");
+  return SL_OK;
+}
+
+int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *e) {
+  memset(P, 0, sizeof *P);
+  int rc = check_roles(s, e);
+  if (rc) return rc;
+  const sl_frame *f = s->data;
+  size_t nr = f->nrow;
+  unsigned char *keep = malloc(nr ? nr : 1);
+  if (!keep) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  size_t n = 0;
+  for (size_t r = 0; r < nr; r++) {
+    int ok = !missing(&f->col[s->treatment], r) && !missing(&f->col[s->outcome], r);
+    for (size_t i = 0; ok && i < s->nset; i++) ok = !missing(&f->col[s->set[i]], r);
+    keep[r] = (unsigned char)ok;
+    n += (size_t)ok;
+  }
+  *dropped = nr - n;
+  if (n == 0) {
+    free(keep);
+    return sl_error_set(e, SL_EARG, 0, 0, "no rows are left after dropping the %zu with missing "
+                        "values in the treatment, outcome or set", nr);
+  }
+  /* covariate design columns: numbers as they are, categories as dummies
+  ** for every level but the first seen in the complete rows */
+  size_t q = 0, namelen = 0;
+  for (size_t i = 0; i < s->nset; i++) {
+    const sl_column *c = &f->col[s->set[i]];
+    q += c->type == SL_NUMERIC ? 1 : (c->nlevels ? c->nlevels - 1 : 0);
+    namelen += (strlen(c->name) + 2) * (c->type == SL_NUMERIC ? 1 : c->nlevels + 1);
+    for (size_t l = 0; c->type != SL_NUMERIC && l < c->nlevels; l++) namelen += strlen(c->levels[l]);
+  }
+  P->n = n; P->q = q;
+  P->rows = malloc(n * sizeof *P->rows);
+  P->t = malloc(n * sizeof *P->t); P->y = malloc(n * sizeof *P->y);
+  P->C = malloc((n * q > 0 ? n * q : 1) * sizeof *P->C);
+  P->cnames = calloc(q + 1, sizeof *P->cnames);
+  P->onames = calloc(2 * q + 2, sizeof *P->onames);
+  P->pnames = calloc(q + 1, sizeof *P->pnames);
+  /* names: the covariate terms, then "t:term" for each */
+  P->namebuf = malloc(2 * namelen + (strlen(f->col[s->treatment].name) + 2) * (q + 1) + 64);
+  if (!P->rows || !P->t || !P->y || !P->C || !P->cnames || !P->onames || !P->pnames || !P->namebuf) {
+    free(keep); sl_est_prep_free(P);
+    return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  }
+  char *nb = P->namebuf;
+  size_t k = 0;
+  for (size_t r = 0; r < nr; r++) if (keep[r]) P->rows[k++] = r;
+  free(keep);
+  const char *tname = f->col[s->treatment].name;
+  size_t j = 0;
+  for (size_t i = 0; i < s->nset; i++) {
+    const sl_column *c = &f->col[s->set[i]];
+    if (c->type == SL_NUMERIC) {
+      for (size_t m = 0; m < n; m++) P->C[m * q + j] = c->x[P->rows[m]];
+      P->cnames[j++] = nb;
+      nb += sprintf(nb, "%s", c->name) + 1;
+    } else {
+      for (size_t l = 1; l < c->nlevels; l++) {
+        for (size_t m = 0; m < n; m++) P->C[m * q + j] = c->code[P->rows[m]] == (int32_t)l;
+        P->cnames[j++] = nb;
+        nb += sprintf(nb, "%s=%s", c->name, c->levels[l]) + 1;
+      }
+    }
+  }
+  P->onames[0] = P->pnames[0] = "(intercept)";
+  P->onames[1] = tname;
+  for (size_t m = 0; m < q; m++) { P->onames[2 + m] = P->cnames[m]; P->pnames[1 + m] = P->cnames[m]; }
+  for (size_t m = 0; m < q; m++) {
+    P->onames[2 + q + m] = nb;
+    nb += sprintf(nb, "%s:%s", tname, P->cnames[m]) + 1;
+  }
+  for (size_t m = 0; m < n; m++) {
+    P->t[m] = f->col[s->treatment].x[P->rows[m]];
+    P->y[m] = f->col[s->outcome].x[P->rows[m]];
+  }
+  P->bin_t = is_binary(P->t, n);
+  P->bin_y = is_binary(P->y, n);
+  double t0 = P->t[0];
+  int one = 1;
+  for (size_t m = 1; m < n && one; m++) one = P->t[m] == t0;
+  if (one) {
+    sl_est_prep_free(P);
+    return sl_error_set(e, SL_EARG, 0, 0, "the treatment '%s' takes the single value %g in the "
+                        "%zu complete rows", tname, t0, n);
+  }
+  if (!P->bin_t && s->method != SL_STANDARDIZE) {
+    sl_est_prep_free(P);
+    return sl_error_set(e, SL_EARG, 0, 0, "%s needs a 0/1 treatment, and '%s' takes other values: "
+                        "use f:binarize, or method = \"standardize\" for a continuous treatment",
+                        s->method == SL_IPW ? "ipw" : "aipw", tname);
+  }
+  if (!P->bin_t && s->estimand != SL_ATE) {
+    sl_est_prep_free(P);
+    return sl_error_set(e, SL_EARG, 0, 0, "ATT and ATC need a 0/1 treatment");
+  }
+  if (s->scale == SL_ODDS_RATIO && !P->bin_y) {
+    sl_est_prep_free(P);
+    return sl_error_set(e, SL_EARG, 0, 0, "an odds ratio needs a 0/1 outcome");
+  }
+  return SL_OK;
+}
+
+int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
+  memset(res, 0, sizeof *res);
+  sl_prep P;
+  int rc = sl_est_prepare(s, &P, &res->dropped, e);
+  if (rc) return rc;
+  size_t *ix = malloc(P.n * sizeof *ix);
+  double *boot = NULL;
+  if (!ix) { sl_est_prep_free(&P); return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); }
+  for (size_t i = 0; i < P.n; i++) ix[i] = i;
+  sl_point pt;
+  rc = sl_est_point(s, &P, ix, P.n, &pt, res->warnings, e);
+  if (rc) goto done;
+  res->estimate = pt.est; res->se = pt.se; res->has_se = pt.has_se;
+  res->mu1 = pt.mu1; res->mu0 = pt.mu0;
+  res->n = P.n;
+  res->ess = pt.ess; res->ess1 = pt.ess1; res->ess0 = pt.ess0;
+  res->ps_min = pt.ps_min; res->ps_max = pt.ps_max; res->ps_extreme = pt.ps_extreme;
+  res->binary_outcome = P.bin_y; res->binary_treatment = P.bin_t;
+  double level = s->level > 0 && s->level < 1 ? s->level : 0.95;
+  double z = gsl_cdf_ugaussian_Pinv(0.5 + level / 2);
+  if (s->method != SL_STANDARDIZE && pt.ps_extreme) {
+    char m[160];
+    snprintf(m, sizeof m, "%zu fitted propensities fall outside [0.01, 0.99]: check overlap{}",
+             pt.ps_extreme);
+    sl_est_warn(res->warnings, m);
+  }
+  if (s->boot > 0) {
+    boot = malloc(s->boot * sizeof *boot);
+    if (!boot) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+    if ((rc = sl_est_bootstrap(s, &P, boot, e))) goto done;
+    size_t ok = 0;
+    for (size_t b = 0; b < s->boot; b++) if (!isnan(boot[b])) boot[ok++] = boot[b];
+    res->boot_done = ok;
+    res->boot_failed = s->boot - ok;
+    if (ok < 2) { rc = sl_error_set(e, SL_EARG, 0, 0, "fewer than two bootstrap replicates succeeded"); goto done; }
+    double mean = 0, ss = 0;
+    for (size_t b = 0; b < ok; b++) mean += boot[b];
+    mean /= (double)ok;
+    for (size_t b = 0; b < ok; b++) ss += (boot[b] - mean) * (boot[b] - mean);
+    res->se = sqrt(ss / (double)(ok - 1));
+    res->has_se = 1;
+    res->lo = sl_est_quantile(boot, ok, 50 * (1 - level));
+    res->hi = sl_est_quantile(boot, ok, 100 - 50 * (1 - level));
+    if (res->boot_failed) {
+      char m[128];
+      snprintf(m, sizeof m, "%zu of %zu bootstrap replicates failed (e.g. one treatment level only) "
+               "and were left out", res->boot_failed, s->boot);
+      sl_est_warn(res->warnings, m);
+    }
+  } else if (!res->has_se) {
+    sl_est_warn(res->warnings, s->method == SL_STANDARDIZE
+                ? "no standard error without a bootstrap: give boot = 200 or more"
+                : "no standard error on a ratio scale without a bootstrap: give boot = 200 or more");
+  } else if (s->method == SL_IPW) {
+    sl_est_warn(res->warnings, "the IPW standard error treats the propensities as known "
+                "(conservative for the ATE); boot = 200 or more gives a bootstrap interval");
+  }
+  if (res->has_se) {
+    res->lo_normal = res->estimate - z * res->se;
+    res->hi_normal = res->estimate + z * res->se;
+    if (s->boot == 0) { res->lo = res->lo_normal; res->hi = res->hi_normal; }
+  } else {
+    res->lo = res->hi = res->lo_normal = res->hi_normal = NAN;
+    res->se = NAN;
+  }
+done:
+  free(ix); free(boot);
+  sl_est_prep_free(&P);
+  return rc;
+}
+
+int sl_est_weights(const sl_est_spec *s, sl_weights *out, sl_error *e) {
+  memset(out, 0, sizeof *out);
+  sl_prep P;
+  size_t dropped;
+  int rc = sl_est_prepare(s, &P, &dropped, e);
+  if (rc) return rc;
+  if (!P.bin_t) { sl_est_prep_free(&P); return sl_error_set(e, SL_EARG, 0, 0, "weights need a 0/1 treatment"); }
+  size_t n = P.n;
+  size_t *ix = malloc(n * sizeof *ix);
+  out->ps = malloc(n * sizeof *out->ps); out->w = malloc(n * sizeof *out->w);
+  out->t = malloc(n * sizeof *out->t); out->rows = malloc(n * sizeof *out->rows);
+  if (!ix || !out->ps || !out->w || !out->t || !out->rows) {
+    rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+    goto done;
+  }
+  for (size_t i = 0; i < n; i++) { ix[i] = i; out->t[i] = P.t[i]; out->rows[i] = P.rows[i]; }
+  char warn[SL_WARN_MAX] = "";
+  if ((rc = sl_est_propensity(&P, ix, n, out->ps, warn, e))) goto done;
+  if ((rc = sl_est_ipw_weights(s, &P, ix, n, out->ps, out->w, e))) goto done;
+  out->n = n;
+done:
+  free(ix);
+  sl_est_prep_free(&P);
+  if (rc) sl_weights_free(out);
+  return rc;
+}
+
+void sl_weights_free(sl_weights *w) {
+  free(w->ps); free(w->w); free(w->t); free(w->rows);
+  memset(w, 0, sizeof *w);
+}
