@@ -1,0 +1,144 @@
+/*
+** plot.c: PLplot drawings.  PLplot keeps one current stream; each picture
+** opens a stream of its own and ends it.
+*/
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <plplot.h>
+#include "plot.h"
+
+/* The PLplot device for a path's extension, or NULL. */
+static const char *device_of(const char *path) {
+  const char *dot = strrchr(path, '.');
+  if (!dot) return NULL;
+  if (strcmp(dot, ".svg") == 0) return "svg";
+  if (strcmp(dot, ".png") == 0) return "pngcairo";
+  if (strcmp(dot, ".pdf") == 0) return "pdfcairo";
+  return NULL;
+}
+
+/* Check the path can be written and open a stream on it. */
+static int begin(const char *path, sl_error *e) {
+  const char *dev = device_of(path);
+  if (!dev)
+    return sl_error_set(e, SL_EARG, 0, 0, "cannot tell the picture format of '%s': "
+                        "end the name in .svg, .png or .pdf", path);
+  FILE *f = fopen(path, "wb");
+  if (!f) return sl_error_set(e, SL_EIO, 0, 0, "cannot write '%s'", path);
+  fclose(f);
+  PLINT strm;
+  plmkstrm(&strm);
+  plsdev(dev);
+  plsfnam(path);
+  plsetopt("geometry", "800x500");
+  plscolbg(255, 255, 255);
+  plinit();
+  plfontld(1);
+  return SL_OK;
+}
+
+static void set_colour(int r, int g, int b) {
+  plscol0(15, r, g, b);
+  plcol0(15);
+}
+
+int sl_plot_histograms(const char *path, const char *title, const char *xlabel,
+                       const double *a, size_t na, const char *alabel,
+                       const double *b, size_t nb, const char *blabel,
+                       double lo, double hi, int nbins, sl_error *e) {
+  if (nbins < 1 || nbins > 1000 || !(hi > lo))
+    return sl_error_set(e, SL_EARG, 0, 0, "a histogram needs 1 to 1000 bins and lo < hi");
+  double *ca = calloc((size_t)nbins, sizeof *ca), *cb = calloc((size_t)nbins, sizeof *cb);
+  if (!ca || !cb) { free(ca); free(cb); return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); }
+  double width = (hi - lo) / nbins, top = 0;
+  for (int pass = 0; pass < 2; pass++) {
+    const double *v = pass ? b : a;
+    size_t n = pass ? nb : na;
+    double *c = pass ? cb : ca;
+    for (size_t i = 0; i < n; i++) {
+      if (isnan(v[i])) continue;
+      int k = (int)((v[i] - lo) / width);
+      if (k < 0) k = 0;
+      if (k >= nbins) k = nbins - 1;
+      c[k] += 1;
+    }
+    for (int k = 0; k < nbins; k++) {   /* as proportions of each group */
+      c[k] /= n ? (double)n : 1;
+      if (c[k] > top) top = c[k];
+    }
+  }
+  int rc = begin(path, e);
+  if (rc) { free(ca); free(cb); return rc; }
+  set_colour(0, 0, 0);
+  plenv(lo, hi, 0, top * 1.1 + 1e-9, 0, 0);
+  pllab(xlabel, "share of the group", title);
+  for (int pass = 0; pass < 2; pass++) {
+    double *c = pass ? cb : ca;
+    if (pass) set_colour(200, 60, 40); else set_colour(40, 90, 180);
+    pllsty(pass ? 2 : 1);
+    plwidth(2);
+    for (int k = 0; k < nbins; k++) {   /* the outline of each bar */
+      PLFLT x[4] = {lo + k * width, lo + k * width, lo + (k + 1) * width, lo + (k + 1) * width};
+      PLFLT y[4] = {0, c[k], c[k], 0};
+      plline(4, x, y);
+    }
+    /* legend: a short line and the label in the top right corner */
+    PLFLT lx[2] = {lo + 0.70 * (hi - lo), lo + 0.76 * (hi - lo)};
+    PLFLT ly[2] = {top * (1.05 - 0.08 * pass), top * (1.05 - 0.08 * pass)};
+    plline(2, lx, ly);
+    plptex(lo + 0.78 * (hi - lo), ly[0], 1, 0, 0, pass ? blabel : alabel);
+  }
+  pllsty(1);
+  plend1();
+  free(ca); free(cb);
+  return SL_OK;
+}
+
+int sl_plot_forest(const char *path, const char *title, const char *xlabel,
+                   const char *const *labels, const double *est, const double *lo,
+                   const double *hi, size_t n, double ref, const char *reflabel,
+                   sl_error *e) {
+  if (n == 0) return sl_error_set(e, SL_EARG, 0, 0, "nothing to plot");
+  double xmin = INFINITY, xmax = -INFINITY;
+  for (size_t i = 0; i < n; i++) {
+    double v[3] = {est[i], lo[i], hi[i]};
+    for (int k = 0; k < 3; k++)
+      if (isfinite(v[k])) { if (v[k] < xmin) xmin = v[k]; if (v[k] > xmax) xmax = v[k]; }
+  }
+  if (isfinite(ref)) { if (ref < xmin) xmin = ref; if (ref > xmax) xmax = ref; }
+  if (!isfinite(xmin)) return sl_error_set(e, SL_EARG, 0, 0, "no finite estimate to plot");
+  double pad = (xmax - xmin) * 0.08 + 1e-9;
+  int rc = begin(path, e);
+  if (rc) return rc;
+  set_colour(0, 0, 0);
+  pladv(0);
+  plvpor(0.32, 0.95, 0.12, 0.90);
+  plwind(xmin - pad, xmax + pad, 0, (double)n + 1);
+  plbox("bcnst", 0, 0, "bc", 0, 0);
+  pllab(xlabel, "", title);
+  for (size_t i = 0; i < n; i++) {
+    double y = (double)(n - i);
+    plmtex("lv", 1.0, y / ((double)n + 1), 1.0, labels[i]);   /* left of the frame */
+    if (isfinite(lo[i]) && isfinite(hi[i])) {
+      PLFLT x[2] = {lo[i], hi[i]}, yy[2] = {y, y};
+      plwidth(2);
+      plline(2, x, yy);
+    }
+    if (isfinite(est[i])) {
+      PLFLT x = est[i], yy = y;
+      plpoin(1, &x, &yy, 17);
+    }
+  }
+  if (isfinite(ref)) {
+    set_colour(200, 60, 40);
+    pllsty(2);
+    PLFLT x[2] = {ref, ref}, y[2] = {0, (double)n + 1};
+    plline(2, x, y);
+    pllsty(1);
+    if (reflabel) plptex(ref, (double)n + 0.6, 1, 0, 0.5, reflabel);
+  }
+  plend1();
+  return SL_OK;
+}
