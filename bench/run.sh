@@ -258,5 +258,53 @@ if [ -n "$ra" ]; then
   echo "         longest delay $(tms "$(val "$ra" max_delay_s)"); the bound is O(n(n+m)) per set (van der Zander et al."
   echo "         2019; Kloks and Kratsch 1998), at an assumed 1 ns per step: no library lists these sets"
 fi
+# ---- 7: read_csv, 1e6 rows x 8 numeric columns, beside pandas ----
+# Speed is the best of 3 reads in one process; memory the peak RSS of a
+# process that reads once, minus its RSS before the read.  The memory
+# target is 1.5 x the parsed columns (1e6 x 8 doubles).
+CSVF=$D/num_1e6x8.csv
+rc=""; rc1=""; pc=""
+# shellcheck disable=SC2046
+if cc -std=c11 -O2 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -Isrc/graph -Isrc/stats \
+     bench/bench_csv.c "$B/libsluice.a" $(pkg-config --libs sqlite3 libsodium) -lcsv -lm \
+     -o "$D/bench_csv"; then
+  "$D/bench_csv" gen "$CSVF" 1000000 8 1 >/dev/null || failed "bench_csv gen"
+  rc=$("$D/bench_csv" read "$CSVF" 3) || { failed "bench_csv read (timing run)"; rc=""; }
+  rc1=$("$D/bench_csv" read "$CSVF" 1) || { failed "bench_csv read (memory run)"; rc1=""; }
+else
+  failed "cannot compile bench/bench_csv.c"
+fi
+if [ -n "$rc" ] && [ -n "$rc1" ]; then
+  mbs=$(awk -v b="$(val "$rc" bytes)" -v t="$(val "$rc" best_s)" 'BEGIN { print b / 1e6 / t }')
+  cm=$(kdiff "$(val "$rc1" rss_kb)" "$(val "$rc1" base_kb)")
+  ctgt=$(awk -v p="$(val "$rc1" parsed_kb)" 'BEGIN { print 1.5 * p }')
+  cref="pandas not installed"; cmref=$cref; crr="-"; cmr="-"
+  if command -v "$PYTHON" >/dev/null 2>&1; then
+    if pc=$("$PYTHON" bench/bench_csv.py "$CSVF" 3); then
+      if [ -z "$(val "$pc" missing)" ]; then
+        pmbs=$(awk -v b="$(val "$rc" bytes)" -v t="$(val "$pc" best_s)" 'BEGIN { print b / 1e6 / t }')
+        pm=$(kdiff "$(val "$pc" rss_kb)" "$(val "$pc" base_kb)")
+        cref=$(awk -v r="$pmbs" 'BEGIN { printf "pandas %.1f MB/s", r }'); crr=$(ratio "$pmbs" "$mbs")
+        cmref="pandas $(mb "$pm")"; cmr=$(ratio "$cm" "$pm")
+        awk -v a="$(val "$rc" sum)" -v b="$(val "$pc" sum)" 'BEGIN {
+          d = a - b; if (d < 0) d = -d; s = b < 0 ? -b : b; exit !(d <= 1e-9 * s) }' ||
+          failed "read_csv: sluice and pandas sum the file to $(val "$rc" sum) and $(val "$pc" sum)"
+      else
+        pc=""
+      fi
+    else
+      failed "bench/bench_csv.py (crashed)"; pc=""
+    fi
+  else
+    cref="$PYTHON not found"; cmref=$cref
+  fi
+  rm -f "$CSVF"   # 59 MB; the next run writes it again
+  row "read_csv 1e6 x 8 numeric" "$(awk -v r="$mbs" 'BEGIN { printf "%.1f MB/s", r }')" "-" "-" "$cref" "$crr"
+  row "peak memory, read_csv 1e6 x 8" "$(mb "$cm")" "$(mb "$ctgt")" "$(ratio "$cm" "$ctgt")" "$cmref" "$cmr"
+  echo "       read_csv: $(awk -v b="$(val "$rc" bytes)" 'BEGIN { printf "%.1f MB", b / 1e6 }') of text," \
+       "best of 3 ($(secs "$(val "$rc" best_s)")${pc:+; pandas $(val "$pc" version) $(secs "$(val "$pc" best_s)"), dtype float64});"
+  echo "       memory target 1.5 x the parsed columns ($(mb "$(val "$rc1" parsed_kb)")); the ratio beside" \
+       "pandas is of the memory; the two sums of every value agree"
+fi
 echo "bench: done"
 exit $fail

@@ -12,6 +12,8 @@ H.topics = {
   {"graph",     "Writing a causal graph"},
   {"structure", "Asking about its structure"},
   {"adjust",    "Trails, separation and adjustment sets"},
+  {"data",      "Data frames"},
+  {"estimate",  "Models and effect estimates"},
   {"picture",   "Pictures and text views"},
   {"session",   "The session"},
 }
@@ -169,6 +171,58 @@ from the treatment.]],
 node = cost (default 1 each, so the smallest set). Use it when some
 covariates are expensive or unreliable to measure.]],
     example = [[g:cheapest("mulch", "harvest", {slope = 5})]] },
+  { name = "ols", topic = "estimate",
+    sig = "ols{data=, y=, x={...}}",
+    brief = "Least squares regression",
+    returns = "a fitted model: coef, se, robust_se, p, n, r2, :predict(f)",
+    summary = [[Ordinary least squares through GSL (a pivoted QR decomposition, accurate to
+the NIST StRD certified values). An intercept is added; a text column enters
+as dummies for every level but the first. Rows with a missing value are
+dropped (n and dropped say how many). robust_se is HC3. Collinear columns
+are an error that names them.]],
+    example = [[m = ols{data = plots, y = "harvest", x = {"mulch", "slope"}}
+m.coef.mulch]] },
+  { name = "logit", topic = "estimate",
+    sig = "logit{data=, y=, x={...}}",
+    brief = "Logistic regression",
+    returns = "a fitted model: coef, se, robust_se, p, n, loglik, :predict(f)",
+    summary = [[Logistic regression by iteratively reweighted least squares, for a 0/1
+response. The result says whether it converged; separation (a column that
+predicts the response perfectly) is a warning that names the column.
+:predict(f) gives probabilities.]],
+    example = [[m = logit{data = pupils, y = "passed", x = {"tutoring", "attendance"}}]] },
+  { name = "estimate", topic = "estimate",
+    sig = "estimate{data=, treatment=, outcome=, set= | graph=, method=, boot=, seed=}",
+    brief = "The average effect of a treatment",
+    returns = "{estimate=, se=, lo=, hi=, n=, method=, set=, warnings=, ...}",
+    summary = [[The average causal effect of treatment on outcome, adjusted for set (or for
+the optimal set of graph, which is printed with the reason). method:
+"standardize" (the g-formula, default: outcome model with treatment-by-
+covariate interactions, linear or logistic), "ipw" (normalised weights;
+stabilized = true, truncate = {1, 99}) or "aipw" (doubly robust, with its
+influence-function SE). estimand "ATE", "ATT" or "ATC"; scale "difference",
+"ratio" or "odds ratio"; contrast = d for a continuous treatment.
+boot = B gives a bootstrap (level = 0.95, seed =), identical for a seed
+whatever the number of threads. The estimate is only as good as the graph
+and the no-unmeasured-confounding assumption behind it.]],
+    example = [[estimate{data = plots, treatment = "mulch", outcome = "harvest",
+         graph = g, method = "aipw", boot = 500, seed = 7}]] },
+  { name = "balance", topic = "estimate",
+    sig = "balance{data=, treatment=, set= | graph=}",
+    brief = "Covariate balance before and after weighting",
+    returns = "a table of standardized mean differences",
+    summary = [[The standardized mean difference of each covariate between treated and
+control, before and after inverse probability weighting; |SMD| > 0.1 is
+flagged (common practice; Austin 2009).]],
+    example = [[balance{data = plots, treatment = "mulch", set = {"slope", "tree age"}}]] },
+  { name = "overlap", topic = "estimate",
+    sig = "overlap{data=, treatment=, set= | graph=, plot=}",
+    brief = "Propensity overlap between the groups",
+    returns = "a summary by group, with a text histogram",
+    summary = [[Fitted propensities of treatment by group: quartiles, a text histogram, and
+with plot = "file.svg" (or .png, .pdf) a picture. Propensities outside
+[0.01, 0.99] are counted and warned about (common practice).]],
+    example = [[overlap{data = plots, treatment = "mulch", set = {"slope"}, plot = "overlap.svg"}]] },
   { name = "g:show", topic = "picture",
     sig = "g:show()",
     returns = "text",
@@ -199,10 +253,13 @@ extension: .svg, .png or .pdf.]],
     example = [[print(version)]] },
 }
 
+-- The entries of the data frame functions live beside their binding.
+for _, e in ipairs(require "sluice.help_data") do H.entries[#H.entries + 1] = e end
+
 local by_name = {}
 for _, e in ipairs(H.entries) do
   by_name[e.name] = e
-  local short = e.name:match("^g:(.+)$")
+  local short = e.name:match("^[gfc]:(.+)$")
   if short then by_name[short] = by_name[short] or e end
 end
 
@@ -270,7 +327,7 @@ function H.text(name)
   if type(name) ~= "string" then
     error("bad argument #1 to 'help' (string expected, got " .. type(name) .. ")", 3)
   end
-  local e = by_name[name] or by_name[name:gsub("^%w+:", "")]
+  local e = by_name[name] or by_name[(name:gsub("^%w+:", ""))]
   if e then return H.entry_text(e) end
   local near = H.closest(name)
   error(string.format("help: no function named '%s'%s", name,

@@ -6,6 +6,7 @@
 #include <string.h>
 #include "bind.h"
 #include "embedded.h"
+#include "bind_frame.h"
 
 #ifndef SLUICE_VERSION
 #define SLUICE_VERSION "unknown"
@@ -61,10 +62,13 @@ int luaopen_sluice(lua_State *L) {
   lua_pushvalue(L, metas_at - 1);
   sl_open_graph(L);
   sl_open_adjust(L);
+  sl_open_frame(L);
+  sl_open_stats(L);
   lua_pushliteral(L, SLUICE_VERSION);
   lua_setfield(L, -2, "version");
   /* the Lua layer: printing, then help; each may add to the module */
-  const char *layers[] = {"sluice.print", "sluice.explain", "sluice.help", NULL};
+  const char *layers[] = {"sluice.print", "sluice.explain", "sluice.frame", "sluice.estimate",
+                          "sluice.help", NULL};
   for (int i = 0; layers[i]; i++) {
     require(L, layers[i]);     /* a table with install(M, metas, hooks) */
     lua_getfield(L, -1, "install");

@@ -28,10 +28,12 @@ static int missing(const sl_column *c, size_t r) {
 /* Check the roles of the columns. */
 static int check_roles(const sl_est_spec *s, sl_error *e) {
   const sl_frame *f = s->data;
-  if (s->treatment < 0 || (size_t)s->treatment >= f->ncol || s->outcome < 0 ||
-      (size_t)s->outcome >= f->ncol)
+  if (s->treatment < 0 || (size_t)s->treatment >= f->ncol || s->outcome < -1 ||
+      s->outcome >= (int)f->ncol)
     return sl_error_set(e, SL_EARG, 0, 0, "no such treatment or outcome column");
-  const sl_column *t = &f->col[s->treatment], *y = &f->col[s->outcome];
+  /* no outcome (-1): the propensity model alone, for diagnostics */
+  const sl_column *t = &f->col[s->treatment];
+  const sl_column *y = &f->col[s->outcome >= 0 ? s->outcome : s->treatment];
   if (s->treatment == s->outcome)
     return sl_error_set(e, SL_EARG, 0, 0, "'%s' is both the treatment and the outcome", t->name);
   if (t->type != SL_NUMERIC)
@@ -71,7 +73,8 @@ int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *
   if (!keep) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
   size_t n = 0;
   for (size_t r = 0; r < nr; r++) {
-    int ok = !missing(&f->col[s->treatment], r) && !missing(&f->col[s->outcome], r);
+    int ok = !missing(&f->col[s->treatment], r) &&
+             (s->outcome < 0 || !missing(&f->col[s->outcome], r));
     for (size_t i = 0; ok && i < s->nset; i++) ok = !missing(&f->col[s->set[i]], r);
     keep[r] = (unsigned char)ok;
     n += (size_t)ok;
@@ -133,7 +136,7 @@ int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *
   }
   for (size_t m = 0; m < n; m++) {
     P->t[m] = f->col[s->treatment].x[P->rows[m]];
-    P->y[m] = f->col[s->outcome].x[P->rows[m]];
+    P->y[m] = f->col[s->outcome >= 0 ? s->outcome : s->treatment].x[P->rows[m]];
   }
   P->bin_t = is_binary(P->t, n);
   P->bin_y = is_binary(P->y, n);
@@ -164,6 +167,7 @@ int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *
 
 int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
   memset(res, 0, sizeof *res);
+  if (s->outcome < 0) return sl_error_set(e, SL_EARG, 0, 0, "an estimate needs an outcome column");
   sl_prep P;
   int rc = sl_est_prepare(s, &P, &res->dropped, e);
   if (rc) return rc;

@@ -10,6 +10,10 @@
 #include <stdint.h>
 #include "error.h"
 
+/* Documented limits. */
+#define SL_FRAME_MAX_COLS 65536        /* columns of a frame read from a file */
+#define SL_FRAME_MAX_LEVELS 2147483647 /* levels of a categorical column (int32 codes) */
+
 enum sl_coltype { SL_NUMERIC = 0, SL_CATEGORICAL = 1 };
 
 typedef struct sl_column {
@@ -40,8 +44,16 @@ int sl_frame_lookup(const sl_frame *f, const char *name, sl_error *e);
 /* New frames: some columns; the rows where keep[i] is nonzero. */
 sl_frame *sl_frame_select(const sl_frame *f, const int *cols, size_t n, sl_error *e);
 sl_frame *sl_frame_filter(const sl_frame *f, const unsigned char *keep, sl_error *e);
+/* The first min(n, nrow) rows. */
+sl_frame *sl_frame_head(const sl_frame *f, size_t n, sl_error *e);
+/* A copy of f with a 0/1 column name added: 1 where column col (numeric) is
+** above cut, 0 where it is not, missing where it is missing. */
+sl_frame *sl_frame_binarize(const sl_frame *f, int col, double cut, const char *name,
+                            sl_error *e);
 
-/* Per-column summary over the non-missing values (numeric columns). */
+/* Per-column summary over the non-missing values.  A categorical column
+** gets n and missing; its other fields are NaN.  sd divides by n - 1 (NaN
+** below 2 values); with no values every statistic is NaN. */
 typedef struct sl_summary {
   size_t n, missing;
   double mean, sd, min, q1, median, q3, max;   /* quartiles: type 7 (R's default) */
@@ -56,20 +68,41 @@ typedef struct sl_csv_opts {
   int coerce;                  /* non-numeric cells in numeric columns become missing */
 } sl_csv_opts;
 
+/* Type inference, per column, over its non-missing cells (missing: empty,
+** NA, NaN, "." and opts->na; a cell is a number when strtod reads all of
+** it, hexadecimal excepted):
+**   - every cell a number: numeric;
+**   - at most 10% of them text (a typo such as "1,5" or "n/a" in a
+**     measurement): an error naming the file, row, column and cell, or with
+**     coerce a numeric column where those cells are missing, counted in the
+**     report;
+**   - more text than that: categorical, numbers kept as the text written. */
+
 typedef struct sl_read_report {
   size_t coerced;              /* cells made missing by coerce */
   size_t first_row, first_col; /* where the first one was (1-based file row/col) */
+  char first_cell[64];         /* and its text (cut to fit) */
   unsigned char sha256[32];    /* of the bytes read: the file's fingerprint */
   uint64_t bytes;
 } sl_read_report;
 
 /* Read a CSV file with a header row.  Errors name the file, the row (line
-** of the file, 1-based, header = 1) in e->line and the column in e->col. */
+** of the file, 1-based, header = 1) in e->line and the column in e->col.
+** A file with a header but no rows is an error.  opts may be NULL. */
 sl_frame *sl_csv_read(const char *path, const sl_csv_opts *opts, sl_read_report *rep,
                       sl_error *e);
+/* Write f with a header row: numbers in the shortest "%.15g".."%.17g" form
+** that reads back to the same double, missing as an empty field, text
+** quoted when it holds a comma, quote, line break or edge space. */
 int sl_csv_write(const sl_frame *f, const char *path, sl_error *e);
 /* The result of an SQL query on an SQLite file; SQL errors verbatim. */
 sl_frame *sl_sql_read(const char *dbpath, const char *query, sl_read_report *rep,
                       sl_error *e);
+
+/* ---- fingerprints (SHA-256, libsodium) ---- */
+int sl_fingerprint_file(const char *path, unsigned char sha256[32], uint64_t *bytes,
+                        sl_error *e);
+/* Lower-case hex of a digest into hex (65 bytes with the NUL); returns hex. */
+char *sl_fingerprint_hex(const unsigned char sha256[32], char hex[65]);
 
 #endif

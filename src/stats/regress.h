@@ -2,6 +2,10 @@
 ** regress.h: least squares and logistic regression through GSL and a BLAS.
 ** Design matrices are row-major n x p, the intercept (when wanted) being a
 ** column of ones that the caller includes.
+**
+** Both fits use a Householder QR factorization of X streamed over blocks of
+** rows (accurate to the NIST StRD certified values; X is read in place,
+** never copied, so n = 10^7 rows need no memory beyond X itself).
 */
 #ifndef SL_REGRESS_H
 #define SL_REGRESS_H
@@ -9,30 +13,44 @@
 #include <stddef.h>
 #include "error.h"
 
+/* A column is aliased (a linear combination of earlier columns) when the
+** sine of its angle to their span, |R_jj| / |x_j| in the QR factor, is at
+** most this.  Scale-free; NIST's Filip (tenth-degree polynomial) has 5e-8. */
+#define SL_RANK_TOL 1e-9
+
 typedef struct sl_fit {
   size_t n, p;
   double *coef;          /* p */
   double *se;            /* p: classical */
-  double *robust_se;     /* p: HC3 (OLS) or sandwich HC0 (logit) */
-  double *cov;           /* p x p, classical */
-  double r2, adj_r2, sigma, rss;      /* OLS */
-  double loglik, deviance;            /* logit */
-  int iterations, converged;          /* logit */
-  size_t rank;           /* numerical rank of X */
-  int *aliased;          /* p flags: a column that is a combination of earlier ones */
+  double *robust_se;     /* p: HC3 (OLS) or sandwich HC0 (logit); NaN for OLS
+                            when a row has leverage 1 or n == p */
+  double *cov;           /* p x p row-major, classical */
+  double r2, adj_r2, sigma, rss;      /* OLS (NaN for logit); r2 centered when
+                                         a column is all ones, else uncentered */
+  double loglik, deviance;            /* logit; OLS: Gaussian loglik and rss */
+  int iterations, converged;          /* logit (OLS: 1 and 1) */
+  size_t rank;           /* numerical rank of X (p: rank deficiency is an error) */
+  int *aliased;          /* p flags, all 0 in a returned fit */
 } sl_fit;
 
+/* Free the arrays of a fit and zero it; safe on a zeroed fit.  On an error
+** return the fit holds no memory (freeing it is harmless). */
 void sl_fit_free(sl_fit *fit);
 
 /* Ordinary least squares.  A rank-deficient X is an error whose message
-** names the aliased columns (names: p strings, may be NULL). */
+** names the aliased columns (names: p strings, may be NULL); so are n < p
+** and a NaN or infinity in X or y (naming the row).  With n == p the fit is
+** exact and sigma, se and robust_se are NaN. */
 int sl_ols(const double *X, const double *y, size_t n, size_t p,
            const char *const *names, sl_fit *fit, sl_error *e);
 
 /* Logistic regression by iteratively reweighted least squares; optional
 ** prior weights w (NULL: 1).  Non-convergence and (quasi-)complete
 ** separation are reported in warn (may be NULL) naming the columns; the fit
-** is still returned. */
+** is still returned.  y in [0, 1]; max_iter <= 0 means 50; tol <= 0 means
+** 1e-10, the bound on |dev - dev_prev| / (|dev| + 0.1).  Standard errors
+** from the inverse Fisher information at the final coefficients; robust_se
+** the HC0 sandwich with scores w_i (y_i - mu_i) x_i. */
 int sl_logit(const double *X, const double *y, const double *w, size_t n, size_t p,
              const char *const *names, int max_iter, double tol, sl_fit *fit,
              char *warn, size_t warnsize, sl_error *e);

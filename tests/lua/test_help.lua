@@ -3,6 +3,9 @@
 local H = require "sluice.help"
 local S = require "sluice"
 
+-- A small frame read from the test data.
+function frame_sample() return read_csv "tests/data/orchard.csv" end
+
 test("every module function and graph method has a help entry", function()
   for name, v in pairs(S) do
     if type(v) == "function" and not name:match("^_") then
@@ -13,13 +16,18 @@ test("every module function and graph method has a help entry", function()
   for name in pairs(methods) do
     eq(H.lookup("g:" .. name) ~= nil, true, "help for g:" .. name)
   end
+  for name in pairs(getmetatable(frame_sample()).methods) do
+    eq(H.lookup("f:" .. name) ~= nil, true, "help for f:" .. name)
+  end
 end)
 
 test("every help entry names something that exists", function()
-  local methods = getmetatable(graph "a").__index
+  local f = frame_sample()
+  local kinds = {g = getmetatable(graph "a").__index, f = getmetatable(f).methods,
+                 c = getmetatable(f[f:names()[1]]).methods}
   for _, e in ipairs(H.entries) do
-    local m = e.name:match("^g:(.+)$")
-    if m then eq(methods[m] ~= nil, true, e.name)
+    local k, m = e.name:match("^([gfc]):(.+)$")
+    if k then eq(kinds[k][m] ~= nil, true, e.name)
     elseif e.name ~= "tostring" then eq(S[e.name] ~= nil, true, e.name) end
   end
 end)

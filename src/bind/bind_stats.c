@@ -1,0 +1,358 @@
+/*
+** bind_stats.c: models, estimators and pictures in Lua.  These are the
+** raw primitives (sluice._ols, _estimate, ...); lua/sluice/estimate.lua
+** gives them their public form (ols{}, logit{}, estimate{}, balance{},
+** overlap{}) with argument checking and printing.
+*/
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+#include "bind.h"
+#include "bind_frame.h"
+#include "regress.h"
+#include "estimate.h"
+#include "plot.h"
+#include <gsl/gsl_cdf.h>
+
+/* A column index by name, or an argument error with a suggestion. */
+static int column(lua_State *L, const sl_frame *f, int arg, const char *name) {
+  sl_error e;
+  int j = sl_frame_lookup(f, name, &e);
+  if (j < 0) luaL_argerror(L, arg, e.msg);
+  return j;
+}
+
+/* The list at stack index idx as column indices (in a userdata pushed). */
+static int *columns(lua_State *L, const sl_frame *f, int idx, size_t *n) {
+  *n = lua_isnoneornil(L, idx) ? 0 : (size_t)luaL_len(L, idx);
+  int *c = lua_newuserdatauv(L, (*n ? *n : 1) * sizeof *c, 0);
+  for (size_t i = 0; i < *n; i++) {
+    lua_geti(L, idx, (lua_Integer)i + 1);
+    if (lua_type(L, -1) != LUA_TSTRING) luaL_argerror(L, idx, "column names are strings");
+    c[i] = column(L, f, idx, lua_tostring(L, -1));
+    lua_pop(L, 1);
+  }
+  return c;
+}
+
+static int missing_cell(const sl_column *c, size_t r) {
+  return c->type == SL_NUMERIC ? isnan(c->x[r]) : c->code[r] < 0;
+}
+
+/* The design of a model: terms, and X with an intercept and dummies for
+** every level but the first.  Rows with a missing value are dropped. */
+typedef struct design {
+  size_t n, p, dropped;
+  double *X, *y;
+  const char **names;
+} design;
+
+static int design_gc(lua_State *L) {
+  design *d = lua_touserdata(L, 1);
+  free(d->X); free(d->y); free(d->names);
+  memset(d, 0, sizeof *d);
+  return 0;
+}
+
+static design *build_design(lua_State *L, const sl_frame *f, int ycol, const int *xc,
+                            size_t nx) {
+  design *d = lua_newuserdatauv(L, sizeof *d, 0);
+  memset(d, 0, sizeof *d);
+  if (luaL_newmetatable(L, "sluice.design")) {
+    lua_pushcfunction(L, design_gc);
+    lua_setfield(L, -2, "__gc");
+  }
+  lua_setmetatable(L, -2);
+  size_t p = 1;
+  for (size_t i = 0; i < nx; i++) {
+    const sl_column *c = &f->col[xc[i]];
+    p += c->type == SL_NUMERIC ? 1 : (c->nlevels ? c->nlevels - 1 : 0);
+    if (xc[i] == ycol) luaL_error(L, "'%s' is both the response and a regressor", c->name);
+  }
+  if (f->col[ycol].type != SL_NUMERIC)
+    luaL_error(L, "the response '%s' has text values", f->col[ycol].name);
+  unsigned char *keep = lua_newuserdatauv(L, f->nrow ? f->nrow : 1, 0);
+  size_t n = 0;
+  for (size_t r = 0; r < f->nrow; r++) {
+    int ok = !missing_cell(&f->col[ycol], r);
+    for (size_t i = 0; ok && i < nx; i++) ok = !missing_cell(&f->col[xc[i]], r);
+    keep[r] = (unsigned char)ok;
+    n += (size_t)ok;
+  }
+  d->n = n; d->p = p; d->dropped = f->nrow - n;
+  if (n == 0) luaL_error(L, "no rows are left after dropping those with missing values");
+  d->X = malloc(n * p * sizeof *d->X);
+  d->y = malloc(n * sizeof *d->y);
+  d->names = calloc(p, sizeof *d->names);
+  if (!d->X || !d->y || !d->names) luaL_error(L, "out of memory");
+  /* term names live in a Lua table kept on the stack */
+  lua_createtable(L, (int)p, 0);
+  lua_pushliteral(L, "(intercept)");
+  lua_rawseti(L, -2, 1);
+  size_t k = 1;
+  for (size_t i = 0; i < nx; i++) {
+    const sl_column *c = &f->col[xc[i]];
+    if (c->type == SL_NUMERIC) { lua_pushstring(L, c->name); lua_rawseti(L, -2, (lua_Integer)++k); }
+    else for (size_t l = 1; l < c->nlevels; l++) {
+      lua_pushfstring(L, "%s=%s", c->name, c->levels[l]);
+      lua_rawseti(L, -2, (lua_Integer)++k);
+    }
+  }
+  for (size_t j = 0; j < p; j++) {
+    lua_rawgeti(L, -1, (lua_Integer)j + 1);
+    d->names[j] = lua_tostring(L, -1);   /* anchored by the table */
+    lua_pop(L, 1);
+  }
+  size_t row = 0;
+  for (size_t r = 0; r < f->nrow; r++) {
+    if (!keep[r]) continue;
+    double *x = d->X + row * p;
+    size_t j = 0;
+    x[j++] = 1;
+    for (size_t i = 0; i < nx; i++) {
+      const sl_column *c = &f->col[xc[i]];
+      if (c->type == SL_NUMERIC) x[j++] = c->x[r];
+      else for (size_t l = 1; l < c->nlevels; l++) x[j++] = c->code[r] == (int32_t)l;
+    }
+    d->y[row++] = f->col[ycol].x[r];
+  }
+  return d;
+}
+
+/* Push a table keyed by term name. */
+static void push_by_term(lua_State *L, const design *d, const double *v) {
+  lua_createtable(L, 0, (int)d->p);
+  for (size_t j = 0; j < d->p; j++) {
+    lua_pushnumber(L, v[j]);
+    lua_setfield(L, -2, d->names[j]);
+  }
+}
+
+/* sluice._fit(frame, y, {x...}, "ols" | "logit") -> a table of results */
+static int l_fit(lua_State *L) {
+  sl_frame *f = sl_bind_checkframe(L, 1);
+  int ycol = column(L, f, 2, luaL_checkstring(L, 2));
+  luaL_checktype(L, 3, LUA_TTABLE);
+  const char *kind = luaL_checkstring(L, 4);
+  size_t nx;
+  int *xc = columns(L, f, 3, &nx);
+  design *d = build_design(L, f, ycol, xc, nx);
+  int terms = lua_gettop(L);
+  sl_fit fit;
+  memset(&fit, 0, sizeof fit);
+  sl_error e;
+  char warn[512] = "";
+  int logistic = strcmp(kind, "logit") == 0;
+  if (logistic) {
+    for (size_t i = 0; i < d->n; i++)
+      if (d->y[i] != 0 && d->y[i] != 1)
+        return luaL_error(L, "logit needs a 0/1 response; '%s' takes the value %g",
+                          f->col[ycol].name, d->y[i]);
+  }
+  int rc = logistic ? sl_logit(d->X, d->y, NULL, d->n, d->p, d->names, 0, 0, &fit, warn,
+                               sizeof warn, &e)
+                    : sl_ols(d->X, d->y, d->n, d->p, d->names, &fit, &e);
+  if (rc) return sl_bind_raise(L, &e, kind, NULL, 0);
+  lua_createtable(L, 0, 16);
+  lua_pushvalue(L, terms);
+  lua_setfield(L, -2, "terms");
+  push_by_term(L, d, fit.coef); lua_setfield(L, -2, "coef");
+  push_by_term(L, d, fit.se); lua_setfield(L, -2, "se");
+  push_by_term(L, d, fit.robust_se); lua_setfield(L, -2, "robust_se");
+  /* two-sided p-values: t with n - p degrees of freedom (ols), normal (logit) */
+  lua_createtable(L, 0, (int)d->p);
+  for (size_t j = 0; j < d->p; j++) {
+    double z = fabs(fit.coef[j] / fit.se[j]), pv;
+    if (logistic || d->n <= d->p) pv = 2 * gsl_cdf_ugaussian_Q(z);
+    else pv = 2 * gsl_cdf_tdist_Q(z, (double)(d->n - d->p));
+    lua_pushnumber(L, pv);
+    lua_setfield(L, -2, d->names[j]);
+  }
+  lua_setfield(L, -2, "p");
+  lua_pushinteger(L, (lua_Integer)d->n); lua_setfield(L, -2, "n");
+  lua_pushinteger(L, (lua_Integer)d->dropped); lua_setfield(L, -2, "dropped");
+  if (logistic) {
+    lua_pushnumber(L, fit.loglik); lua_setfield(L, -2, "loglik");
+    lua_pushnumber(L, fit.deviance); lua_setfield(L, -2, "deviance");
+    lua_pushinteger(L, fit.iterations); lua_setfield(L, -2, "iterations");
+    lua_pushboolean(L, fit.converged); lua_setfield(L, -2, "converged");
+  } else {
+    lua_pushnumber(L, fit.r2); lua_setfield(L, -2, "r2");
+    lua_pushnumber(L, fit.adj_r2); lua_setfield(L, -2, "adj_r2");
+    lua_pushnumber(L, fit.sigma); lua_setfield(L, -2, "sigma");
+  }
+  lua_pushstring(L, warn); lua_setfield(L, -2, "warning");
+  sl_fit_free(&fit);
+  return 1;
+}
+
+/* Strings at the fields of the options table at idx. */
+static const char *opt_string(lua_State *L, int idx, const char *k, const char *def) {
+  lua_getfield(L, idx, k);
+  const char *s = lua_isnil(L, -1) ? def : lua_tostring(L, -1);
+  lua_pop(L, 1);
+  return s;
+}
+static double opt_number(lua_State *L, int idx, const char *k, double def) {
+  lua_getfield(L, idx, k);
+  double v = lua_isnil(L, -1) ? def : lua_tonumber(L, -1);
+  lua_pop(L, 1);
+  return v;
+}
+
+/* Progress on stderr when it is a terminal: a bar of 30 cells. */
+static void progress(void *ctx, size_t done, size_t total) {
+  (void)ctx;
+  int cells = total ? (int)(30 * done / total) : 30;
+  fprintf(stderr, "\rbootstrap [%.*s%*s] %zu/%zu", cells, "##############################",
+          30 - cells, "", done, total);
+  if (done >= total) fputs("\r\033[K", stderr);
+  fflush(stderr);
+}
+
+/* Read the spec from (frame, treatment, outcome, {set...}, opts). */
+static void read_spec(lua_State *L, sl_est_spec *s) {
+  memset(s, 0, sizeof *s);
+  sl_frame *f = sl_bind_checkframe(L, 1);
+  s->data = f;
+  s->treatment = column(L, f, 2, luaL_checkstring(L, 2));
+  s->outcome = lua_isnil(L, 3) ? -1 : column(L, f, 3, luaL_checkstring(L, 3));
+  luaL_checktype(L, 4, LUA_TTABLE);
+  luaL_checktype(L, 5, LUA_TTABLE);
+  size_t n;
+  s->set = columns(L, f, 4, &n);
+  s->nset = n;
+  const char *m = opt_string(L, 5, "method", "standardize");
+  s->method = strcmp(m, "ipw") == 0 ? SL_IPW : strcmp(m, "aipw") == 0 ? SL_AIPW : SL_STANDARDIZE;
+  const char *est = opt_string(L, 5, "estimand", "ATE");
+  s->estimand = strcmp(est, "ATT") == 0 ? SL_ATT : strcmp(est, "ATC") == 0 ? SL_ATC : SL_ATE;
+  const char *sc = opt_string(L, 5, "scale", "difference");
+  s->scale = strcmp(sc, "ratio") == 0 ? SL_RATIO : strcmp(sc, "odds ratio") == 0 ? SL_ODDS_RATIO
+           : SL_DIFFERENCE;
+  lua_getfield(L, 5, "interactions");
+  s->interactions = lua_isnil(L, -1) ? 1 : lua_toboolean(L, -1);
+  lua_pop(L, 1);
+  s->contrast = opt_number(L, 5, "contrast", 1);
+  lua_getfield(L, 5, "stabilized");
+  s->stabilized = lua_toboolean(L, -1);
+  lua_pop(L, 1);
+  s->trunc_lo = opt_number(L, 5, "trunc_lo", 0);
+  s->trunc_hi = opt_number(L, 5, "trunc_hi", 100);
+  s->boot = (size_t)opt_number(L, 5, "boot", 0);
+  s->level = opt_number(L, 5, "level", 0.95);
+  s->seed = (uint64_t)opt_number(L, 5, "seed", 1);
+  s->threads = (int)opt_number(L, 5, "threads", 0);
+  lua_getfield(L, 5, "progress");
+  if (lua_toboolean(L, -1) && isatty(2)) s->progress = progress;
+  lua_pop(L, 1);
+  s->stop = &sl_bind_stop;
+  sl_bind_stop = 0;
+}
+
+#define SETNUM(k, v) (lua_pushnumber(L, (v)), lua_setfield(L, -2, (k)))
+
+/* sluice._estimate(frame, treatment, outcome, {set}, opts) */
+static int l_estimate(lua_State *L) {
+  sl_est_spec s;
+  read_spec(L, &s);
+  sl_est_result r;
+  sl_error e;
+  if (sl_estimate(&s, &r, &e)) return sl_bind_raise(L, &e, "estimate", NULL, 0);
+  lua_createtable(L, 0, 24);
+  SETNUM("estimate", r.estimate);
+  if (r.has_se) { SETNUM("se", r.se); SETNUM("lo", r.lo); SETNUM("hi", r.hi);
+                  SETNUM("lo_normal", r.lo_normal); SETNUM("hi_normal", r.hi_normal); }
+  SETNUM("mu1", r.mu1); SETNUM("mu0", r.mu0);
+  lua_pushinteger(L, (lua_Integer)r.n); lua_setfield(L, -2, "n");
+  lua_pushinteger(L, (lua_Integer)r.dropped); lua_setfield(L, -2, "dropped");
+  if (s.boot) {
+    lua_pushinteger(L, (lua_Integer)r.boot_done); lua_setfield(L, -2, "boot");
+    lua_pushinteger(L, (lua_Integer)r.boot_failed); lua_setfield(L, -2, "boot_failed");
+  }
+  if (s.method != SL_STANDARDIZE) {
+    SETNUM("ess", r.ess); SETNUM("ess_treated", r.ess1); SETNUM("ess_control", r.ess0);
+    SETNUM("ps_min", r.ps_min); SETNUM("ps_max", r.ps_max);
+  }
+  lua_pushboolean(L, r.binary_outcome); lua_setfield(L, -2, "binary_outcome");
+  lua_pushboolean(L, r.binary_treatment); lua_setfield(L, -2, "binary_treatment");
+  lua_pushstring(L, r.warnings); lua_setfield(L, -2, "warnings");
+  return 1;
+}
+
+/* sluice._weights(frame, treatment, outcome, {set}, opts) -> ps, w, t, rows */
+static int l_weights(lua_State *L) {
+  sl_est_spec s;
+  read_spec(L, &s);
+  sl_weights w;
+  sl_error e;
+  if (sl_est_weights(&s, &w, &e)) return sl_bind_raise(L, &e, NULL, NULL, 0);
+  double *arr[3] = {w.ps, w.w, w.t};
+  for (int k = 0; k < 3; k++) {
+    lua_createtable(L, (int)w.n, 0);
+    for (size_t i = 0; i < w.n; i++) { lua_pushnumber(L, arr[k][i]); lua_rawseti(L, -2, (lua_Integer)i + 1); }
+  }
+  lua_createtable(L, (int)w.n, 0);
+  for (size_t i = 0; i < w.n; i++) { lua_pushinteger(L, (lua_Integer)w.rows[i] + 1); lua_rawseti(L, -2, (lua_Integer)i + 1); }
+  sl_weights_free(&w);
+  return 4;
+}
+
+/* A Lua list of numbers as a C array in a userdata pushed on the stack. */
+static double *numbers(lua_State *L, int idx, size_t *n) {
+  luaL_checktype(L, idx, LUA_TTABLE);
+  *n = (size_t)luaL_len(L, idx);
+  double *v = lua_newuserdatauv(L, (*n ? *n : 1) * sizeof *v, 0);
+  for (size_t i = 0; i < *n; i++) {
+    lua_geti(L, idx, (lua_Integer)i + 1);
+    v[i] = lua_isnumber(L, -1) ? lua_tonumber(L, -1) : NAN;
+    lua_pop(L, 1);
+  }
+  return v;
+}
+
+/* sluice._histograms(path, title, xlabel, a, alabel, b, blabel, lo, hi, bins) */
+static int l_histograms(lua_State *L) {
+  size_t na, nb;
+  double *a = numbers(L, 4, &na), *b = numbers(L, 6, &nb);
+  sl_error e;
+  if (sl_plot_histograms(luaL_checkstring(L, 1), luaL_checkstring(L, 2), luaL_checkstring(L, 3),
+                         a, na, luaL_checkstring(L, 5), b, nb, luaL_checkstring(L, 7),
+                         luaL_checknumber(L, 8), luaL_checknumber(L, 9),
+                         (int)luaL_checkinteger(L, 10), &e))
+    return sl_bind_raise(L, &e, NULL, NULL, 0);
+  lua_pushvalue(L, 1);
+  return 1;
+}
+
+/* sluice._forest(path, title, xlabel, labels, est, lo, hi, ref, reflabel) */
+static int l_forest(lua_State *L) {
+  luaL_checktype(L, 4, LUA_TTABLE);
+  size_t n = (size_t)luaL_len(L, 4), n1, n2, n3;
+  const char **labels = lua_newuserdatauv(L, (n ? n : 1) * sizeof *labels, 0);
+  for (size_t i = 0; i < n; i++) {
+    lua_geti(L, 4, (lua_Integer)i + 1);
+    labels[i] = lua_tostring(L, -1);
+    lua_pop(L, 1);   /* the list keeps the strings alive */
+    if (!labels[i]) luaL_argerror(L, 4, "labels are strings");
+  }
+  double *est = numbers(L, 5, &n1), *lo = numbers(L, 6, &n2), *hi = numbers(L, 7, &n3);
+  if (n1 != n || n2 != n || n3 != n) luaL_argerror(L, 5, "one estimate and interval per label");
+  sl_error e;
+  if (sl_plot_forest(luaL_checkstring(L, 1), luaL_checkstring(L, 2), luaL_checkstring(L, 3),
+                     labels, est, lo, hi, n, luaL_optnumber(L, 8, NAN), luaL_optstring(L, 9, NULL), &e))
+    return sl_bind_raise(L, &e, NULL, NULL, 0);
+  lua_pushvalue(L, 1);
+  return 1;
+}
+
+static const luaL_Reg funcs[] = {
+  {"_fit", l_fit}, {"_estimate", l_estimate}, {"_weights", l_weights},
+  {"_histograms", l_histograms}, {"_forest", l_forest},
+  {NULL, NULL}
+};
+
+int sl_open_stats(lua_State *L) {
+  luaL_setfuncs(L, funcs, 0);
+  return 0;
+}

@@ -1,0 +1,716 @@
+/*
+** regress.c: ordinary least squares and logistic regression.
+**
+** Both fit through a Householder QR factorization of the (weighted) design
+** matrix, streamed over blocks of rows: each block [X_b  y_b] is folded into
+** the triangular factor [R c; 0 rho] of all rows seen so far (by GSL's LQ
+** decomposition of the transposed stack, see qracc below).  X is read in
+** place, never copied and never squared into X'X, so memory beyond X is
+** O(p^2 + block) and the coefficients lose digits in proportion to the
+** condition number of X (after column scaling), not to its square as with
+** the normal equations.  A second pass over X gives the residuals, the
+** leverages h_ii = |R^-T x_i|^2 and the sandwich (robust) covariance.
+** On the NIST StRD datasets this matches or beats GSL's column-pivoted QR
+** (gsl_linalg_QRPT_decomp) and SVD (gsl_multifit_linear) on the whole X.
+**
+** Rank: the sine of the angle between column j and the span of the earlier
+** kept columns is |R_jj| / |x_j| in an unpivoted QR.  A column whose sine is
+** at most SL_RANK_TOL is aliased; after each aliased column is found the
+** others are refactored without it (limited pivoting: aliased columns are
+** reported in their own order, the first of a collinear group being kept).
+**
+** Every BLAS call works on one block of about SL_QR_BLOCK_WORK / (p+1)
+** rows, which keeps OpenBLAS on one thread for p up to about 40, and every
+** other sum runs in row order, so results are bit-identical for given inputs
+** whatever the thread count (for wider designs this rests on how OpenBLAS
+** splits its threaded kernels).  GSL's error handler is never reached:
+** sizes are checked here and no factor with a zero diagonal is inverted.
+*/
+#include <float.h>
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <gsl/gsl_blas.h>
+#include <gsl/gsl_linalg.h>
+#include <gsl/gsl_matrix.h>
+#include <gsl/gsl_vector.h>
+#include "regress.h"
+
+#define SL_QR_BLOCK_WORK 9216u     /* (p+1) x (rows + p + 1) per block */
+#define SL_QR_BLOCK_MAX 4096u
+#define SL_GEMM_WORK 262144u      /* rows x p x p per matrix product */
+#define SL_HALVINGS 30             /* step-halvings before giving up */
+#define SL_EXTREME (10 * DBL_EPSILON)  /* "numerically 0 or 1" */
+#define SL_DRIFT 0.1               /* logit units per iteration: diverging */
+
+/* ---- the streamed QR ---- */
+
+/* The factor is kept transposed: the rows of a block go into the columns of
+** B = [L | X_b'] (q x (q + m), row-major, so each column of X is a
+** contiguous row of B), and GSL's LQ decomposition of B gives the new lower
+** triangle L = R' in place.  Householder vectors then run along contiguous
+** memory, about twice as fast as a QR of the row-major block itself. */
+typedef struct qracc {
+  size_t p, q, m;    /* columns of X, p + 1, rows per block */
+  gsl_matrix *B;     /* q x (q + m): L = [R c; 0 rho]' then the block */
+  gsl_vector *tau;   /* q: Householder coefficients */
+  gsl_matrix *Z;     /* m x p: a block of X R^-1 */
+} qracc;
+
+/* Free the workspaces of a (safe on a zeroed or half-built one). */
+static void qracc_free(qracc *a) {
+  if (a->B) gsl_matrix_free(a->B);
+  if (a->tau) gsl_vector_free(a->tau);
+  if (a->Z) gsl_matrix_free(a->Z);
+  memset(a, 0, sizeof *a);
+}
+
+/* Allocate the workspaces for p columns and at most n rows; 0 on success.
+** Rows per block: q (m + q) <= SL_QR_BLOCK_WORK keeps each BLAS call that
+** GSL makes on a block below OpenBLAS's threading thresholds; at least 4q
+** rows, so the triangle refactored with each block costs little. */
+static int qracc_init(qracc *a, size_t p, size_t n) {
+  memset(a, 0, sizeof *a);
+  a->p = p;
+  a->q = p + 1;
+  size_t m = SL_QR_BLOCK_WORK / a->q;
+  m = m > a->q ? m - a->q : 0;
+  if (m < 4 * a->q) m = 4 * a->q;
+  if (m > SL_QR_BLOCK_MAX) m = SL_QR_BLOCK_MAX;
+  if (m > n) m = n;
+  a->m = m;
+  a->B = gsl_matrix_calloc(a->q, a->q + m);
+  a->tau = gsl_vector_alloc(a->q);
+  a->Z = gsl_matrix_alloc(m, p);
+  if (!a->B || !a->tau || !a->Z) { qracc_free(a); return -1; }
+  return 0;
+}
+
+/* Start a new factorization. */
+static void qracc_reset(qracc *a) {
+  gsl_matrix_view L = gsl_matrix_submatrix(a->B, 0, 0, a->q, a->q);
+  gsl_matrix_set_zero(&L.matrix);
+}
+
+/* Where row r of the block goes: entry j of it is col[j * tda]. */
+static double *qracc_slot(qracc *a, size_t r) { return gsl_matrix_ptr(a->B, 0, a->q + r); }
+
+/* Fold the k rows placed in the block into the factor. */
+static void qracc_fold(qracc *a, size_t k) {
+  size_t q = a->q;
+  gsl_matrix_view Bk = gsl_matrix_submatrix(a->B, 0, 0, q, q + k);
+  gsl_linalg_LQ_decomp(&Bk.matrix, a->tau);
+  for (size_t i = 0; i < q; i++)   /* keep L, drop the reflectors above it */
+    for (size_t j = i + 1; j < q; j++) gsl_matrix_set(a->B, i, j, 0);
+}
+
+/* Entry (i, j), i <= j, of the upper factor [R c; 0 rho]. */
+static double qracc_get(const qracc *a, size_t i, size_t j) { return gsl_matrix_get(a->B, j, i); }
+
+/* Copy the p x p factor R out (lower triangle zero). */
+static void qracc_R(const qracc *a, gsl_matrix *R) {
+  gsl_matrix_set_zero(R);
+  for (size_t i = 0; i < a->p; i++)
+    for (size_t j = i; j < a->p; j++) gsl_matrix_set(R, i, j, qracc_get(a, i, j));
+}
+
+/* ---- messages ---- */
+
+/* Append printf-style text to buf (size bytes), marking truncation. */
+static void cat(char *buf, size_t size, const char *fmt, ...)
+#if defined(__GNUC__)
+  __attribute__((format(printf, 3, 4)))
+#endif
+  ;
+static void cat(char *buf, size_t size, const char *fmt, ...) {
+  size_t k = strlen(buf);
+  if (size < 4 || k + 1 >= size) return;
+  va_list ap;
+  va_start(ap, fmt);
+  int r = vsnprintf(buf + k, size - k, fmt, ap);
+  va_end(ap);
+  if (r < 0 || (size_t)r >= size - k) memcpy(buf + size - 4, "...", 4);
+}
+
+/* The name of column j for messages: 'name', or its 1-based number. */
+static void colname(char *out, size_t size, const char *const *names, size_t j) {
+  if (names && names[j]) snprintf(out, size, "'%s'", names[j]);
+  else snprintf(out, size, "%zu", j + 1);
+}
+
+/* Append "a, b and c" (the columns in list[0..k-1]) to buf. */
+static void cat_list(char *buf, size_t size, const char *const *names,
+                     const size_t *list, size_t k) {
+  char nm[128];
+  for (size_t i = 0; i < k; i++) {
+    colname(nm, sizeof nm, names, list[i]);
+    cat(buf, size, "%s%s", i == 0 ? "" : (i + 1 == k ? " and " : ", "), nm);
+  }
+}
+
+/* ---- rank ---- */
+
+/* Flag in alias[] the columns of X (whose triangular factor is R, p x p)
+** that lie within SL_RANK_TOL of the span of earlier kept columns, and
+** describe each group in msg.  Returns the number flagged, or (size_t)-1
+** when out of memory. */
+static size_t find_aliased(const gsl_matrix *R, const char *const *names, int *alias,
+                           char *msg, size_t msgsize) {
+  size_t p = R->size1, count = 0, ncols = p;
+  double *norm = malloc(p * sizeof *norm);
+  size_t *cols = malloc(p * sizeof *cols), *grp = malloc(p * sizeof *grp);
+  gsl_matrix *M = gsl_matrix_alloc(p, p), *T = gsl_matrix_alloc(p, p);
+  gsl_vector *v = gsl_vector_alloc(p);
+  if (!norm || !cols || !grp || !M || !T || !v) { count = (size_t)-1; goto done; }
+  for (size_t j = 0; j < p; j++) {
+    gsl_vector_const_view c = gsl_matrix_const_column(R, j);
+    norm[j] = gsl_blas_dnrm2(&c.vector);
+    cols[j] = j;
+    alias[j] = 0;
+  }
+  msg[0] = '\0';
+  for (;;) {
+    gsl_matrix_view Mv = gsl_matrix_submatrix(M, 0, 0, p, ncols);
+    gsl_matrix_view Tv = gsl_matrix_submatrix(T, 0, 0, ncols, ncols);
+    for (size_t k = 0; k < ncols; k++) {
+      gsl_vector_const_view src = gsl_matrix_const_column(R, cols[k]);
+      gsl_vector_view dst = gsl_matrix_column(&Mv.matrix, k);
+      gsl_vector_memcpy(&dst.vector, &src.vector);
+    }
+    gsl_linalg_QR_decomp_r(&Mv.matrix, &Tv.matrix);
+    size_t k = 0;
+    while (k < ncols && norm[cols[k]] > 0 &&
+           fabs(gsl_matrix_get(M, k, k)) > SL_RANK_TOL * norm[cols[k]])
+      k++;
+    if (k == ncols) break;
+    size_t j = cols[k], ng = 0;
+    alias[j] = 1;
+    count++;
+    if (msg[0]) cat(msg, msgsize, "; ");
+    if (norm[j] == 0) {
+      char nm[128];
+      colname(nm, sizeof nm, names, j);
+      cat(msg, msgsize, "column %s is all zeros: drop it", nm);
+    } else {
+      /* the combination: R_kk a = r_k over the kept columns before it */
+      if (k > 0) {
+        gsl_matrix_view Rk = gsl_matrix_submatrix(M, 0, 0, k, k);
+        gsl_vector_view a = gsl_vector_subvector(v, 0, k);
+        for (size_t i = 0; i < k; i++) gsl_vector_set(&a.vector, i, gsl_matrix_get(M, i, k));
+        gsl_blas_dtrsv(CblasUpper, CblasNoTrans, CblasNonUnit, &Rk.matrix, &a.vector);
+        for (size_t i = 0; i < k; i++)
+          if (fabs(gsl_vector_get(&a.vector, i)) * norm[cols[i]] > 1e-6 * norm[j])
+            grp[ng++] = cols[i];
+      }
+      grp[ng++] = j;
+      if (ng == 1) {
+        char nm[128];
+        colname(nm, sizeof nm, names, j);
+        cat(msg, msgsize, "column %s is a linear combination of earlier columns: drop it", nm);
+      } else {
+        cat(msg, msgsize, "columns ");
+        cat_list(msg, msgsize, names, grp, ng);
+        cat(msg, msgsize, " are collinear: drop one");
+      }
+    }
+    memmove(cols + k, cols + k + 1, (ncols - k - 1) * sizeof *cols);
+    ncols--;
+    if (ncols == 0) break;
+  }
+done:
+  free(norm); free(cols); free(grp);
+  if (M) gsl_matrix_free(M);
+  if (T) gsl_matrix_free(T);
+  if (v) gsl_vector_free(v);
+  return count;
+}
+
+/* ---- fit records ---- */
+
+void sl_fit_free(sl_fit *fit) {
+  if (!fit) return;
+  free(fit->coef); free(fit->se); free(fit->robust_se); free(fit->cov); free(fit->aliased);
+  memset(fit, 0, sizeof *fit);
+}
+
+/* Allocate the arrays of a fit with p columns; 0 on success. */
+static int fit_alloc(sl_fit *fit, size_t n, size_t p) {
+  memset(fit, 0, sizeof *fit);
+  fit->n = n;
+  fit->p = p;
+  fit->coef = calloc(p, sizeof *fit->coef);
+  fit->se = calloc(p, sizeof *fit->se);
+  fit->robust_se = calloc(p, sizeof *fit->robust_se);
+  fit->cov = calloc(p * p, sizeof *fit->cov);
+  fit->aliased = calloc(p, sizeof *fit->aliased);
+  if (!fit->coef || !fit->se || !fit->robust_se || !fit->cov || !fit->aliased) {
+    sl_fit_free(fit);
+    return -1;
+  }
+  return 0;
+}
+
+/* The p x p workspaces shared by both fits: R, its inverse, the sandwich
+** meat in the coordinates of X R^-1, and one scratch matrix. */
+typedef struct fitws {
+  gsl_matrix *R, *Ri, *Mz, *W;
+  gsl_vector *c;
+} fitws;
+
+static void fitws_free(fitws *w) {
+  if (w->R) gsl_matrix_free(w->R);
+  if (w->Ri) gsl_matrix_free(w->Ri);
+  if (w->Mz) gsl_matrix_free(w->Mz);
+  if (w->W) gsl_matrix_free(w->W);
+  if (w->c) gsl_vector_free(w->c);
+  memset(w, 0, sizeof *w);
+}
+
+static int fitws_init(fitws *w, size_t p) {
+  w->R = gsl_matrix_alloc(p, p);
+  w->Ri = gsl_matrix_alloc(p, p);
+  w->Mz = gsl_matrix_alloc(p, p);
+  w->W = gsl_matrix_alloc(p, p);
+  w->c = gsl_vector_alloc(p);
+  if (!w->R || !w->Ri || !w->Mz || !w->W || !w->c) { fitws_free(w); return -1; }
+  return 0;
+}
+
+/* Solve R b = c from the accumulated factor into b (p entries). */
+static void solve_coef(const qracc *a, fitws *w, double *b) {
+  qracc_R(a, w->R);
+  for (size_t j = 0; j < a->p; j++) gsl_vector_set(w->c, j, qracc_get(a, j, a->p));
+  gsl_blas_dtrsv(CblasUpper, CblasNoTrans, CblasNonUnit, w->R, w->c);
+  for (size_t j = 0; j < a->p; j++) b[j] = gsl_vector_get(w->c, j);
+}
+
+/* Rows per level-3 call on p columns: rows x p x p stays within
+** SL_GEMM_WORK, below which OpenBLAS runs a product on one thread. */
+static size_t gemm_rows(size_t p) {
+  size_t r = SL_GEMM_WORK / (p * p);
+  return r ? r : 1;
+}
+
+/* Z = X_b R^-1 for the k rows of X at Xb (Ri holds R^-1). */
+static void block_to_z(qracc *a, const fitws *w, const double *Xb, size_t k) {
+  size_t p = a->p, c = gemm_rows(p);
+  for (size_t r0 = 0; r0 < k; r0 += c) {
+    size_t kr = k - r0 < c ? k - r0 : c;
+    gsl_matrix_const_view Xv = gsl_matrix_const_view_array(Xb + r0 * p, kr, p);
+    gsl_matrix_view Z = gsl_matrix_submatrix(a->Z, r0, 0, kr, p);
+    gsl_blas_dgemm(CblasNoTrans, CblasNoTrans, 1.0, &Xv.matrix, w->Ri, 0.0, &Z.matrix);
+  }
+}
+
+/* Mz += Z' Z for the first k (already scaled) rows of Z. */
+static void block_meat(qracc *a, fitws *w, size_t k) {
+  size_t p = a->p, c = gemm_rows(p);
+  for (size_t r0 = 0; r0 < k; r0 += c) {
+    size_t kr = k - r0 < c ? k - r0 : c;
+    gsl_matrix_view Z = gsl_matrix_submatrix(a->Z, r0, 0, kr, p);
+    gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, &Z.matrix, &Z.matrix, 1.0, w->Mz);
+  }
+}
+
+/* C = A op(B), a few rows of A at a time (see gemm_rows). */
+static void mul_rows(const gsl_matrix *A, CBLAS_TRANSPOSE_t tb, const gsl_matrix *B,
+                     gsl_matrix *C) {
+  size_t c = gemm_rows(A->size2);
+  for (size_t r0 = 0; r0 < A->size1; r0 += c) {
+    size_t kr = A->size1 - r0 < c ? A->size1 - r0 : c;
+    gsl_matrix_const_view Ar = gsl_matrix_const_submatrix(A, r0, 0, kr, A->size2);
+    gsl_matrix_view Cr = gsl_matrix_submatrix(C, r0, 0, kr, C->size2);
+    gsl_blas_dgemm(CblasNoTrans, tb, 1.0, &Ar.matrix, B, 0.0, &Cr.matrix);
+  }
+}
+
+/* cov = scale * R^-1 R^-T and robust = R^-1 Mz R^-T into the fit, with the
+** standard errors; Ri must hold R^-1. */
+static void finish_cov(fitws *w, sl_fit *fit, double scale, int robust_ok) {
+  size_t p = fit->p;
+  mul_rows(w->Ri, CblasTrans, w->Ri, w->W);
+  for (size_t i = 0; i < p; i++)
+    for (size_t j = 0; j < p; j++) fit->cov[i * p + j] = scale * gsl_matrix_get(w->W, i, j);
+  mul_rows(w->Ri, CblasNoTrans, w->Mz, w->W);
+  mul_rows(w->W, CblasTrans, w->Ri, w->Mz);
+  for (size_t j = 0; j < p; j++) {
+    fit->se[j] = sqrt(fit->cov[j * p + j]);
+    fit->robust_se[j] = robust_ok ? sqrt(gsl_matrix_get(w->Mz, j, j)) : NAN;
+  }
+}
+
+/* Check that R has full rank; otherwise an SL_EARG error naming the
+** aliased columns. */
+static int check_rank(const gsl_matrix *R, const char *const *names, int *alias, sl_error *e) {
+  char msg[SL_MSG_MAX];
+  size_t k = find_aliased(R, names, alias, msg, sizeof msg);
+  if (k == (size_t)-1) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  if (k > 0) return sl_error_set(e, SL_EARG, 0, 0, "%s", msg);
+  return SL_OK;
+}
+
+/* An error naming a non-finite value of X. */
+static int bad_x(sl_error *e, const char *const *names, size_t i, size_t j) {
+  char nm[128];
+  colname(nm, sizeof nm, names, j);
+  return sl_error_set(e, SL_EARG, 0, 0, "row %zu, column %s: not a finite number", i + 1, nm);
+}
+
+/* Checks common to both fits. */
+static int check_args(const char *fn, const double *X, const double *y, size_t n, size_t p,
+                      sl_fit *fit, sl_error *e) {
+  if (!fit) return sl_error_set(e, SL_EARG, 0, 0, "%s: no fit record given", fn);
+  memset(fit, 0, sizeof *fit);
+  if (!X || !y) return sl_error_set(e, SL_EARG, 0, 0, "%s: no data given", fn);
+  if (p == 0) return sl_error_set(e, SL_EARG, 0, 0, "%s: the design matrix has no columns", fn);
+  if (n < p)
+    return sl_error_set(e, SL_EARG, 0, 0,
+                        "%s: %zu rows for %zu columns: need at least as many rows as columns",
+                        fn, n, p);
+  if (p > ((size_t)-1 / sizeof(double)) / p)
+    return sl_error_set(e, SL_ELIMIT, 0, 0, "%s: too many columns (%zu)", fn, p);
+  return SL_OK;
+}
+
+/* ---- least squares ---- */
+
+int sl_ols(const double *X, const double *y, size_t n, size_t p,
+           const char *const *names, sl_fit *fit, sl_error *e) {
+  int rc = check_args("ols", X, y, n, p, fit, e);
+  if (rc) return rc;
+  qracc a;
+  fitws w;
+  memset(&a, 0, sizeof a);
+  memset(&w, 0, sizeof w);
+  int *ones = malloc(p * sizeof *ones);
+  if (!ones || fit_alloc(fit, n, p) || qracc_init(&a, p, n) || fitws_init(&w, p)) {
+    rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+    goto done;
+  }
+  /* pass 1: factor [X y], find columns of ones, sum y */
+  for (size_t j = 0; j < p; j++) ones[j] = 1;
+  double ysum = 0;
+  size_t tda = a.B->tda;
+  for (size_t i0 = 0; i0 < n; i0 += a.m) {
+    size_t k = n - i0 < a.m ? n - i0 : a.m;
+    double part = 0;
+    for (size_t r = 0; r < k; r++) {
+      size_t i = i0 + r;
+      const double *row = X + i * p;
+      double *dst = qracc_slot(&a, r);
+      for (size_t j = 0; j < p; j++) {
+        if (!isfinite(row[j])) { rc = bad_x(e, names, i, j); goto done; }
+        if (row[j] != 1.0) ones[j] = 0;
+        dst[j * tda] = row[j];
+      }
+      if (!isfinite(y[i])) {
+        rc = sl_error_set(e, SL_EARG, 0, 0, "row %zu: the outcome is not a finite number", i + 1);
+        goto done;
+      }
+      dst[p * tda] = y[i];
+      part += y[i];
+    }
+    ysum += part;
+    qracc_fold(&a, k);
+  }
+  qracc_R(&a, w.R);
+  if ((rc = check_rank(w.R, names, fit->aliased, e))) goto done;
+  solve_coef(&a, &w, fit->coef);
+  gsl_matrix_memcpy(w.Ri, w.R);
+  gsl_linalg_tri_invert(CblasUpper, CblasNonUnit, w.Ri);
+
+  /* pass 2: residuals, leverages h_i = |z_i|^2 with z_i' = x_i' R^-1, and
+  ** the HC3 meat sum (e_i / (1 - h_i))^2 z_i z_i' */
+  int intercept = 0;
+  for (size_t j = 0; j < p; j++) intercept |= ones[j];
+  double ybar = ysum / (double)n, rss = 0, tss = 0;
+  int lev1 = 0;
+  gsl_matrix_set_zero(w.Mz);
+  for (size_t i0 = 0; i0 < n; i0 += a.m) {
+    size_t k = n - i0 < a.m ? n - i0 : a.m;
+    double prss = 0, ptss = 0;
+    block_to_z(&a, &w, X + i0 * p, k);
+    for (size_t r = 0; r < k; r++) {
+      const double *row = X + (i0 + r) * p;
+      double *z = gsl_matrix_ptr(a.Z, r, 0), fit_i = 0, h = 0, f = 0;
+      for (size_t j = 0; j < p; j++) { fit_i += row[j] * fit->coef[j]; h += z[j] * z[j]; }
+      double res = y[i0 + r] - fit_i, d = intercept ? y[i0 + r] - ybar : y[i0 + r];
+      prss += res * res;
+      ptss += d * d;
+      if (1 - h <= 1e-10) lev1 = 1;   /* leverage 1: HC3 undefined */
+      else f = fabs(res) / (1 - h);
+      for (size_t j = 0; j < p; j++) z[j] *= f;
+    }
+    rss += prss;
+    tss += ptss;
+    block_meat(&a, &w, k);
+  }
+  size_t df = n - p;
+  fit->rank = p;
+  fit->rss = rss;
+  fit->sigma = df > 0 ? sqrt(rss / (double)df) : NAN;
+  fit->r2 = 1 - rss / tss;
+  fit->adj_r2 = df > 0 ? 1 - (double)(n - (size_t)intercept) / (double)df * (rss / tss) : NAN;
+  fit->deviance = rss;
+  fit->loglik = -0.5 * (double)n * (log(2 * M_PI * rss / (double)n) + 1);
+  fit->iterations = 1;
+  fit->converged = 1;
+  finish_cov(&w, fit, fit->sigma * fit->sigma, !lev1 && df > 0);
+done:
+  free(ones);
+  qracc_free(&a);
+  fitws_free(&w);
+  if (rc) sl_fit_free(fit);
+  return rc;
+}
+
+/* ---- logistic regression ---- */
+
+/* The logistic function at eta: mu, 1 - mu, and log(1 + exp(-|eta|)), each
+** to full relative accuracy (so log mu and log(1 - mu) lose nothing). */
+static void logistic(double eta, double *mu, double *omu, double *l1) {
+  double t = exp(-fabs(eta)), u = 1 / (1 + t);
+  if (eta >= 0) { *mu = u; *omu = t * u; }
+  else { *mu = t * u; *omu = u; }
+  if (l1) *l1 = log1p(t);
+}
+
+/* x log x with 0 log 0 = 0. */
+static double xlogx(double x) { return x > 0 ? x * log(x) : 0; }
+
+typedef struct logit_ctx {
+  const double *X, *y, *w;
+  size_t n, p;
+  qracc *a;
+  fitws *ws;
+} logit_ctx;
+
+typedef struct logit_pass_out {
+  double dev, ll;
+  size_t extreme;   /* rows with a fitted probability within SL_EXTREME of 0 or 1 */
+} logit_pass_out;
+
+enum { PASS_NEWTON, PASS_SANDWICH };
+
+/* One pass over the rows at coefficients b.  PASS_NEWTON folds the weighted
+** least squares problem of the Newton step from b (rows sqrt(W_i) x_i,
+** right-hand side sqrt(W_i) z_i, W_i = w_i mu_i (1 - mu_i), working
+** response z_i = eta_i + (y_i - mu_i) / (mu_i (1 - mu_i))) into the factor;
+** PASS_SANDWICH adds the HC0 meat, rows w_i (y_i - mu_i) x_i' R^-1, to
+** ws->Mz (ws->Ri holding R^-1).  Both give the deviance and
+** log-likelihood at b. */
+static void logit_pass(const logit_ctx *c, const double *b, int kind, logit_pass_out *o) {
+  qracc *a = c->a;
+  size_t p = c->p, tda = a->B->tda;
+  double dev = 0, ll = 0;
+  o->extreme = 0;
+  if (kind == PASS_NEWTON) qracc_reset(a);
+  else gsl_matrix_set_zero(c->ws->Mz);
+  for (size_t i0 = 0; i0 < c->n; i0 += a->m) {
+    size_t k = c->n - i0 < a->m ? c->n - i0 : a->m;
+    double pdev = 0, pll = 0;
+    if (kind == PASS_SANDWICH) block_to_z(a, c->ws, c->X + i0 * p, k);
+    for (size_t r = 0; r < k; r++) {
+      size_t i = i0 + r;
+      const double *row = c->X + i * p;
+      double wi = c->w ? c->w[i] : 1, yi = c->y[i], eta = 0, mu, omu, l1;
+      for (size_t j = 0; j < p; j++) eta += row[j] * b[j];
+      logistic(eta, &mu, &omu, &l1);
+      /* log mu = -(l1 + max(-eta, 0)), log(1 - mu) = -(l1 + max(eta, 0)) */
+      double lli = wi == 0 ? 0 : -wi * (l1 + (eta < 0 ? -yi * eta : (1 - yi) * eta));
+      double resid = yi == 1 ? omu : (yi == 0 ? -mu : yi * omu - (1 - yi) * mu);
+      pll += lli;
+      pdev -= 2 * lli;
+      if (yi != 0 && yi != 1) pdev += 2 * wi * (xlogx(yi) + xlogx(1 - yi));
+      if (wi > 0 && (mu < SL_EXTREME || omu < SL_EXTREME)) o->extreme++;
+      if (kind == PASS_NEWTON) {
+        double *dst = qracc_slot(a, r), v = mu * omu, s = 0, t = 0;
+        if (wi > 0) {
+          if (v < DBL_EPSILON) v = DBL_EPSILON;
+          s = sqrt(wi * v);
+          t = s * eta + sqrt(wi / v) * resid;
+        }
+        for (size_t j = 0; j < p; j++) dst[j * tda] = s * row[j];
+        dst[p * tda] = t;
+      } else {
+        double *z = gsl_matrix_ptr(a->Z, r, 0), f = wi * resid;
+        for (size_t j = 0; j < p; j++) z[j] *= f;
+      }
+    }
+    dev += pdev;
+    ll += pll;
+    if (kind == PASS_NEWTON) qracc_fold(a, k);
+    else block_meat(a, c->ws, k);
+  }
+  o->dev = dev;
+  o->ll = ll;
+}
+
+/* Append "; " unless warn is empty. */
+static void warn_sep(char *warn, size_t size) {
+  if (warn[0]) cat(warn, size, "; ");
+}
+
+/* The convergence report: non-convergence, and separation with the
+** columns whose coefficients still move by more than SL_DRIFT on the
+** linear predictor per iteration (and by a tenth of the largest move). */
+static void logit_report(char *wbuf, size_t size, const char *const *names, size_t p,
+                         const double *step, const double *xmax, int converged, int stuck,
+                         int it, const logit_pass_out *o, double wsum) {
+  size_t *drift = malloc(p * sizeof *drift), nd = 0;
+  double top = 0;
+  for (size_t j = 0; j < p; j++)
+    if (fabs(step[j]) * xmax[j] > top) top = fabs(step[j]) * xmax[j];
+  if (drift)
+    for (size_t j = 0; j < p; j++) {
+      double d = fabs(step[j]) * xmax[j];
+      if (d > SL_DRIFT && d >= 0.1 * top) drift[nd++] = j;
+    }
+  if (stuck && !isfinite(o->dev)) {
+    cat(wbuf, size, "step-halving failed after %d iterations", it);
+  } else if (!converged) {
+    cat(wbuf, size, "did not converge in %d iteration%s", it, it == 1 ? "" : "s");
+    if (nd > 0 && o->extreme == 0) {
+      cat(wbuf, size, " (still changing: ");
+      cat_list(wbuf, size, names, drift, nd);
+      cat(wbuf, size, ")");
+    }
+  }
+  if (o->extreme > 0 || (converged && nd > 0)) {
+    const char *rows = o->extreme == 1 ? "row" : "rows";
+    warn_sep(wbuf, size);
+    if (nd > 0) {
+      int complete = o->dev <= 1e-8 * (wsum > 1 ? wsum : 1);
+      cat(wbuf, size, "%s separation: ", complete ? "complete" : "quasi-complete");
+      if (o->extreme > 0)
+        cat(wbuf, size, "fitted probabilities numerically 0 or 1 in %zu %s; ", o->extreme, rows);
+      cat(wbuf, size, "the coefficient%s of ", nd > 1 ? "s" : "");
+      cat_list(wbuf, size, names, drift, nd);
+      cat(wbuf, size, " grow%s without bound", nd > 1 ? "" : "s");
+    } else {
+      cat(wbuf, size, "fitted probabilities numerically 0 or 1 in %zu %s", o->extreme, rows);
+    }
+  }
+  free(drift);
+}
+
+int sl_logit(const double *X, const double *y, const double *w, size_t n, size_t p,
+             const char *const *names, int max_iter, double tol, sl_fit *fit,
+             char *warn, size_t warnsize, sl_error *e) {
+  char wbuf[SL_MSG_MAX];
+  wbuf[0] = '\0';
+  if (warn && warnsize) warn[0] = '\0';
+  int rc = check_args("logit", X, y, n, p, fit, e);
+  if (rc) return rc;
+  if (max_iter <= 0) max_iter = 50;
+  if (!(tol > 0)) tol = 1e-10;
+  /* the outcome and weights */
+  size_t npos = 0;
+  double wsum = 0;
+  for (size_t i = 0; i < n; i++) {
+    double wi = w ? w[i] : 1;
+    if (!isfinite(y[i]) || y[i] < 0 || y[i] > 1)
+      return sl_error_set(e, SL_EARG, 0, 0,
+                          "row %zu: the outcome must be 0 or 1 (or a proportion), not %g",
+                          i + 1, y[i]);
+    if (!isfinite(wi) || wi < 0)
+      return sl_error_set(e, SL_EARG, 0, 0,
+                          "row %zu: a weight must be finite and non-negative, not %g", i + 1, wi);
+    if (wi > 0) npos++;
+    wsum += wi;
+  }
+  if (npos < p)
+    return sl_error_set(e, SL_EARG, 0, 0,
+                        "logit: %zu rows with positive weight for %zu columns", npos, p);
+  qracc a;
+  fitws ws;
+  memset(&a, 0, sizeof a);
+  memset(&ws, 0, sizeof ws);
+  double *b = calloc(p, sizeof *b), *bn = calloc(p, sizeof *bn);
+  double *step = calloc(p, sizeof *step), *xmax = calloc(p, sizeof *xmax);
+  if (!b || !bn || !step || !xmax || fit_alloc(fit, n, p) || qracc_init(&a, p, n) ||
+      fitws_init(&ws, p)) {
+    rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+    goto done;
+  }
+  /* X finite; the largest |x_ij| of each column over rows in the fit */
+  for (size_t i = 0; i < n; i++) {
+    const double *row = X + i * p;
+    int in = !w || w[i] > 0;
+    for (size_t j = 0; j < p; j++) {
+      if (!isfinite(row[j])) { rc = bad_x(e, names, i, j); goto done; }
+      if (in && fabs(row[j]) > xmax[j]) xmax[j] = fabs(row[j]);
+    }
+  }
+  logit_ctx c = {X, y, w, n, p, &a, &ws};
+  logit_pass_out o, on;
+  logit_pass(&c, b, PASS_NEWTON, &o);   /* at b = 0 */
+  qracc_R(&a, ws.R);
+  if ((rc = check_rank(ws.R, names, fit->aliased, e))) goto done;
+  int it = 0, converged = 0, stuck = 0;
+  while (it < max_iter) {
+    solve_coef(&a, &ws, bn);
+    it++;
+    logit_pass(&c, bn, PASS_NEWTON, &on);
+    double rel = fabs(on.dev - o.dev) / (fabs(on.dev) + 0.1);
+    int h = 0;
+    while ((!isfinite(on.dev) || (on.dev > o.dev && rel >= tol)) && h < SL_HALVINGS) {
+      for (size_t j = 0; j < p; j++) bn[j] = 0.5 * (bn[j] + b[j]);
+      logit_pass(&c, bn, PASS_NEWTON, &on);
+      rel = fabs(on.dev - o.dev) / (fabs(on.dev) + 0.1);
+      h++;
+    }
+    if (!isfinite(on.dev) || (on.dev > o.dev && rel >= tol)) {
+      /* no step along the Newton direction lowers the deviance */
+      logit_pass(&c, b, PASS_NEWTON, &o);
+      stuck = 1;
+      break;
+    }
+    for (size_t j = 0; j < p; j++) { step[j] = bn[j] - b[j]; b[j] = bn[j]; }
+    o = on;
+    if (rel < tol) { converged = 1; break; }
+  }
+  /* covariances at the final b, whose factor the last pass left */
+  qracc_R(&a, ws.R);
+  for (size_t j = 0; j < p; j++) fit->coef[j] = b[j];
+  gsl_matrix_memcpy(ws.Ri, ws.R);
+  gsl_linalg_tri_invert(CblasUpper, CblasNonUnit, ws.Ri);
+  logit_pass_out os;
+  logit_pass(&c, b, PASS_SANDWICH, &os);
+  finish_cov(&ws, fit, 1.0, 1);
+  fit->rank = p;
+  fit->loglik = o.ll;
+  fit->deviance = o.dev;
+  fit->iterations = it;
+  fit->converged = converged || (stuck && isfinite(o.dev));
+  fit->r2 = fit->adj_r2 = fit->sigma = fit->rss = NAN;
+  logit_report(wbuf, sizeof wbuf, names, p, step, xmax, fit->converged, stuck, it, &o, wsum);
+  if (warn && warnsize) snprintf(warn, warnsize, "%s", wbuf);
+done:
+  free(b); free(bn); free(step); free(xmax);
+  qracc_free(&a);
+  fitws_free(&ws);
+  if (rc) sl_fit_free(fit);
+  return rc;
+}
+
+/* ---- prediction ---- */
+
+void sl_predict(const sl_fit *fit, const double *X, size_t n, int prob, double *out) {
+  if (!fit || !fit->coef || !X || !out) return;
+  size_t p = fit->p;
+  for (size_t i = 0; i < n; i++) {
+    const double *row = X + i * p;
+    double eta = 0;
+    for (size_t j = 0; j < p; j++) eta += row[j] * fit->coef[j];
+    if (prob) {
+      double mu, omu;
+      logistic(eta, &mu, &omu, NULL);
+      out[i] = mu;
+    } else {
+      out[i] = eta;
+    }
+  }
+}
