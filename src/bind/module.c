@@ -7,6 +7,7 @@
 #include "bind.h"
 #include "embedded.h"
 #include "bind_frame.h"
+#include <gsl/gsl_errno.h>
 
 #ifndef SLUICE_VERSION
 #define SLUICE_VERSION "unknown"
@@ -42,6 +43,9 @@ static void require(lua_State *L, const char *name) {
 
 int luaopen_sluice(lua_State *L) {
   luaL_checkversion(L);
+  /* GSL's default handler aborts the process; the library checks the
+  ** status codes instead */
+  gsl_set_error_handler_off();
   preload(L);
   lua_newtable(L);                          /* the module */
   /* metatables of result values, handed to the Lua layer to dress */
