@@ -34,6 +34,7 @@ int32_t *sl_bind_checkset(lua_State *L, const sl_graph *g, int arg, size_t *n,
 int sl_open_graph(lua_State *L);   /* registers the graph functions */
 int sl_open_adjust(lua_State *L);  /* adds trails and adjustment methods */
 int sl_open_stats(lua_State *L);   /* models, estimators, pictures (raw) */
+int sl_open_sem(lua_State *L);     /* linear structural models */
 
 /* Set when the user asks to stop a long computation (the shell's SIGINT
 ** handler); library loops poll it. */

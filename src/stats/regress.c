@@ -19,11 +19,13 @@
 ** others are refactored without it (limited pivoting: aliased columns are
 ** reported in their own order, the first of a collinear group being kept).
 **
-** Every BLAS call works on one block of about SL_QR_BLOCK_WORK / (p+1)
-** rows, which keeps OpenBLAS on one thread for p up to about 40, and every
-** other sum runs in row order, so results are bit-identical for given inputs
-** whatever the thread count (for wider designs this rests on how OpenBLAS
-** splits its threaded kernels).  GSL's error handler is never reached:
+** Threads: OpenBLAS runs a product on one thread below a size threshold
+** and may change its bits above it.  So every BLAS call here is kept small:
+** the factorization works on blocks of about SL_QR_BLOCK_WORK / (p+1) rows,
+** matrix products on a few rows at a time (SL_GEMM_WORK), R^-1 comes from
+** triangular solves, and every other sum runs in row order.  Results are
+** bit-identical for given inputs whatever the thread count, for p up to
+** 512 (checked in test_regress).  GSL's error handler is never reached:
 ** sizes are checked here and no factor with a zero diagonal is inverted.
 */
 #include <float.h>
@@ -179,7 +181,7 @@ static size_t find_aliased(const gsl_matrix *R, const char *const *names, int *a
       gsl_vector_view dst = gsl_matrix_column(&Mv.matrix, k);
       gsl_vector_memcpy(&dst.vector, &src.vector);
     }
-    gsl_linalg_QR_decomp_r(&Mv.matrix, &Tv.matrix);
+    if (ncols < p) gsl_linalg_QR_decomp_r(&Mv.matrix, &Tv.matrix);   /* else M = R */
     size_t k = 0;
     while (k < ncols && norm[cols[k]] > 0 &&
            fabs(gsl_matrix_get(M, k, k)) > SL_RANK_TOL * norm[cols[k]])
@@ -284,6 +286,18 @@ static void solve_coef(const qracc *a, fitws *w, double *b) {
   for (size_t j = 0; j < a->p; j++) gsl_vector_set(w->c, j, qracc_get(a, j, a->p));
   gsl_blas_dtrsv(CblasUpper, CblasNoTrans, CblasNonUnit, w->R, w->c);
   for (size_t j = 0; j < a->p; j++) b[j] = gsl_vector_get(w->c, j);
+}
+
+/* Ri = R^-1, column by column with triangular solves (level 2 BLAS, which
+** OpenBLAS runs on one thread, so the bits never depend on the thread
+** count; p^3 flops, nothing beside a pass over X). */
+static void invert_R(fitws *w) {
+  size_t p = w->R->size1;
+  gsl_matrix_set_identity(w->Ri);
+  for (size_t j = 0; j < p; j++) {
+    gsl_vector_view v = gsl_matrix_column(w->Ri, j);
+    gsl_blas_dtrsv(CblasUpper, CblasNoTrans, CblasNonUnit, w->R, &v.vector);
+  }
 }
 
 /* Rows per level-3 call on p columns: rows x p x p stays within
@@ -418,8 +432,7 @@ int sl_ols(const double *X, const double *y, size_t n, size_t p,
   qracc_R(&a, w.R);
   if ((rc = check_rank(w.R, names, fit->aliased, e))) goto done;
   solve_coef(&a, &w, fit->coef);
-  gsl_matrix_memcpy(w.Ri, w.R);
-  gsl_linalg_tri_invert(CblasUpper, CblasNonUnit, w.Ri);
+  invert_R(&w);
 
   /* pass 2: residuals, leverages h_i = |z_i|^2 with z_i' = x_i' R^-1, and
   ** the HC3 meat sum (e_i / (1 - h_i))^2 z_i z_i' */
@@ -675,8 +688,7 @@ int sl_logit(const double *X, const double *y, const double *w, size_t n, size_t
   /* covariances at the final b, whose factor the last pass left */
   qracc_R(&a, ws.R);
   for (size_t j = 0; j < p; j++) fit->coef[j] = b[j];
-  gsl_matrix_memcpy(ws.Ri, ws.R);
-  gsl_linalg_tri_invert(CblasUpper, CblasNonUnit, ws.Ri);
+  invert_R(&ws);
   logit_pass_out os;
   logit_pass(&c, b, PASS_SANDWICH, &os);
   finish_cov(&ws, fit, 1.0, 1);
