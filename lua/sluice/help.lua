@@ -14,6 +14,7 @@ H.topics = {
   {"adjust",    "Trails, separation and adjustment sets"},
   {"data",      "Data frames"},
   {"estimate",  "Models and effect estimates"},
+  {"model",     "Models with a known truth, and the comparison"},
   {"picture",   "Pictures and text views"},
   {"session",   "The session"},
 }
@@ -223,6 +224,74 @@ flagged (common practice; Austin 2009).]],
 with plot = "file.svg" (or .png, .pdf) a picture. Propensities outside
 [0.01, 0.99] are counted and warned about (common practice).]],
     example = [[overlap{data = plots, treatment = "mulch", set = {"slope"}, plot = "overlap.svg"}]] },
+  { name = "sem", topic = "model",
+    sig = "sem(g, coefs, opts)",
+    brief = "A linear structural model on a graph",
+    returns = "a model m",
+    summary = [[A linear structural equation model on graph g: coefs gives each arrow's
+coefficient, keyed as in the notation (["rain -> soil"] = 0.5; opts.default
+fills the rest). opts: intercept = {node = value}, sd = {node = value} (the
+noise SD, default 1), cov = {["a <-> b"] = value} for each <-> edge (the
+error covariance must be positive definite), binarize = {node = cut},
+binary = {node, ...} (a logistic link). Hidden nodes take part in the model
+and are left out of simulated data.]],
+    example = [=[m = sem(g, {["mulch -> harvest"] = 1.5}, {default = 0.4, sd = {harvest = 2}})]=] },
+  { name = "m:effect", topic = "model",
+    sig = "m:effect(x, y, {draws=, seed=})",
+    brief = "The true total effect of x on y",
+    returns = "a number (or a Monte Carlo value and its SE)",
+    summary = [[The total effect [(I - B)^-1]_yx: the sum over directed paths of the products
+of their coefficients. With binary or binarized nodes the closed form does
+not hold: give draws = N for a Monte Carlo value (setting x to 1 versus 0,
+or adding 1) with its standard error.]],
+    example = [[m:effect("mulch", "harvest")]] },
+  { name = "m:cov", topic = "model",
+    sig = "m:cov()",
+    brief = "The implied covariance of the observed nodes",
+    returns = "a table keyed by node names (with .names in order)",
+    summary = "The covariance matrix (I - B)^-1 Omega (I - B)^-T restricted to the observed nodes.",
+    example = [[m:cov().harvest.mulch]] },
+  { name = "m:limit", topic = "model",
+    sig = "m:limit(x, y, set, {draws=})",
+    brief = "What a set's regression coefficient converges to",
+    returns = "a number (or a Monte Carlo value and its SE)",
+    summary = [[The value the least-squares coefficient of x in a regression of y on x and the
+set converges to, computed exactly from the implied covariance: the
+large-sample bias of each adjustment set, with no sampling at all.]],
+    example = [[m:limit("mulch", "harvest", {"slope"})]] },
+  { name = "m:simulate", topic = "model",
+    sig = "m:simulate(n, {seed=, binarize=, threads=})",
+    brief = "Simulated data from the model",
+    returns = "a data frame of the observed nodes",
+    summary = [[n rows drawn with GSL's generators, identical for a seed on any machine and
+any number of threads. binarize = {node = cut} turns the node into 1 above
+the cut and 0 otherwise before its children see it (and the model then
+describes binarized data: m:effect and m:limit need draws =).]],
+    example = [[d = m:simulate(10000, {seed = 42, binarize = {mulch = 0}})]] },
+  { name = "m:graph", topic = "model",
+    sig = "m:graph()",
+    brief = "The graph of the model",
+    returns = "a graph",
+    summary = "The graph the model was built on.",
+    example = [[m:graph():show()]] },
+  { name = "m:exact", topic = "model",
+    sig = "m:exact()",
+    brief = "Whether the closed forms hold",
+    returns = "a boolean",
+    summary = "False once the model has binary or binarized nodes.",
+    example = [[m:exact()]] },
+  { name = "compare", topic = "model",
+    sig = "compare{data=, graph=, treatment=, outcome=, truth=, sets=, method=, plot=}",
+    brief = "Each candidate set's estimate beside the truth",
+    returns = "a table, printed with a forest plot",
+    summary = [[The estimate under each candidate adjustment set: no adjustment, all observed
+covariates, every minimal set, the optimal set, and the sets you add. For
+each: whether the graph deems it valid (with the reason when not), the
+estimate and its interval (method as in estimate{}; boot defaults to 200
+for standardize), the error in percent of the truth (a number, or a model
+from sem()), and for a linear model m:limit. plot = "file.svg" draws the
+forest plot with the truth as a reference line.]],
+    example = [[compare{data = d, truth = m, treatment = "mulch", outcome = "harvest", plot = "sets.svg"}]] },
   { name = "g:show", topic = "picture",
     sig = "g:show()",
     returns = "text",
@@ -259,7 +328,7 @@ for _, e in ipairs(require "sluice.help_data") do H.entries[#H.entries + 1] = e 
 local by_name = {}
 for _, e in ipairs(H.entries) do
   by_name[e.name] = e
-  local short = e.name:match("^[gfc]:(.+)$")
+  local short = e.name:match("^[gfcm]:(.+)$")
   if short then by_name[short] = by_name[short] or e end
 end
 

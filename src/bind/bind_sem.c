@@ -75,7 +75,7 @@ static void node_numbers(lua_State *L, const sl_graph *g, int opts, const char *
     int isnum;
     double x = lua_tonumberx(L, -1, &isnum);
     if (!isnum || !isfinite(x)) luaL_error(L, "sem: %s of '%s' must be a finite number", field, sl_graph_name(g, v));
-    if (positive && !(x > 0)) luaL_error(L, "sem: the %s of '%s' must be positive, got %g", field, sl_graph_name(g, v), x);
+    if (positive && !(x > 0)) luaL_error(L, "sem: the %s of '%s' must be positive, got %f", field, sl_graph_name(g, v), (lua_Number)x);
     out[v] = x;
     lua_pop(L, 1);
   }

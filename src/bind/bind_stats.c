@@ -147,7 +147,7 @@ static int l_fit(lua_State *L) {
   if (logistic) {
     for (size_t i = 0; i < d->n; i++)
       if (d->y[i] != 0 && d->y[i] != 1)
-        return luaL_error(L, "logit needs a 0/1 response; '%s' takes the value %g",
+        return luaL_error(L, "logit needs a 0/1 response; '%s' takes the value %f",
                           f->col[ycol].name, d->y[i]);
   }
   int rc = logistic ? sl_logit(d->X, d->y, NULL, d->n, d->p, d->names, 0, 0, &fit, warn,

@@ -50,7 +50,9 @@ int sl_ols(const double *X, const double *y, size_t n, size_t p,
 ** is still returned.  y in [0, 1]; max_iter <= 0 means 50; tol <= 0 means
 ** 1e-10, the bound on |dev - dev_prev| / (|dev| + 0.1).  Standard errors
 ** from the inverse Fisher information at the final coefficients; robust_se
-** the HC0 sandwich with scores w_i (y_i - mu_i) x_i. */
+** the HC0 sandwich with scores w_i (y_i - mu_i) x_i, so weights enter the
+** meat squared (statsmodels' var_weights; for frequency weights, where
+** each row stands for w_i copies, the meat would take w_i). */
 int sl_logit(const double *X, const double *y, const double *w, size_t n, size_t p,
              const char *const *names, int max_iter, double tol, sl_fit *fit,
              char *warn, size_t warnsize, sl_error *e);

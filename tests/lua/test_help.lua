@@ -16,6 +16,9 @@ test("every module function and graph method has a help entry", function()
   for name in pairs(methods) do
     eq(H.lookup("g:" .. name) ~= nil, true, "help for g:" .. name)
   end
+  for name in pairs(getmetatable(sem(graph "a -> b", {["a -> b"] = 1})).__index) do
+    eq(H.lookup("m:" .. name) ~= nil, true, "help for m:" .. name)
+  end
   for name in pairs(getmetatable(frame_sample()).methods) do
     eq(H.lookup("f:" .. name) ~= nil, true, "help for f:" .. name)
   end
@@ -24,9 +27,10 @@ end)
 test("every help entry names something that exists", function()
   local f = frame_sample()
   local kinds = {g = getmetatable(graph "a").__index, f = getmetatable(f).methods,
+                 m = getmetatable(sem(graph "a -> b", {["a -> b"] = 1})).__index,
                  c = getmetatable(f[f:names()[1]]).methods}
   for _, e in ipairs(H.entries) do
-    local k, m = e.name:match("^([gfc]):(.+)$")
+    local k, m = e.name:match("^([gfcm]):(.+)$")
     if k then eq(kinds[k][m] ~= nil, true, e.name)
     elseif e.name ~= "tostring" then eq(S[e.name] ~= nil, true, e.name) end
   end
