@@ -112,6 +112,7 @@ docs: all
 demo: deps
 	@$(MAKE) --no-print-directory all
 	$(B)/sluice examples/orchard.lua
+	$(B)/sluice examples/hedgerows.lua
 
 install: all
 	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(CMODDIR) \

@@ -385,7 +385,7 @@ static int l_tostring(lua_State *L) {
       terms++;
     }
     if (m->logistic[i]) sl_buf_adds(&out, terms ? "  (binary: logistic link)" : "0  (binary: logistic link)");
-    else sl_buf_addf(&out, "%s e (sd %g)", terms ? " +" : "", sqrt(m->omega[i * n + i]));
+    else sl_buf_addf(&out, "%se (sd %g)", terms ? " + " : "", sqrt(m->omega[i * n + i]));
     if (!isnan(m->cut[i])) sl_buf_addf(&out, ", then 1 if above %g else 0", m->cut[i]);
     if (!m->observed[i]) sl_buf_adds(&out, "   [hidden]");
     sl_buf_adds(&out, "\n");
