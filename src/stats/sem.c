@@ -21,6 +21,7 @@ void sl_sem_free(sl_sem *m) {
   if (m->names) for (size_t i = 0; i < m->n; i++) free(m->names[i]);
   free(m->names); free(m->observed); free(m->B); free(m->a); free(m->omega);
   free(m->chol); free(m->cut); free(m->logistic); free(m->order);
+  free(m->poff); free(m->loff); free(m->pidx); free(m->lidx); free(m->pval); free(m->lval);
   memset(m, 0, sizeof *m);
 }
 
@@ -108,6 +109,28 @@ int sl_sem_init(sl_sem *m, size_t n, const char *const *names,
     sl_sem_free(m);
     return rc;
   }
+  for (size_t i = 0; i < n; i++) m->any_logistic |= m->logistic[i];
+  /* the sparse forms */
+  size_t np = 0, nl = 0;
+  for (size_t i = 0; i < n * n; i++) { np += m->B[i] != 0; nl += m->chol[i] != 0; }
+  m->poff = malloc((n + 1) * sizeof *m->poff); m->loff = malloc((n + 1) * sizeof *m->loff);
+  m->pidx = malloc((np ? np : 1) * sizeof *m->pidx); m->pval = malloc((np ? np : 1) * sizeof *m->pval);
+  m->lidx = malloc((nl ? nl : 1) * sizeof *m->lidx); m->lval = malloc((nl ? nl : 1) * sizeof *m->lval);
+  if (!m->poff || !m->loff || !m->pidx || !m->pval || !m->lidx || !m->lval) {
+    sl_sem_free(m);
+    return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  }
+  np = nl = 0;
+  for (size_t i = 0; i < n; i++) {
+    m->poff[i] = (uint32_t)np;
+    m->loff[i] = (uint32_t)nl;
+    for (size_t j = 0; j < n; j++) {
+      if (m->B[i * n + j] != 0) { m->pidx[np] = (int32_t)j; m->pval[np++] = m->B[i * n + j]; }
+      if (m->chol[i * n + j] != 0) { m->lidx[nl] = (int32_t)j; m->lval[nl++] = m->chol[i * n + j]; }
+    }
+  }
+  m->poff[n] = (uint32_t)np;
+  m->loff[n] = (uint32_t)nl;
   return SL_OK;
 }
 
@@ -210,10 +233,12 @@ static uint64_t mix(uint64_t seed, uint64_t k) {
 }
 
 /* Draw the random parts of one row: standard normals z (n) and uniforms
-** u (n; used by logistic nodes). */
-static void draw(gsl_rng *r, size_t n, double *z, double *u) {
+** u (n; used by logistic nodes only). */
+static void draw(const sl_sem *m, gsl_rng *r, double *z, double *u) {
+  size_t n = m->n;
   for (size_t i = 0; i < n; i++) z[i] = gsl_ran_gaussian_ziggurat(r, 1.0);
-  for (size_t i = 0; i < n; i++) u[i] = gsl_rng_uniform(r);
+  if (m->any_logistic)   /* uniforms only when a node needs them */
+    for (size_t i = 0; i < n; i++) u[i] = gsl_rng_uniform(r);
 }
 
 /* Solve the system for one row.  fix >= 0 sets node fix to the value
@@ -224,12 +249,10 @@ static void solve_row(const sl_sem *m, const double *z, const double *u, double 
   for (size_t k = 0; k < n; k++) {
     size_t i = (size_t)m->order[k];
     double v = m->a[i];
-    const double *Bi = m->B + i * n;
-    for (size_t j = 0; j < n; j++) if (Bi[j] != 0) v += Bi[j] * x[j];
+    for (uint32_t k2 = m->poff[i]; k2 < m->poff[i + 1]; k2++) v += m->pval[k2] * x[m->pidx[k2]];
     if (m->logistic[i]) v = u[i] < 1 / (1 + exp(-v)) ? 1 : 0;
     else {
-      const double *Li = m->chol + i * n;
-      for (size_t j = 0; j <= i; j++) if (Li[j] != 0) v += Li[j] * z[j];
+      for (uint32_t k2 = m->loff[i]; k2 < m->loff[i + 1]; k2++) v += m->lval[k2] * z[m->lidx[k2]];
       if (!isnan(m->cut[i])) v = v > m->cut[i] ? 1 : 0;
     }
     if ((int)i == fix) v = shift ? v + fixval : fixval;
@@ -261,7 +284,7 @@ static void *sim_worker(void *arg) {
     gsl_rng_set(r, (unsigned long)mix(J->seed, b));
     size_t lo = b * BLOCK_ROWS, hi = lo + BLOCK_ROWS < J->rows ? lo + BLOCK_ROWS : J->rows;
     for (size_t row = lo; row < hi; row++) {
-      draw(r, n, z, u);
+      draw(m, r, z, u);
       solve_row(m, z, u, x, -1, 0, 0);
       for (size_t i = 0; i < n; i++)
         if (J->col_of[i] != (size_t)-1) J->cols[J->col_of[i]][row] = x[i];
@@ -344,7 +367,7 @@ int sl_sem_effect_mc(const sl_sem *m, int x, int y, size_t draws, uint64_t seed,
   double s = 0, s2 = 0;
   for (size_t k = 0; k < draws; k++) {
     if (k % BLOCK_ROWS == 0) gsl_rng_set(r, (unsigned long)mix(seed, k / BLOCK_ROWS));
-    draw(r, n, z, u);
+    draw(m, r, z, u);
     /* the same random parts under both interventions: common random numbers */
     if (bin) { solve_row(m, z, u, x1, x, 1, 0); solve_row(m, z, u, x0, x, 0, 0); }
     else { solve_row(m, z, u, x1, x, 1, 1); solve_row(m, z, u, x0, -1, 0, 0); }
@@ -371,7 +394,7 @@ int sl_sem_limit_mc(const sl_sem *m, int x, int y, const int *set, size_t k, siz
   double *z = buf, *u = buf + n, *xv = buf + 2 * n;
   for (size_t d = 0; d < draws; d++) {
     if (d % BLOCK_ROWS == 0) gsl_rng_set(r, (unsigned long)mix(seed, d / BLOCK_ROWS));
-    draw(r, n, z, u);
+    draw(m, r, z, u);
     solve_row(m, z, u, xv, -1, 0, 0);
     double *row = X + d * p;
     row[0] = 1;

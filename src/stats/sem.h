@@ -32,6 +32,12 @@ typedef struct sl_sem {
   unsigned char *logistic;
   int32_t *order;        /* a topological order */
   int exact;             /* no binary or binarized node: closed forms hold */
+  int any_logistic;
+  /* sparse forms for simulation: per node, its parents with coefficients
+  ** and the nonzero entries of its row of the Cholesky factor */
+  uint32_t *poff, *loff;
+  int32_t *pidx, *lidx;
+  double *pval, *lval;
 } sl_sem;
 
 /* Build: names (n), observed flags, B, a, omega are copied; order is a
