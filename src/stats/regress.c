@@ -96,7 +96,7 @@ static void qracc_reset(qracc *a) {
   gsl_matrix_set_zero(&L.matrix);
 }
 
-/* Where row r of the block goes: entry j of it is col[j * tda]. */
+/* Where row r of the block goes: its entry j is at slot[j * B->tda]. */
 static double *qracc_slot(qracc *a, size_t r) { return gsl_matrix_ptr(a->B, 0, a->q + r); }
 
 /* Fold the k rows placed in the block into the factor. */
@@ -290,7 +290,7 @@ static void solve_coef(const qracc *a, fitws *w, double *b) {
 
 /* Ri = R^-1, column by column with triangular solves (level 2 BLAS, which
 ** OpenBLAS runs on one thread, so the bits never depend on the thread
-** count; p^3 flops, nothing beside a pass over X). */
+** count; p^3 flops, little beside a pass over X). */
 static void invert_R(fitws *w) {
   size_t p = w->R->size1;
   gsl_matrix_set_identity(w->Ri);
