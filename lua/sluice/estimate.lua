@@ -222,7 +222,12 @@ function estimate_mt.__tostring(r)
   local set = {}
   for i, v in ipairs(r.set) do set[i] = P.name(v) end
   add("set", "{" .. table.concat(set, ", ") .. "}   (" .. r.set_reason .. ")")
-  add("means", string.format("%s under treatment, %s under control", fmt(r.mu1), fmt(r.mu0)))
+  if r.binary_treatment then
+    add("means", string.format("%s under treatment, %s under control", fmt(r.mu1), fmt(r.mu0)))
+  else
+    add("means", string.format("%s with the treatment raised by %s, %s as observed",
+                               fmt(r.mu1), fmt(r.contrast or 1), fmt(r.mu0)))
+  end
   if r.ess then
     add("ESS", string.format("%.1f (treated %.1f, control %.1f)", r.ess,
                              r.ess_treated, r.ess_control))
@@ -289,6 +294,7 @@ function E.estimate(a)
   local r = S._estimate(a.data, a.treatment, outcome, set, opts)
   r.method, r.estimand, r.scale = opts.method, opts.estimand, opts.scale
   r.treatment, r.outcome, r.level = a.treatment, outcome, a.level or 0.95
+  r.contrast = a.contrast
   r.set, r.set_reason = set, why
   local w = {}
   for line in (r.warnings or ""):gmatch("[^\n]+") do w[#w + 1] = line end
