@@ -6,9 +6,9 @@ B        ?= build
 CC       ?= cc
 LUA      ?= lua5.4
 PYTHON   ?= $(shell test -x /usr/bin/python3 && echo /usr/bin/python3 || echo python3)
-PKGS     := lua5.4 gsl libgvc readline sqlite3 plplot libsodium
+PKGS     := lua5.4 gsl libgvc readline sqlite3 plplot libsodium libcmark
 PKGCFLAGS = $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
-LIBLIBS   = $(shell pkg-config --libs libgvc sqlite3 plplot libsodium 2>/dev/null) -lcsv \
+LIBLIBS   = $(shell pkg-config --libs libgvc sqlite3 plplot libsodium 2>/dev/null) $(shell pkg-config --libs libcmark) -lcsv \
             -lgsl -lopenblas -lpthread -lm
 PKGLIBS   = $(shell pkg-config --libs lua5.4 readline 2>/dev/null) $(LIBLIBS)
 SANITIZE ?=

@@ -320,6 +320,46 @@ extension: .svg, .png or .pdf.]],
     returns = "a string",
     summary = "The version of sluice.",
     example = [[print(version)]] },
+  { name = "log", topic = "session",
+    sig = "log([path | false])",
+    returns = "the path of the session log, or nil",
+    summary = [[The session log: a Lua script of every input, what it printed (as "--| "
+lines) and the data files read (path, size, SHA-256, as "--@ " lines), each
+entry flushed to disk before the next prompt. The interactive shell logs to a
+new file in ./sluice-logs unless started with --no-log or --log PATH.
+log(path) starts a new log at path, log(false) stops logging, log() gives the
+current path. sluice --replay LOG re-runs a log in a sandbox and compares
+every output; sluice LOG runs it as a script.]],
+    example = [[log "orchard-session.lua"]] },
+  { name = "show", topic = "session",
+    sig = "show(...)",
+    returns = "nothing; prints",
+    summary = [[Print values the way the prompt prints an expression. The session log writes
+an expression typed at the prompt as show(expression), so that the log runs as
+a script and prints what the prompt printed.]],
+    example = [[show(graph "rain -> yield")]] },
+  { name = "report", topic = "session",
+    sig = "report(path)",
+    returns = "path",
+    summary = [[Write the session so far as a Markdown report: the metadata (version, start,
+log, data files with their SHA-256), each command in a code block with its
+output, the pictures commands drew (g:draw, plot =) as images, and the
+caution. A path ending in .html gives a self-contained page (CommonMark through
+libcmark, pictures inlined). In a replay the path must be inside --out.]],
+    example = [[report "orchard-report.html"]] },
+  { name = "exercise", topic = "session",
+    sig = "exercise{graph=, model=, treatment=, outcome=, n=, seed=, dir=, scenario=}",
+    brief = "A teaching kit: data, graph, handout and answer key",
+    returns = "a table of the files written",
+    summary = [[For teaching: writes into dir (made when missing) data.csv simulated from the
+model (m:simulate(n, {seed = seed})), graph.svg, handout.md (the scenario,
+the graph in notation, questions on which sets are valid and what each
+candidate set estimates) and key.md (the answers computed by sluice: the
+minimal and optimal sets, the true effect and the comparison table). The same
+seed gives the same files. treatment and outcome default to the graph's first
+and last nodes in causal order.]],
+    example = [=[exercise{graph = g, model = m, treatment = "mulch", outcome = "harvest",
+         n = 300, seed = 4, dir = "kit"}]=] },
 }
 
 -- The entries of the data frame functions live beside their binding.

@@ -12,8 +12,10 @@
 #include <lauxlib.h>
 #include <lualib.h>
 
+#include "log.h"
 #include "options.h"
 #include "prompt.h"
+#include "replay.h"
 #include "repl.h"
 #include "run.h"
 #include "signals.h"
@@ -86,12 +88,17 @@ static int run_file(lua_State *L, const char *path, char **args, int nargs) {
   return run_report(L, run_script(L, path, args, nargs)) == LUA_OK;
 }
 
-/* The prompt: Readline on a terminal, plain lines otherwise. */
+/* The prompt: Readline on a terminal, plain lines otherwise.  The session
+** log is on by default on a terminal, and wherever --log asks for it. */
 static void interact(lua_State *L, const sl_options *o, int tty) {
   repl R;
   if (!o->quiet)
     banner();
+  log_session_start(L);
+  if (!o->no_log && (tty || o->log_path != NULL))
+    log_start(L, o->log_path);
   repl_init(&R, L);
+  R.record = 1;
   if (tty)
     prompt_run(&R);
   else
@@ -111,6 +118,11 @@ static int pmain(lua_State *L) {
   lua_gc(L, LUA_GCRESTART);
   lua_gc(L, LUA_GCGEN, 0, 0);
   sig_init();
+  log_install(L);
+  if (o->replay != NULL) {
+    j->status = replay_run(L, o);
+    return 0;
+  }
   int ok = run_exec(L, o);
   if (ok && script > 0)
     ok = run_file(L, o->script_stdin ? NULL : j->argv[script],

@@ -25,19 +25,28 @@ static int usage_error(const char *fmt, const char *what) {
   return 2;
 }
 
-/* Handle "--log PATH" and "--log=PATH"; i moves past a separate PATH. */
-static int take_log(sl_options *o, int argc, char **argv, int *i) {
+/* Handle "--NAME PATH" and "--NAME=PATH" into *dst; i moves past a
+** separate PATH. */
+static int take_path(const char *name, const char **dst, int argc, char **argv,
+                     int *i) {
   const char *a = argv[*i];
-  if (a[5] == '=') {
-    o->log_path = a + 6;
+  size_t n = strlen(name);
+  if (a[n] == '=') {
+    *dst = a + n + 1;
   } else if (*i + 1 < argc) {
-    o->log_path = argv[++*i];
+    *dst = argv[++*i];
   } else {
-    return usage_error("option '%s' needs a path", "--log");
+    return usage_error("option '%s' needs a path", name);
   }
-  if (o->log_path[0] == '\0')
-    return usage_error("option '%s' needs a path", "--log");
+  if ((*dst)[0] == '\0')
+    return usage_error("option '%s' needs a path", name);
   return 0;
+}
+
+/* Does a name "--NAME" or "--NAME=..."? */
+static int is_opt(const char *a, const char *name) {
+  size_t n = strlen(name);
+  return strncmp(a, name, n) == 0 && (a[n] == '\0' || a[n] == '=');
 }
 
 /* Handle "-e CODE" and "-eCODE"; i moves past a separate CODE. */
@@ -65,12 +74,29 @@ static int take_option(sl_options *o, int argc, char **argv, int *i) {
     o->quiet = 1;
   else if (strcmp(a, "--no-log") == 0)
     o->no_log = 1;
-  else if (strncmp(a, "--log", 5) == 0 && (a[5] == '\0' || a[5] == '='))
-    return take_log(o, argc, argv, i);
+  else if (strcmp(a, "--trust") == 0)
+    o->trust = 1;
+  else if (strcmp(a, "--update") == 0)
+    o->update = 1;
+  else if (is_opt(a, "--log"))
+    return take_path("--log", &o->log_path, argc, argv, i);
+  else if (is_opt(a, "--replay"))
+    return take_path("--replay", &o->replay, argc, argv, i);
+  else if (is_opt(a, "--out"))
+    return take_path("--out", &o->out_dir, argc, argv, i);
   else if (strncmp(a, "-e", 2) == 0)
     return take_exec(o, argc, argv, i);
   else
     return usage_error("unknown option '%s'", a);
+  return 0;
+}
+
+/* The replay options belong together. */
+static int check_replay(sl_options *o) {
+  if (o->replay == NULL && (o->out_dir || o->trust || o->update))
+    return usage_error("%s go with --replay LOG", "--out, --trust and --update");
+  if (o->replay != NULL && (o->script || o->nexec || o->interactive))
+    return usage_error("%s takes no script, -e or -i", "--replay");
   return 0;
 }
 
@@ -87,18 +113,18 @@ int options_parse(sl_options *o, int argc, char **argv) {
     if (a[0] != '-' || strcmp(a, "-") == 0) {
       o->script = i;
       o->script_stdin = strcmp(a, "-") == 0;
-      return 0;
+      return check_replay(o);
     }
     if (strcmp(a, "--") == 0) {
       if (i + 1 < argc)
         o->script = i + 1;
-      return 0;
+      return check_replay(o);
     }
     int status = take_option(o, argc, argv, &i);
     if (status != 0)
       return status;
   }
-  return 0;
+  return check_replay(o);
 }
 
 /* Free what options_parse allocated. */
@@ -119,16 +145,21 @@ void options_usage(const char *progname) {
     "  -q           start the prompt without the banner\n"
     "  -            run standard input as the script\n"
     "  --           stop handling options; the next argument is the script\n"
-    "  --log PATH   reserved for the session log (accepted, not yet used)\n"
-    "  --no-log     reserved for the session log (accepted, not yet used)\n"
+    "  --log PATH   write the session log to PATH (the prompt logs by default\n"
+    "               to a new file in ./sluice-logs)\n"
+    "  --no-log     keep no session log\n"
+    "  --replay LOG re-run a session log and compare every output with it\n"
+    "  --out DIR    with --replay: the one folder the replayed code may write in\n"
+    "  --trust      with --replay: run the log without the sandbox\n"
+    "  --update     with --replay: rewrite the recorded outputs (old log: LOG.bak)\n"
     "  -h, --help   print this help and leave\n"
     "  --version    print the version and leave\n"
     "\n"
     "With no script and no -e, %s starts the prompt when standard input\n"
     "is a terminal, and otherwise runs standard input as a script.  A script\n"
     "sees its arguments in the table 'arg' and as '...'.\n"
-    "Exit status: 0 on success, 1 when the script or -e code fails, 2 on a\n"
-    "usage error.  At the prompt, type help() for the list of functions.\n",
+    "Exit status: 0 on success, 1 when the script or -e code fails (or a\n"
+    "replay differs), 2 on a usage error.  At the prompt, type help() for the list of functions.\n",
     progname, progname);
 }
 

@@ -12,8 +12,12 @@ typedef struct sl_options {
   int quiet;            /* -q: no banner */
   const char **exec;    /* the -e code, in the order given */
   int nexec;
-  const char *log_path; /* --log PATH: reserved for the session log */
-  int no_log;           /* --no-log: reserved for the session log */
+  const char *log_path; /* --log PATH: where the session log goes */
+  int no_log;           /* --no-log: no session log */
+  const char *replay;   /* --replay LOG: replay a session log */
+  const char *out_dir;  /* --out DIR: where a replay may write */
+  int trust;            /* --trust: replay without the sandbox */
+  int update;           /* --update: rewrite the log's recorded outputs */
   int script;           /* argv index of the script, 0 when there is none */
   int script_stdin;     /* the script is "-": standard input */
 } sl_options;

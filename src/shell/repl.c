@@ -14,6 +14,7 @@
 #include <lua.h>
 #include <lauxlib.h>
 
+#include "log.h"
 #include "repl.h"
 #include "run.h"
 
@@ -109,6 +110,7 @@ static int compile(repl *R) {
   const char *code = lua_pushfstring(L, "return %s", R->chunk);
   int status = luaL_loadbuffer(L, code, lua_rawlen(L, -1), name);
   lua_remove(L, -2);
+  R->expr = status == LUA_OK;
   if (status == LUA_OK)
     return status;
   lua_pop(L, 1);
@@ -141,8 +143,11 @@ static int print_values(lua_State *L) {
     if (s == NULL)
       s = luaL_tolstring(L, i, &len);
     fwrite(s, 1, len, stdout);
-    if (len == 0 || s[len - 1] != '\n')
+    log_out(L, s, len);
+    if (len == 0 || s[len - 1] != '\n') {
       fputc('\n', stdout);
+      log_out(L, "\n", 1);
+    }
     lua_settop(L, n);
   }
   fflush(stdout);
@@ -169,6 +174,12 @@ static const char *strip_position(repl *R, const char *msg) {
   if (R->lines == 1 && n > 0 && strncmp(msg, id, (size_t)n) == 0)
     return msg + n;
   return msg;
+}
+
+/* The error message on top as show_error prints it. */
+static const char *error_text(repl *R) {
+  const char *msg = lua_tostring(R->L, -1);
+  return msg == NULL ? "(error object is not a string)" : strip_position(R, msg);
 }
 
 /* Show the error message on top of the stack.  After Ctrl-C the terminal
@@ -207,6 +218,8 @@ int repl_take(repl *R, const char *line) {
   R->done = 1;
   if (status != LUA_OK) {
     show_error(R);
+    if (R->record)
+      log_skip(L, R->count, R->chunk, error_text(R));
     lua_pop(L, 1);
     return REPL_FAILED;
   }
@@ -217,11 +230,16 @@ int repl_take(repl *R, const char *line) {
 void repl_run(repl *R) {
   lua_State *L = R->L;
   int base = lua_gettop(L) - 1;
+  if (R->record)
+    log_begin(L, R->count, R->chunk, R->expr);
   int status = run_call(L, 0, LUA_MULTRET, RUN_PROMPT);
+  int nres = status == LUA_OK ? lua_gettop(L) - base : -1;
   if (status == LUA_OK)
     status = print_results(R, base);
   if (status != LUA_OK)
     show_error(R);
+  if (R->record)
+    log_end(L, status == LUA_OK ? NULL : error_text(R), nres);
   lua_settop(L, base);
 }
 

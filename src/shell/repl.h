@@ -20,6 +20,8 @@ typedef struct repl {
   int count;        /* chunks begun: chunk N is named "[input N]" */
   int done;         /* chunk is finished; the next line begins another */
   int format_ref;   /* sluice.print's format in the registry, or LUA_REFNIL */
+  int expr;         /* the chunk compiled as "return chunk" */
+  int record;       /* tell the session log of every input (log.h) */
 } repl;
 
 void repl_init(repl *R, lua_State *L);

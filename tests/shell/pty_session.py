@@ -36,7 +36,7 @@ class Session:
     def __init__(self, exe, env):
         self.pid, self.fd = pty.fork()
         if self.pid == 0:
-            os.execve(exe, [exe, "-q"], env)
+            os.execve(exe, [exe, "-q", "--no-log"], env)
         fcntl.ioctl(self.fd, termios.TIOCSWINSZ, struct.pack("HHHH", 24, 100, 0, 0))
         self.raw = b""
         self.seen = 0          # offset in text() already matched

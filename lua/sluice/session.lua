@@ -1,0 +1,897 @@
+-- sluice.session: the session log, its replay and sandbox, report() and
+-- exercise().  The log is a Lua script: each top-level input as typed
+-- (an expression wrapped in show(...), so that the script prints what the
+-- prompt printed), then what it printed as "--| " lines and metadata as
+-- "--@ " lines.  The shell calls the hooks session_begin, session_out,
+-- session_end and session_skip around every input, and gives the C
+-- services fsync, mkdir, realpath and markdown_html through the hooks.
+local S = {}
+
+local M, hooks            -- the module and the hooks table, set by install
+local P = require "sluice.print"
+
+local stdout = io.stdout
+local file_methods = getmetatable(io.stdout).__index
+local real = {
+  print = print, write = io.write, fwrite = file_methods.write,
+  open = io.open, output = io.output, lines = io.lines,
+  remove = os.remove, rename = os.rename, load = load, loadfile = loadfile,
+}
+
+S.entries = {}            -- the entries of this session, in order
+S.started = nil           -- ISO-8601 UTC time the session began
+local log = nil           -- {path=, file=} while the log is on
+local cap = nil           -- list of texts written while an input runs
+local echo = true         -- captured output also goes to the terminal
+local current = nil       -- the entry being run: {data=, pictures=}
+
+-- ---- capture ----
+
+-- Text of a value as io.write writes it (numbers with LUA_NUMBER_FMT).
+local function write_text(v, i)
+  local t = type(v)
+  if t == "string" then return v end
+  if t == "number" then
+    return math.type(v) == "float" and string.format("%.14g", v) or tostring(v)
+  end
+  error(string.format("bad argument #%d to 'write' (string expected, got %s)", i, t), 3)
+end
+
+local function cap_print(...)
+  if not cap then return real.print(...) end
+  local n, t = select("#", ...), {}
+  for i = 1, n do t[i] = tostring((select(i, ...))) end
+  local s = table.concat(t, "\t") .. "\n"
+  cap[#cap + 1] = s
+  if echo then real.fwrite(stdout, s); stdout:flush() end
+end
+
+local function cap_write(...)
+  if not cap or real.output() ~= stdout then return real.write(...) end
+  local n, t = select("#", ...), {}
+  for i = 1, n do t[i] = write_text((select(i, ...)), i) end
+  local s = table.concat(t)
+  cap[#cap + 1] = s
+  if echo then return real.fwrite(stdout, s) end
+  return stdout
+end
+
+local function cap_fwrite(f, ...)
+  if not cap or not rawequal(f, stdout) then return real.fwrite(f, ...) end
+  local n, t = select("#", ...), {}
+  for i = 1, n do t[i] = write_text((select(i, ...)), i) end
+  local s = table.concat(t)
+  cap[#cap + 1] = s
+  if echo then return real.fwrite(f, s) end
+  return f
+end
+
+local wrapped = false
+-- Route print, io.write and io.stdout:write through the capture (once).
+local function wrap_output()
+  if wrapped then return end
+  wrapped = true
+  _G.print = cap_print
+  io.write = cap_write
+  file_methods.write = cap_fwrite
+end
+
+-- Lines of the captured text ("a\nb\n" and "a\nb" are both {"a", "b"}).
+local function lines_of(text)
+  local out = {}
+  if text == "" then return out end
+  if text:sub(-1) ~= "\n" then text = text .. "\n" end
+  for l in text:gmatch("(.-)\n") do out[#out + 1] = l end
+  return out
+end
+
+-- The message of an error object, as the prompt shows it.
+local function error_text(e)
+  if type(e) == "string" or type(e) == "number" then return tostring(e) end
+  local mt = getmetatable(e)
+  if type(mt) == "table" and mt.__tostring then
+    local ok, s = pcall(tostring, e)
+    if ok and type(s) == "string" then return s end
+  end
+  return "(error object is a " .. type(e) .. " value)"
+end
+
+-- ---- the log's text ----
+
+local function header_lines(version, started)
+  return {"--@ sluice " .. version .. " session log", "--@ started " .. started,
+          "--@ " .. _VERSION:lower()}
+end
+
+-- Prefix each line of lines, and the error lines, into out.
+local function output_lines(out, e)
+  for _, l in ipairs(e.out) do
+    out[#out + 1] = l == "" and "--|" or "--| " .. l
+  end
+  for _, d in ipairs(e.data) do
+    out[#out + 1] = string.format("--@ data %s %d %s", d.path, d.bytes, d.sha256)
+  end
+  for _, p in ipairs(e.pictures) do out[#out + 1] = "--@ picture " .. p end
+end
+
+-- The text of one entry in the log.
+local function entry_text(e)
+  local out = {}
+  if e.skip then
+    out[1] = string.format("--@ in %d skipped: %s", e.n, e.skip)
+    for l in (e.typed .. "\n"):gmatch("(.-)\n") do out[#out + 1] = "--> " .. l end
+  else
+    out[1] = string.format("--@ in %d%s", e.n, e.expr and " show" or "")
+    out[2] = e.code
+  end
+  output_lines(out, e)
+  return table.concat(out, "\n") .. "\n"
+end
+
+-- The code written for a typed expression: show(...) around it.
+local function show_code(typed)
+  if typed:find("\n", 1, true) or typed:find("--", 1, true) then
+    return "show(" .. typed .. "\n)"
+  end
+  return "show(" .. typed .. ")"
+end
+
+-- Append text to the log and make it durable.
+local function log_append(text)
+  if not log then return end
+  local ok, err = log.file:write(text)
+  if ok then ok, err = log.file:flush() end
+  if ok and hooks.fsync then ok, err = hooks.fsync(log.file) end
+  if not ok then
+    io.stderr:write("warning: the session log ", log.path, " could not be written (",
+                    tostring(err), "); logging stops\n")
+    pcall(log.file.close, log.file)
+    log = nil
+  end
+end
+
+-- ---- the session, driven by the shell ----
+
+local function begin(n, typed, expr)
+  wrap_output()
+  current = {n = n, typed = typed, expr = expr, data = {}, pictures = {},
+             code = expr and show_code(typed) or typed}
+  cap = {}
+end
+
+local function out(s) if cap then cap[#cap + 1] = s end end
+
+local function finish(msg, nres)
+  local e = current
+  if not e then return end
+  -- an expression with no values is a call: it is written as typed
+  if e.expr and nres == 0 and real.load(e.typed, "=log", "t", {}) then
+    e.expr, e.code = false, e.typed
+  end
+  current = nil
+  local text = table.concat(cap or {})
+  cap = nil
+  e.out = lines_of(text)
+  if msg ~= nil then
+    if msg == "interrupted" then e.skip = "interrupted" end
+    for i, l in ipairs(lines_of(msg)) do
+      e.out[#e.out + 1] = i == 1 and "error: " .. l or l
+    end
+  end
+  S.entries[#S.entries + 1] = e
+  log_append(entry_text(e))
+end
+
+-- An input that did not compile: kept as a comment.
+local function skipped(n, typed, msg)
+  local e = {n = n, typed = typed, skip = "does not compile", data = {}, pictures = {},
+             out = {}}
+  for i, l in ipairs(lines_of(msg or "")) do e.out[#e.out + 1] = i == 1 and "error: " .. l or l end
+  S.entries[#S.entries + 1] = e
+  log_append(entry_text(e))
+end
+
+local function stamp() return os.date("!%Y-%m-%dT%H:%M:%SZ") end
+
+-- Start logging to path (nil: a new file under ./sluice-logs); returns the
+-- path, or nil and a message.
+function S.open(path)
+  S.started = S.started or stamp()
+  if log then log.file:close(); log = nil end
+  if path == nil then
+    if hooks.mkdir then
+      local ok, err = hooks.mkdir("sluice-logs")
+      if not ok then return nil, err end
+    end
+    local base = "sluice-logs/session-" .. os.date("%Y%m%d-%H%M%S")
+    path = base .. ".lua"
+    local k = 1
+    while true do
+      local f = real.open(path, "r")
+      if not f then break end
+      f:close(); k = k + 1; path = base .. "-" .. k .. ".lua"
+    end
+  end
+  local f, err = real.open(path, "a")
+  if not f then return nil, err end
+  log = {path = path, file = f}
+  local head = header_lines(M.version, stamp())
+  log_append(table.concat(head, "\n") .. "\n")
+  if not log then return nil, "cannot write " .. path end
+  return path
+end
+
+function S.close()
+  if log then log.file:close(); log = nil end
+end
+
+-- log(path) starts a new log, log(false) stops it; returns the log's path.
+function S.log(path)
+  if path == false then S.close(); return nil end
+  if path == nil then return log and log.path end
+  if type(path) ~= "string" then
+    error("bad argument #1 to 'log' (a path or false expected, got " .. type(path) .. ")", 2)
+  end
+  local p, err = S.open(path)
+  if not p then error("log: cannot open " .. path .. ": " .. tostring(err), 2) end
+  return p
+end
+
+-- show(...): print values the way the prompt does.
+function S.show(...)
+  for i = 1, select("#", ...) do
+    local v = select(i, ...)
+    local ok, s = pcall(P.format, v)
+    if not ok or type(s) ~= "string" then s = tostring(v) end
+    if s:sub(-1) ~= "\n" then s = s .. "\n" end
+    io.stdout:write(s)
+  end
+  io.stdout:flush()
+end
+
+-- ---- writing files: pictures recorded, writes checked in the sandbox ----
+
+local guard = nil         -- in the sandbox: function(path, what) that raises
+
+local function note_picture(path)
+  if current and type(path) == "string" then
+    current.pictures[#current.pictures + 1] = path
+  end
+end
+
+-- Wrap the functions of the library that write files.
+local function wrap_writers()
+  local gm = debug.getregistry()["sluice.graph"]
+  if gm and type(gm.__index) == "table" and gm.__index.draw then
+    local draw = gm.__index.draw
+    gm.__index.draw = function(g, path, ...)
+      if guard then guard(path, "g:draw") end
+      local r = draw(g, path, ...)
+      note_picture(path)
+      return r
+    end
+  end
+  local fm = debug.getregistry()["sluice.frame"]
+  if fm and fm.__index then
+    local index = fm.__index
+    local function write_csv(f, path, ...)
+      if guard then guard(path, "f:write_csv") end
+      return index(f, "write_csv")(f, path, ...)
+    end
+    fm.__index = function(f, k)
+      if k == "write_csv" then return write_csv end
+      return index(f, k)
+    end
+  end
+  for _, name in ipairs({"_forest", "_histograms"}) do
+    local fn = M[name]
+    if fn then
+      M[name] = function(path, ...)
+        if guard then guard(path, "plot =") end
+        local r = fn(path, ...)
+        note_picture(path)
+        return r
+      end
+    end
+  end
+end
+
+-- ---- the sandbox ----
+
+-- Is path (to be written) inside the directory whose realpath is root?
+local function inside(root, path)
+  if not root or type(path) ~= "string" or not hooks.realpath then return false end
+  local function under(p) return p == root or p:sub(1, #root + 1) == root .. "/" end
+  local dir = path:match("^(.*)/[^/]*$")
+  if dir == nil then dir = "." elseif dir == "" then dir = "/" end
+  local rd = hooks.realpath(dir)
+  if not rd or not under(rd) then return false end
+  local rf = hooks.realpath(path)      -- an existing file (or link) must be inside too
+  return rf == nil or under(rf)
+end
+
+local function copy(t)
+  local c = {}
+  for k, v in pairs(t) do c[k] = v end
+  return c
+end
+
+-- An environment for replayed code.  blocked(name) hears of every refusal.
+local function sandbox(out_dir, blocked)
+  local root = out_dir and hooks.realpath and hooks.realpath(out_dir) or nil
+  local function refuse(name, level)
+    blocked(name)
+    error("blocked by the replay sandbox: " .. name, level or 3)
+  end
+  local function block(name) return function() refuse(name) end end
+  guard = function(path, what)
+    if not inside(root, path) then
+      refuse(what .. "(" .. string.format("%q", tostring(path)) .. ") writes outside "
+             .. (out_dir and ("--out " .. out_dir) or "an --out folder"), 4)
+    end
+  end
+  local env = copy(_G)
+  env._G = env
+  env.os = copy(os)
+  for _, k in ipairs({"execute", "remove", "rename", "exit"}) do env.os[k] = block("os." .. k) end
+  env.io = copy(io)
+  env.io.popen = block("io.popen")
+  env.io.open = function(path, mode)
+    mode = mode == nil and "r" or mode
+    if type(mode) == "string" and not mode:find("^r[b]?$") then
+      if not inside(root, path) then
+        refuse("io.open(" .. string.format("%q", tostring(path)) .. ", \"" .. mode
+               .. "\") writes outside " .. (out_dir and ("--out " .. out_dir) or "an --out folder"))
+      end
+    end
+    return real.open(path, mode)
+  end
+  env.io.output = function(f)
+    if type(f) == "string" and not inside(root, f) then
+      refuse("io.output(" .. string.format("%q", f) .. ") writes outside "
+             .. (out_dir and ("--out " .. out_dir) or "an --out folder"))
+    end
+    return real.output(f)
+  end
+  env.debug = setmetatable({}, {__index = function(_, k) return block("debug." .. tostring(k)) end})
+  env.package = copy(package)
+  env.package.loadlib = block("package.loadlib")
+  local subst = {_G = env, os = env.os, io = env.io, debug = env.debug, package = env.package}
+  env.package.loaded = setmetatable({}, {__index = function(_, k)
+    if subst[k] then return subst[k] end
+    return package.loaded[k]
+  end})
+  env.require = function(name)
+    if subst[name] then return subst[name] end
+    if package.loaded[name] ~= nil or package.preload[name] ~= nil then return require(name) end
+    refuse("require(" .. string.format("%q", tostring(name)) .. ") of a module not built in")
+  end
+  env.load = function(chunk, name, mode, e)
+    if e == nil then e = env end
+    return real.load(chunk, name, "t", e)
+  end
+  env.loadfile = function(path, mode, e)
+    if e == nil then e = env end
+    return real.loadfile(path, "t", e)
+  end
+  env.dofile = function(path)
+    local f, err = real.loadfile(path, "t", env)
+    if not f then error(err, 2) end
+    return f()
+  end
+  env.log = function() return nil end
+  env.report = function(path, ...)
+    guard(path, "report")
+    return S.report(path, ...)
+  end
+  env.exercise = function(o, ...)
+    if type(o) == "table" then guard((o.dir or ".") .. "/handout.md", "exercise") end
+    return S.exercise(o, ...)
+  end
+  return env
+end
+
+-- ---- reading a log ----
+
+local function version_newer(a, b)   -- is version a newer than b?
+  local function parts(v) local t = {} for d in v:gmatch("%d+") do t[#t + 1] = tonumber(d) end return t end
+  local x, y = parts(a), parts(b)
+  for i = 1, math.max(#x, #y) do
+    local p, q = x[i] or 0, y[i] or 0
+    if p ~= q then return p > q end
+  end
+  return false
+end
+
+-- Parse the text of a log: {head = {lines}, version=, entries = {...}} or
+-- nil and a message.
+function S.parse(text, name)
+  local lines = {}
+  for l in text:gmatch("([^\n]*)\n") do lines[#lines + 1] = l end
+  local tail = text:match("[^\n]+$")
+  local res = {head = {}, entries = {}, truncated = tail ~= nil}
+  if tail then lines[#lines + 1] = tail end
+  local v = (lines[1] or ""):match("^%-%-@ sluice (%S+) session log$")
+  if not v then
+    return nil, name .. ":1: not a sluice session log (the first line should be "
+                .. "'--@ sluice VERSION session log')"
+  end
+  res.version = v
+  local i = 1
+  while lines[i] and not lines[i]:match("^%-%-@ in %d+") do
+    res.head[#res.head + 1] = lines[i]; i = i + 1
+  end
+  -- a log appended to by a later session holds its header again: drop it
+  local kept, nums, fresh_at = {}, {}, {}
+  for j, l in ipairs(lines) do
+    local again = l:match("^%-%-@ sluice (%S+) session log$")
+    if j < i or not (again or l:match("^%-%-@ started ") or l:match("^%-%-@ lua ")) then
+      kept[#kept + 1] = l
+      nums[#kept] = j
+    else
+      if again and version_newer(again, res.version) then res.version = again end
+      if again then fresh_at[#kept + 1] = true end
+    end
+  end
+  lines = kept
+  while lines[i] do
+    local n, rest = lines[i]:match("^%-%-@ in (%d+)(.*)$")
+    local e = {n = tonumber(n), line = nums[i], new_session = fresh_at[i], body = {}, out = {}, data = {}, pictures = {}}
+    e.expr = rest == " show"
+    e.skip = rest:match("^ skipped: (.*)$")
+    i = i + 1
+    while lines[i] and not lines[i]:match("^%-%-@ in %d+") do
+      e.body[#e.body + 1] = lines[i]; i = i + 1
+    end
+    -- the metadata is the run of "--|" and "--@ " lines at the end
+    local k = #e.body
+    while k >= 1 and (e.body[k]:match("^%-%-|") or e.body[k]:match("^%-%-@ ")) do k = k - 1 end
+    local code = {}
+    for j = 1, k do code[#code + 1] = e.body[j] end
+    for j = k + 1, #e.body do
+      local l = e.body[j]
+      if l:match("^%-%-|") then
+        e.out[#e.out + 1] = l:match("^%-%-| ?(.*)$")
+      else
+        local p, b, h = l:match("^%-%-@ data (.+) (%d+) (%x+)$")
+        if p then e.data[#e.data + 1] = {path = p, bytes = tonumber(b), sha256 = h} end
+        local pic = l:match("^%-%-@ picture (.+)$")
+        if pic then e.pictures[#e.pictures + 1] = pic end
+      end
+    end
+    e.code = table.concat(code, "\n")
+    if e.skip then
+      local typed = {}
+      for _, l in ipairs(code) do typed[#typed + 1] = l:match("^%-%-> ?(.*)$") or l end
+      e.typed = table.concat(typed, "\n")
+    elseif e.expr then
+      e.typed = e.code:match("^show%((.*)\n%)$") or e.code:match("^show%((.*)%)$") or e.code
+    else
+      e.typed = e.code
+    end
+    res.entries[#res.entries + 1] = e
+  end
+  return res
+end
+
+-- ---- replay ----
+
+local function say(...) real.fwrite(stdout, ...) end
+
+-- The error message without the position of a one-line input.
+local function strip_position(e, msg)
+  local id = "[input " .. e.n .. "]:1: "
+  if not e.typed:find("\n", 1, true) and msg:sub(1, #id) == id then
+    return msg:sub(#id + 1)
+  end
+  return msg
+end
+
+-- Run one entry as the prompt would; returns the lines it printed and
+-- whether it raised an error.
+local function run_entry(e, env)
+  local name = "=[input " .. e.n .. "]"
+  local fn = real.load("return " .. e.code, name, "t", env)
+  local msg
+  if not fn then fn, msg = real.load(e.code, name, "t", env) end
+  current = {n = e.n, data = {}, pictures = {}}
+  cap = {}
+  local failed = false
+  if not fn then
+    failed = true
+    cap[#cap + 1] = "error: " .. strip_position(e, msg) .. "\n"
+  else
+    local r = table.pack(xpcall(fn, error_text))
+    if r[1] then
+      for i = 2, r.n do
+        local ok, s = pcall(P.format, r[i])
+        if not ok or type(s) ~= "string" then s = tostring(r[i]) end
+        if s:sub(-1) ~= "\n" then s = s .. "\n" end
+        cap[#cap + 1] = s
+      end
+    else
+      failed = true
+      local lines = lines_of(r[2])
+      cap[#cap + 1] = "error: " .. strip_position(e, table.concat(lines, "\n")) .. "\n"
+    end
+  end
+  local got = lines_of(table.concat(cap))
+  local run = current
+  cap, current = nil, nil
+  return got, failed, run, not fn and msg
+end
+
+-- The first line where a and b differ, or nil.
+local function first_difference(a, b)
+  for i = 1, math.max(#a, #b) do
+    if a[i] ~= b[i] then return i end
+  end
+end
+
+local function file_exists(path)
+  local f = real.open(path, "rb")
+  if f then f:close() return true end
+  return false
+end
+
+-- sluice --replay LOG: returns the exit status.
+function S.replay(o)
+  local f, err = real.open(o.log, "rb")
+  if not f then
+    say("sluice: cannot read the log: ", tostring(err), "\n")
+    return 1
+  end
+  local text = f:read("a")
+  f:close()
+  local log_, perr = S.parse(text, o.log)
+  if not log_ then say("sluice: ", perr, "\n") return 1 end
+  if version_newer(log_.version, M.version) then
+    say(string.format("sluice: %s was written by sluice %s, newer than this sluice %s; "
+                      .. "replay it with sluice %s or later\n", o.log, log_.version,
+                      M.version, log_.version))
+    return 1
+  end
+  if o.out and not (hooks.realpath and hooks.realpath(o.out)) then
+    say("sluice: --out ", o.out, ": no such folder\n")
+    return 2
+  end
+  wrap_output()
+  echo = false
+  local blocked_here, blocked_all = {}, {}
+  local env = _G
+  if not o.trust then
+    env = sandbox(o.out, function(name) blocked_here[#blocked_here + 1] = name end)
+  else
+    env.log = function() return nil end
+  end
+  say(string.format("replaying %s: %d entries, %s\n", o.log, #log_.entries,
+                    o.trust and "trusted (no sandbox)"
+                    or ("sandboxed, writes " .. (o.out and ("inside " .. o.out) or "nowhere"))))
+  local total, matched, differed, shown = 0, 0, 0, false
+  local problems = 0
+  for idx, e in ipairs(log_.entries) do
+    if e.skip then
+      say(string.format("in %d: skipped (%s at the prompt)\n", e.n, e.skip))
+      goto continue
+    end
+    total = total + 1
+    blocked_here = {}
+    if e.new_session and not o.trust then   -- a later session starts afresh
+      env = sandbox(o.out, function(name) blocked_here[#blocked_here + 1] = name end)
+    end
+    local status = "ok"
+    for _, d in ipairs(e.data) do
+      if not file_exists(d.path) then
+        say(string.format("data missing: %s (recorded sha256 %s, %d bytes)\n", d.path,
+                          d.sha256, d.bytes))
+        status = "differs"
+      end
+    end
+    local got, failed, run, cmsg = run_entry(e, env)
+    if cmsg then
+      local last = idx == #log_.entries
+      say(string.format("in %d: error: line %d of the log is not valid Lua%s: %s\n", e.n,
+                        e.line + 1, last and log_.truncated and " (the log is truncated)" or "",
+                        cmsg))
+      status = "error"
+    end
+    for _, d in ipairs(e.data) do
+      for _, r in ipairs(run.data) do
+        if r.path == d.path and r.sha256 ~= d.sha256 then
+          say(string.format("data changed: %s (recorded sha256 %s, now %s)\n", d.path,
+                            d.sha256, r.sha256))
+          status = "differs"
+        end
+      end
+    end
+    local recorded_error = false
+    for _, l in ipairs(e.out) do if l:match("^error: ") then recorded_error = true end end
+    local at = first_difference(e.out, got)
+    if cmsg or (at and failed and not recorded_error) then status = "error"
+    elseif at then status = "differs" end
+    if status == "ok" then matched = matched + 1 else differed = differed + 1 end
+    say(string.format("in %d: %s\n", e.n, status))
+    if at and not shown then
+      shown = true
+      say(string.format("  line %d of its output:\n    expected: %s\n    got:      %s\n", at,
+                        e.out[at] or "(nothing)", got[at] or "(nothing)"))
+    end
+    for _, b in ipairs(blocked_here) do
+      blocked_all[#blocked_all + 1] = b
+      say(string.format("blocked: in %d: %s\n", e.n, b))
+    end
+    e.new_out, e.new_data, e.new_pictures = got, run.data, run.pictures
+    ::continue::
+  end
+  guard = nil
+  echo = true
+  say(string.format("%d commands: %d matched, %d differed\n", total, matched, differed))
+  if #blocked_all > 0 then
+    say(string.format("%d call%s blocked by the replay sandbox (--trust lifts it)\n",
+                      #blocked_all, #blocked_all == 1 and " was" or "s were"))
+    problems = problems + 1
+  end
+  if o.update then
+    local ok, uerr = S.rewrite(o.log, text, log_)
+    if not ok then say("sluice: --update: ", uerr, "\n") return 1 end
+    say("updated ", o.log, " (the old log is ", o.log, ".bak)\n")
+  end
+  return (differed == 0 and problems == 0) and 0 or 1
+end
+
+-- Rewrite the log with the outputs of the replay; the old one goes to .bak.
+function S.rewrite(path, old_text, parsed)
+  local b = real.open(path .. ".bak", "wb")
+  if not b then return nil, "cannot write " .. path .. ".bak" end
+  b:write(old_text)
+  b:close()
+  local out = {table.concat(parsed.head, "\n")}
+  for _, e in ipairs(parsed.entries) do
+    local n = {n = e.n, typed = e.typed, expr = e.expr, skip = e.skip, code = e.code,
+               out = e.new_out or e.out, data = e.new_data or e.data,
+               pictures = e.new_pictures or e.pictures}
+    out[#out + 1] = entry_text(n):sub(1, -2)
+  end
+  local f, err = real.open(path, "wb")
+  if not f then return nil, err end
+  f:write(table.concat(out, "\n"), "\n")
+  f:close()
+  return true
+end
+
+-- ---- report ----
+
+local B64 = "ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/"
+local function base64(s)
+  local out = {}
+  for i = 1, #s, 3 do
+    local a, b, c = s:byte(i, i + 2)
+    local n = a * 65536 + (b or 0) * 256 + (c or 0)
+    local q = {}
+    for k = 3, 0, -1 do
+      local v = (n >> (6 * k)) & 63
+      q[#q + 1] = B64:sub(v + 1, v + 1)
+    end
+    if not b then q[3], q[4] = "=", "=" elseif not c then q[4] = "=" end
+    out[#out + 1] = table.concat(q)
+  end
+  return table.concat(out)
+end
+
+local function fence(text, info)
+  local f = "```"
+  while text:find(f, 1, true) do f = f .. "`" end
+  return f .. (info or "") .. "\n" .. text .. "\n" .. f
+end
+
+local function md_escape(s) return (s:gsub("([\\`*_%[%]<>#&])", "\\%1")) end
+
+-- The session so far as Markdown; images is "link" or "inline" (placeholders
+-- sluice-picture-K that the HTML step replaces, returned in a list).
+local function report_markdown(inline)
+  local md, pics = {}, {}
+  md[#md + 1] = "# sluice session report"
+  md[#md + 1] = ""
+  md[#md + 1] = "- sluice " .. md_escape(M.version) .. ", " .. _VERSION
+  md[#md + 1] = "- session started " .. (S.started or "(not recorded)")
+  md[#md + 1] = "- report written " .. stamp()
+  if log then md[#md + 1] = "- session log: `" .. log.path .. "`" end
+  for _, e in ipairs(S.entries) do
+    for _, d in ipairs(e.data) do
+      md[#md + 1] = string.format("- data read in command %d: `%s` (%d bytes, sha256 `%s`)",
+                                  e.n, d.path, d.bytes, d.sha256)
+    end
+  end
+  for _, e in ipairs(S.entries) do
+    md[#md + 1] = ""
+    md[#md + 1] = "## Command " .. e.n .. (e.skip and (" (" .. e.skip .. ")") or "")
+    md[#md + 1] = ""
+    md[#md + 1] = fence(e.typed, "lua")
+    if #e.out > 0 then
+      md[#md + 1] = ""
+      md[#md + 1] = fence(table.concat(e.out, "\n"))
+    end
+    for _, p in ipairs(e.pictures) do
+      md[#md + 1] = ""
+      if inline then
+        pics[#pics + 1] = p
+        md[#md + 1] = string.format("![%s](sluice-picture-%d)", md_escape(p), #pics)
+      else
+        md[#md + 1] = string.format("![%s](<%s>)", md_escape(p), p)
+      end
+    end
+  end
+  md[#md + 1] = ""
+  md[#md + 1] = "## Caution"
+  md[#md + 1] = ""
+  md[#md + 1] = require("sluice.help").caution
+  return table.concat(md, "\n") .. "\n", pics
+end
+
+-- report(path): the session so far as Markdown, or HTML for a .html path.
+function S.report(path)
+  if type(path) ~= "string" then
+    error("bad argument #1 to 'report' (a path expected, got " .. type(path) .. ")", 2)
+  end
+  local html = path:lower():match("%.html?$") ~= nil
+  local md, pics = report_markdown(html)
+  local text = md
+  if html then
+    if not hooks.markdown_html then
+      error("report: HTML needs the sluice program (the Markdown library is linked there)", 2)
+    end
+    local body = hooks.markdown_html(md)
+    for k, p in ipairs(pics) do
+      local f = real.open(p, "rb")
+      local uri = ""
+      if f then
+        local data = f:read("a")
+        f:close()
+        local mime = p:lower():match("%.svg$") and "image/svg+xml"
+                     or p:lower():match("%.png$") and "image/png"
+                     or p:lower():match("%.pdf$") and "application/pdf" or "application/octet-stream"
+        uri = "data:" .. mime .. ";base64," .. base64(data)
+      end
+      body = body:gsub('src="sluice%-picture%-' .. k .. '"', function() return 'src="' .. uri .. '"' end)
+    end
+    text = "<!DOCTYPE html>\n<html>\n<head>\n<meta charset=\"utf-8\">\n"
+           .. "<title>sluice session report</title>\n<style>\n"
+           .. "body{font-family:sans-serif;max-width:50em;margin:2em auto;padding:0 1em}\n"
+           .. "pre{background:#f4f4f4;padding:.6em;overflow-x:auto}\nimg{max-width:100%}\n"
+           .. "</style>\n</head>\n<body>\n" .. body .. "</body>\n</html>\n"
+  end
+  local f, err = real.open(path, "wb")
+  if not f then error("report: cannot write " .. path .. ": " .. tostring(err), 2) end
+  f:write(text)
+  f:close()
+  return path
+end
+
+S.base64 = base64
+
+-- ---- exercise ----
+
+local function write_file(path, text)
+  local f, err = real.open(path, "wb")
+  if not f then error("exercise: cannot write " .. path .. ": " .. tostring(err), 3) end
+  f:write(text)
+  f:close()
+end
+
+local function set_text(set)
+  local t = {}
+  for i = 1, #set do t[i] = set[i] end
+  return "{" .. table.concat(t, ", ") .. "}"
+end
+
+-- exercise{graph=, model=, n=, seed=, dir=, treatment=, outcome=, scenario=}
+function S.exercise(o)
+  if type(o) ~= "table" then
+    error("bad argument #1 to 'exercise' (a table expected, got " .. type(o) .. ")", 2)
+  end
+  local g, m, dir = o.graph, o.model, o.dir
+  if getmetatable(g) ~= debug.getregistry()["sluice.graph"] then
+    error("exercise: graph = a graph expected, got " .. type(g), 2)
+  end
+  if type(m) ~= "table" and type(m) ~= "userdata" or not m.simulate then
+    error("exercise: model = a model from sem() expected, got " .. type(m), 2)
+  end
+  if type(dir) ~= "string" or dir == "" then
+    error("exercise: dir = a folder name expected, got " .. type(dir), 2)
+  end
+  local n, seed = o.n or 200, o.seed or 1
+  if math.type(n) ~= "integer" or n < 10 then error("exercise: n = a whole number of at least 10 expected", 2) end
+  if math.type(seed) ~= "integer" then error("exercise: seed = a whole number expected", 2) end
+  local order = g:order()
+  local x, y = o.treatment or order[1], o.outcome or order[#order]
+  if hooks.mkdir then
+    local ok, err = hooks.mkdir(dir)
+    if not ok then error("exercise: " .. err, 2) end
+  end
+  local d = m:simulate(n, {seed = seed})
+  d:write_csv(dir .. "/data.csv")
+  g:draw(dir .. "/graph.svg")
+  local minimal = g:adjust(x, y)
+  local optimal = g:optimal(x, y)
+  local truth = m:effect(x, y)
+  local cmp = M.compare{data = d, graph = g, treatment = x, outcome = y, truth = m, boot = 0}
+  local h = {}
+  h[#h + 1] = "# Exercise: the effect of " .. x .. " on " .. y
+  h[#h + 1] = ""
+  h[#h + 1] = o.scenario or ("A study measures " .. table.concat(d:names(), ", ")
+                             .. ". We want the causal effect of " .. x .. " on " .. y .. ".")
+  h[#h + 1] = ""
+  h[#h + 1] = "## The graph"
+  h[#h + 1] = ""
+  h[#h + 1] = fence(tostring(g))
+  h[#h + 1] = ""
+  h[#h + 1] = "![the causal graph](graph.svg)"
+  h[#h + 1] = ""
+  h[#h + 1] = "## The data"
+  h[#h + 1] = ""
+  h[#h + 1] = string.format("`data.csv`: %d rows, columns %s (simulated, seed %d).", #d,
+                            table.concat(d:names(), ", "), seed)
+  h[#h + 1] = ""
+  h[#h + 1] = "## Questions"
+  h[#h + 1] = ""
+  h[#h + 1] = "1. Which of these adjustment sets are valid for the effect of " .. x
+              .. " on " .. y .. "? Give a reason for each."
+  for _, r in ipairs(cmp) do h[#h + 1] = "   - " .. r.set_text end
+  h[#h + 1] = "2. Estimate the effect with each set from `data.csv`. What does each"
+              .. " candidate set estimate, and why do they differ?"
+  h[#h + 1] = "3. Which valid set would you choose, and why?"
+  local k = {}
+  k[#k + 1] = "# Answer key: the effect of " .. x .. " on " .. y
+  k[#k + 1] = ""
+  k[#k + 1] = string.format("Computed by sluice %s from the seed %d (n = %d).", M.version, seed, n)
+  k[#k + 1] = ""
+  k[#k + 1] = "- true total effect (m:effect): " .. string.format("%.4f", truth)
+  local ms = {}
+  for i = 1, #minimal do ms[i] = set_text(minimal[i]) end
+  k[#k + 1] = "- minimal valid sets (g:adjust): " .. (#ms > 0 and table.concat(ms, ", ") or "none")
+  k[#k + 1] = "- optimal set (g:optimal): " .. (optimal and set_text(optimal) or "none")
+  k[#k + 1] = ""
+  k[#k + 1] = "## Each candidate set"
+  k[#k + 1] = ""
+  for _, r in ipairs(cmp) do
+    k[#k + 1] = string.format("- %s: %s; estimate %.4f%s", r.set_text,
+                              r.valid and "valid" or "not valid", r.estimate,
+                              r.reason and (" (" .. r.reason .. ")") or "")
+  end
+  k[#k + 1] = ""
+  k[#k + 1] = "## The comparison table (compare{})"
+  k[#k + 1] = ""
+  k[#k + 1] = fence(tostring(cmp))
+  k[#k + 1] = ""
+  k[#k + 1] = require("sluice.help").caution
+  write_file(dir .. "/handout.md", table.concat(h, "\n") .. "\n")
+  write_file(dir .. "/key.md", table.concat(k, "\n") .. "\n")
+  return {data = dir .. "/data.csv", graph = dir .. "/graph.svg",
+          handout = dir .. "/handout.md", key = dir .. "/key.md"}
+end
+
+function S.install(mod, metas, hk)
+  M, hooks = mod, hk
+  local prev = hooks.data_read
+  hooks.data_read = function(path, sha, bytes)
+    if current then
+      current.data[#current.data + 1] = {path = path, sha256 = sha, bytes = bytes}
+    end
+    if prev then return prev(path, sha, bytes) end
+  end
+  hooks.session_begin = begin
+  hooks.session_out = out
+  hooks.session_end = finish
+  hooks.session_skip = skipped
+  hooks.session_start = function()
+    S.started = S.started or stamp()
+    wrap_output()
+  end
+  wrap_writers()
+  M.log = S.log
+  M.show = S.show
+  M.report = S.report
+  M.exercise = function(o) return S.exercise(o) end
+end
+
+return S

@@ -1,0 +1,29 @@
+/*
+** log.h: what the session log (lua/sluice/session.lua) needs from C: the
+** services it cannot have in Lua (fsync, mkdir, realpath, Markdown to
+** HTML), and the calls the prompt makes around every input.
+*/
+#ifndef SLUICE_LOG_H
+#define SLUICE_LOG_H
+
+#include <lua.h>
+
+/* Put fsync, mkdir, realpath and markdown_html into the hooks table. */
+void log_install(lua_State *L);
+
+/* Tell the session layer the interactive session begins (capture set up). */
+void log_session_start(lua_State *L);
+
+/* Start the log at path (NULL: a new file under ./sluice-logs) and say
+** where it goes; a failure costs a warning. */
+void log_start(lua_State *L, const char *path);
+
+/* Around one input: begin (its number, its text, whether it was an
+** expression), each text the prompt auto-prints, the end (msg: the error,
+** or NULL; nres: the number of values, -1 after an error), and an input that did not compile. */
+void log_begin(lua_State *L, int n, const char *text, int expr);
+void log_out(lua_State *L, const char *s, size_t len);
+void log_end(lua_State *L, const char *msg, int nres);
+void log_skip(lua_State *L, int n, const char *text, const char *msg);
+
+#endif

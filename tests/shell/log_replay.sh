@@ -1,0 +1,165 @@
+#!/bin/sh
+# log_replay.sh: sluice --replay on logs written by hand: the sandbox
+# (os.execute, io.popen, os.remove, writes outside --out, load, debug,
+# require), --trust, --update, and bad logs (not valid Lua, truncated,
+# newer version, missing data file, not a log).  Environment: B.
+B=${B:-build}
+exe=$(cd "$B" && pwd)/sluice
+tmp=$(mktemp -d "${TMPDIR:-/tmp}/sluice-replay.XXXXXX")
+trap 'rm -rf "$tmp"' EXIT
+cd "$tmp" || exit 1
+n=0
+fail() { echo "FAIL  $1"; [ -f out.txt ] && sed 's/^/      /' out.txt; exit 1; }
+ok() { n=$((n + 1)); echo "ok    $1"; }
+has() { grep -qF -- "$1" out.txt || fail "$2: the output lacks '$1'"; }
+head3='--@ sluice 0.1.0 session log
+--@ started 2026-01-01T00:00:00Z
+--@ lua 5.4'
+
+# ---- the sandbox ----
+mkdir out
+echo "the classroom register" > keep.txt
+cat > hostile.lua <<LOG
+$head3
+--@ in 1
+os.execute("touch executed")
+--@ in 2
+io.popen("touch popened")
+--@ in 3
+os.remove("keep.txt")
+--@ in 4
+io.open("$tmp/outside.txt", "w"):write("x")
+--@ in 5
+io.open("out/inside.txt", "w"):write("factory line 3"):close()
+--| true
+--@ in 6
+load("os.execute('touch loaded')")()
+--@ in 7
+graph("a -> b"):draw("drawn.svg")
+--@ in 8
+require("os").rename("keep.txt", "moved.txt")
+--@ in 9
+debug.getregistry()
+--@ in 10
+io.open("out/../escaped.txt", "w")
+--@ in 11 show
+show(1 + 1)
+--| 2
+LOG
+"$exe" --replay hostile.lua --out out > out.txt 2>&1
+code=$?
+[ "$code" = 1 ] || fail "a sandboxed replay with blocked calls exits 1 (got $code)"
+for f in executed popened outside.txt loaded drawn.svg moved.txt escaped.txt; do
+  [ -e "$f" ] && fail "the sandbox lets nothing happen: $f exists"
+done
+[ -f keep.txt ] || fail "os.remove was blocked: keep.txt is gone"
+[ "$(cat out/inside.txt)" = "factory line 3" ] || fail "writing inside --out works"
+has "blocked: in 1: os.execute" "os.execute is reported"
+has "blocked: in 2: io.popen" "io.popen is reported"
+has "blocked: in 3: os.remove" "os.remove is reported"
+has "blocked: in 4: io.open(\"$tmp/outside.txt\", \"w\") writes outside --out out" "a write outside --out is reported"
+has "blocked: in 6: os.execute" "load inherits the sandbox"
+has "blocked: in 7: g:draw(\"drawn.svg\") writes outside --out out" "g:draw is checked"
+has "blocked: in 8: os.rename" "require(\"os\") is the sandbox's os"
+has "blocked: in 9: debug.getregistry" "debug is blocked"
+has "blocked: in 10: io.open(\"out/../escaped.txt\"" "a path that leaves --out through .. is blocked"
+has "in 5: ok" "an allowed write matches"
+has "in 11: ok" "replay goes on after blocked calls"
+has "11 commands: 2 matched, 9 differed" "the summary counts them"
+has "9 calls were blocked by the replay sandbox" "the blocked calls are counted"
+ok "the sandbox blocks os.execute, io.popen, os.remove, os.rename, debug, writes outside --out"
+
+"$exe" --replay hostile.lua --trust > out.txt 2>&1
+[ -e executed ] || fail "--trust lifts the sandbox: os.execute ran"
+[ -e keep.txt ] && fail "--trust lifts the sandbox: os.remove ran"
+ok "--trust lifts the sandbox"
+
+# ---- --update ----
+cat > update.lua <<LOG
+$head3
+--@ in 1
+x = 6
+--@ in 2 show
+show(x * 7)
+--| 41
+LOG
+"$exe" --replay update.lua --update > out.txt 2>&1
+[ $? = 1 ] || fail "--update still reports the difference"
+grep -q -- '--| 42' update.lua || fail "--update rewrites the output"
+grep -q -- '--| 41' update.lua.bak || fail "--update keeps the old log"
+"$exe" --replay update.lua > out.txt 2>&1 || fail "the updated log replays"
+has "2 commands: 2 matched, 0 differed" "the updated log matches"
+ok "--update rewrites the recorded outputs and keeps LOG.bak"
+
+# ---- bad logs ----
+cat > invalid.lua <<LOG
+$head3
+--@ in 1
+x = = 1
+--@ in 2 show
+show(2 + 3)
+--| 5
+LOG
+"$exe" --replay invalid.lua > out.txt 2>&1
+[ $? = 1 ] || fail "a log with invalid Lua exits 1"
+has "in 1: error: line 5 of the log is not valid Lua" "invalid Lua is named with its line"
+has "in 2: ok" "replay goes on after invalid Lua"
+ok "a log entry that is not valid Lua is reported; replay goes on"
+
+printf '%s\n--@ in 1\nfor i = 1, 3 do\n  print(i)' "$head3" > truncated.lua
+"$exe" --replay truncated.lua > out.txt 2>&1
+[ $? = 1 ] || fail "a truncated log exits 1"
+has "(the log is truncated)" "a truncated log says so"
+ok "a truncated log is reported as truncated"
+
+printf '%s\n' '--@ sluice 99.1.0 session log' '--@ in 1' 'x = 1' > newer.lua
+"$exe" --replay newer.lua > out.txt 2>&1
+[ $? = 1 ] || fail "a log from a newer sluice exits 1"
+has "newer.lua was written by sluice 99.1.0, newer than this sluice" "a newer log says so"
+ok "a log from a newer version is refused with a message"
+
+cat > missing.lua <<LOG
+$head3
+--@ in 1
+trees = read_csv "orchard-gone.csv"
+--@ data orchard-gone.csv 177 4185850cb103de325fba433e306d3e5713a4acc8aa936a40d8848098c4fe8fa4
+LOG
+"$exe" --replay missing.lua > out.txt 2>&1
+[ $? = 1 ] || fail "a missing data file exits 1"
+has "data missing: orchard-gone.csv (recorded sha256 4185850c" "a missing data file is named"
+has "in 1: error" "the entry that reads it errors"
+ok "a missing data file is reported"
+
+echo 'print("not a log")' > plain.lua
+"$exe" --replay plain.lua > out.txt 2>&1
+[ $? = 1 ] || fail "a file that is not a log exits 1"
+has "plain.lua:1: not a sluice session log" "a file that is not a log says so"
+"$exe" --replay nowhere.lua > out.txt 2>&1
+[ $? = 1 ] || fail "a missing log exits 1"
+has "cannot read the log: nowhere.lua" "a missing log is named"
+"$exe" --out out > out.txt 2>&1
+[ $? = 2 ] || fail "--out without --replay is a usage error"
+"$exe" --replay update.lua --out no-such-dir > out.txt 2>&1
+[ $? = 2 ] || fail "--out to a missing folder is a usage error"
+has "--out no-such-dir: no such folder" "a missing --out folder is named"
+ok "not a log, no log, and option errors: messages and exit codes"
+
+# ---- the log runs as a script ----
+cat > script.lua <<LOG
+$head3
+--@ in 1
+x = 6
+--@ in 2 show
+show(x * 7)
+--| 42
+LOG
+[ "$("$exe" script.lua)" = 42 ] || fail "sluice LOG re-executes the log"
+ok "sluice LOG runs the log as a script"
+# ---- a log two sessions appended to (-i over a pipe logs with --log) ----
+printf 'x = 6\nx * 7\n' | "$exe" -q -i --log two.lua > /dev/null 2>&1
+printf 'x\n' | "$exe" -q -i --log two.lua > /dev/null 2>&1
+[ "$(grep -c -- '--@ sluice' two.lua)" = 2 ] || fail "the second session appends its header"
+"$exe" --replay two.lua > out.txt 2>&1 || fail "a log of two sessions replays, each afresh"
+has "3 commands: 3 matched, 0 differed" "both sessions' commands match"
+ok "a log appended to by a second session replays each session afresh"
+echo "$n passed, 0 failed"
