@@ -44,6 +44,13 @@ if [ ! -f "$B/libsluice.a" ]; then
   exit 0
 fi
 mkdir -p "$D"
+# SECTION=estimate: only the estimator benchmarks (section 8, at the end).
+if [ "${SECTION:-}" = estimate ]; then
+  row "figure" "sluice" "target" "vs target" "reference" "vs ref"
+  eval "$(sed -n '/^# ---- 8: estimators/,/^# ---- end of 8/p' bench/run.sh)"
+  echo "bench: done"
+  exit $fail
+fi
 for p in gen_graph bench_parse bench_start bench_dsep bench_trails bench_adjust; do
   # shellcheck disable=SC2046
   cc -std=c11 -O2 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -Isrc/graph \
@@ -306,5 +313,89 @@ if [ -n "$rc" ] && [ -n "$rc1" ]; then
   echo "       memory target 1.5 x the parsed columns ($(mb "$(val "$rc1" parsed_kb)")); the ratio beside" \
        "pandas is of the memory; the two sums of every value agree"
 fi
+# ---- 8: estimators, n = 1e5 rows, 6 covariates, 200 bootstrap replicates ----
+# bench/bench_estimate.lua writes the data (seeded) and runs one estimate{}
+# per process; each is timed from outside with a wall clock (os.clock would
+# add up the CPU time of every thread), best of EST_REPS (default 3), minus
+# the best of as many runs that only read the file.  The baseline,
+# bench/sm_estimate.py (statsmodels/numpy, the read untimed), runs once; the
+# target is 1/10 of its time.  The point estimates, on all the rows, must
+# agree within 1e-8 relative (the replicates differ: each side resamples its
+# own way).  SECTION=estimate runs this section alone.
+ES=$D/est_1e5.csv
+ES_B=200
+ES_REPS=${EST_REPS:-3}
+# es_best CMD...: the best wall time of ES_REPS runs of CMD in es_t, the
+# output of the last in es_out; non-zero when a run fails.
+es_best() {
+  es_t=""; es_i=0
+  while [ "$es_i" -lt "$ES_REPS" ]; do
+    es_a=$(date +%s.%N)
+    es_out=$("$@") || return 1
+    es_z=$(date +%s.%N)
+    es_t=$(awk -v a="$es_a" -v z="$es_z" -v t="$es_t" 'BEGIN {
+      d = z - a; print (t == "" || d < t + 0) ? d : t }')
+    es_i=$((es_i + 1))
+  done
+}
+# es_rel A B: |A - B| / |B|, to two digits.
+es_rel() { awk -v a="$1" -v b="$2" 'BEGIN { d = a - b; if (d < 0) d = -d; s = b < 0 ? -b : b
+  if (s > 0) printf "%.2g\n", d / s; else print "-" }'; }
+# es_close A B: whether A and B agree within 1e-8 relative.
+es_close() {
+  awk -v a="$1" -v b="$2" 'BEGIN { d = a - b; if (d < 0) d = -d; s = b < 0 ? -b : b
+    exit !(a != "" && b != "" && d <= 1e-8 * s) }'
+}
+es_notes=""
+if [ ! -x "$B/sluice" ]; then
+  echo "estimators                         skipped: $B/sluice not built"
+elif ! "$B/sluice" bench/bench_estimate.lua gen "$ES" 100000 1 >/dev/null; then
+  failed "bench/bench_estimate.lua gen (crashed)"
+elif ! es_best "$B/sluice" bench/bench_estimate.lua read "$ES"; then
+  failed "bench/bench_estimate.lua read (crashed)"
+else
+  es_t0=$es_t
+  es_py=""
+  if command -v "$PYTHON" >/dev/null 2>&1; then es_py=$PYTHON; fi
+  for es_m in standardize aipw; do
+    if ! es_best "$B/sluice" bench/bench_estimate.lua "$es_m" "$ES" "$ES_B" 1; then
+      failed "bench/bench_estimate.lua $es_m (crashed)"; continue
+    fi
+    es_r=$es_out
+    es_s=$(awk -v t="$es_t" -v r="$es_t0" 'BEGIN { print t - r }')
+    es_ref="$PYTHON not found"; es_tgt="-"; es_tr="-"; es_rr="-"; es_p=""
+    if [ -n "$es_py" ]; then
+      if es_p=$("$es_py" bench/sm_estimate.py "$ES" "$es_m" "$ES_B" 1); then
+        if [ -n "$(val "$es_p" missing)" ]; then
+          es_ref="statsmodels not installed"; es_p=""
+        else
+          es_pt=$(val "$es_p" total_s)
+          es_10=$(awk -v t="$es_pt" 'BEGIN { print t / 10 }')
+          es_tgt=$(secs "$es_10"); es_tr=$(ratio "$es_s" "$es_10")
+          es_ref="statsmodels $(secs "$es_pt")"; es_rr=$(ratio "$es_s" "$es_pt")
+          es_close "$(val "$es_r" estimate)" "$(val "$es_p" estimate)" ||
+            failed "$es_m: sluice estimates $(val "$es_r" estimate)," \
+                   "statsmodels $(val "$es_p" estimate)"
+        fi
+      else
+        failed "bench/sm_estimate.py $es_m (crashed)"; es_p=""
+      fi
+    fi
+    [ "$(val "$es_r" boot)" = "$ES_B" ] ||
+      es_notes="$es_notes
+         $es_m: $(val "$es_r" boot_failed) of $ES_B sluice replicates failed"
+    row "$es_m 1e5 x 6, boot $ES_B" "$(secs "$es_s")" "$es_tgt" "$es_tr" "$es_ref" "$es_rr"
+    es_notes="$es_notes
+         $es_m: point estimate sluice $(val "$es_r" estimate)${es_p:+, statsmodels $(val "$es_p" estimate)
+           (relative difference $(es_rel "$(val "$es_r" estimate)" "$(val "$es_p" estimate)"))};
+           bootstrap SE sluice $(val "$es_r" se)${es_p:+, statsmodels $(val "$es_p" se)}${es_p:+; statsmodels $(tms "$(val "$es_p" per_rep_s)") per replicate ($(val "$es_p" boot) run)}"
+  done
+  echo "       estimators: wall time of a sluice run that reads the file and estimates (best of $ES_REPS)," \
+       "minus one that only reads it ($(secs "$es_t0"));"
+  echo "         y ~ 1 + t + W + t:W (OLS), aipw adding t ~ 1 + W (logit); $(nproc 2>/dev/null || echo '?') cores;" \
+       "statsmodels times the point estimate and the replicates, once${es_p:+ (statsmodels $(val "$es_p" version))}$es_notes"
+  rm -f "$ES"   # 11 MB; the next run writes it again
+fi
+# ---- end of 8 ----
 echo "bench: done"
 exit $fail
