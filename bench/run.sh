@@ -44,6 +44,13 @@ if [ ! -f "$B/libsluice.a" ]; then
   exit 0
 fi
 mkdir -p "$D"
+# SECTION=model: only the structural-model and session-log figures (9, 10).
+if [ "${SECTION:-}" = model ]; then
+  row "figure" "sluice" "target" "vs target" "reference" "vs ref"
+  eval "$(sed -n '/^# ---- 9: structural/,/^# ---- end of 10/p' bench/run.sh)"
+  echo "bench: done"
+  exit $fail
+fi
 # SECTION=estimate: only the estimator benchmarks (section 8, at the end).
 if [ "${SECTION:-}" = estimate ]; then
   row "figure" "sluice" "target" "vs target" "reference" "vs ref"
@@ -397,5 +404,44 @@ else
   rm -f "$ES"   # 11 MB; the next run writes it again
 fi
 # ---- end of 8 ----
+# ---- 9: structural models: simulate 1e7 rows of a 20-node model; compare ----
+# Target for the simulation: under 2 s, memory about rows x nodes x 8 bytes;
+# beside numpy generating the same model.  compare{} with 5 sets and 200
+# bootstrap replicates on 1e5 rows: seconds (no reference library does it).
+if [ -x "$B/sluice" ]; then
+  SEM_ROWS=${SEM_ROWS:-10000000}
+  sm_r=$( { SLUICE_NOW=1 /usr/bin/time -f "peak_kb=%M" "$B/sluice" bench/bench_sem.lua simulate "$SEM_ROWS"; } 2>&1 ) ||
+    failed "bench_sem.lua simulate"
+  sm_s=$(val "$sm_r" seconds); sm_kb=$(val "$sm_r" peak_kb)
+  sm_np=""
+  if "$PYTHON" -c 'import numpy' 2>/dev/null; then
+    sm_np=$("$PYTHON" bench/np_sem.py "$SEM_ROWS") || failed "np_sem.py"
+  fi
+  row "simulate 1e7 rows x 20 nodes" "$(secs "$sm_s")" "2 s" "$(ratio "$sm_s" 2)" \
+      "${sm_np:+numpy $(secs "$(val "$sm_np" seconds)")}" "$(ratio "$sm_s" "$(val "$sm_np" seconds)")"
+  sm_bound=$(awk -v r="$SEM_ROWS" 'BEGIN { print r * 20 * 8 / 1024 }')
+  row "peak memory, that simulation" "$(mb "$sm_kb")" "$(mb "$sm_bound")" "$(ratio "$sm_kb" "$sm_bound")" \
+      "${sm_np:+numpy $(val "$sm_np" peak_mb) MB}" ""
+  cp_r=$(SLUICE_NOW=1 "$B/sluice" bench/bench_sem.lua compare 100000) || failed "bench_sem.lua compare"
+  row "compare, 5 sets x 200 boot, 1e5" "$(secs "$(val "$cp_r" seconds)")" "-" "-" "-" "-"
+  echo "       simulation: wall time of m:simulate alone; rows x nodes x 8 bytes is the memory bound; numpy: the same equations"
+fi
+# ---- 10: the session log ----
+# Per-command overhead of the log at the prompt (target: under 1 ms plus the
+# fsync), and the replay of a 1 000-command log.
+if [ -x "$B/sluice" ]; then
+  lg_dir=$(mktemp -d)
+  i=0; : > "$lg_dir/in.lua"
+  while [ $i -lt 1000 ]; do echo "x = $i + 1" >> "$lg_dir/in.lua"; i=$((i + 1)); done
+  lg_t0=$(date +%s.%N); "$B/sluice" -q -i --no-log < "$lg_dir/in.lua" > /dev/null 2>&1; lg_t1=$(date +%s.%N)
+  "$B/sluice" -q -i --log "$lg_dir/s.lua" < "$lg_dir/in.lua" > /dev/null 2>&1; lg_t2=$(date +%s.%N)
+  lg_per=$(awk -v a="$lg_t0" -v b="$lg_t1" -v c="$lg_t2" 'BEGIN { print ((c - b) - (b - a)) / 1000 }')
+  row "log overhead per command" "$(tms "$lg_per")" "1 ms" "$(ratio "$lg_per" 0.001)" "(includes the fsync)" ""
+  lg_t3=$(date +%s.%N); "$B/sluice" --replay "$lg_dir/s.lua" > /dev/null 2>&1 || failed "replay of the 1000-command log"
+  lg_t4=$(date +%s.%N)
+  row "replay of a 1000-command log" "$(secs "$(awk -v a="$lg_t3" -v b="$lg_t4" 'BEGIN { print b - a }')")" "-" "-" "-" "-"
+  rm -rf "$lg_dir"
+fi
+# ---- end of 10 ----
 echo "bench: done"
 exit $fail
