@@ -23,31 +23,10 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
-#include <time.h>
-#include "graph.h"
-#include "notation.h"
+#include "bench_common.h"
+#include "bench_graph.h"
 #include "separation.h"
 #include "adjust.h"
-
-static double now(void) {
-  struct timespec ts;
-  clock_gettime(CLOCK_MONOTONIC, &ts);
-  return (double)ts.tv_sec + (double)ts.tv_nsec * 1e-9;
-}
-
-static char *slurp(const char *path, size_t *len) {
-  FILE *f = fopen(path, "rb");
-  struct stat st;
-  if (!f || fstat(fileno(f), &st) != 0) { perror(path); exit(1); }
-  char *text = malloc((size_t)st.st_size + 1);
-  if (!text) { fprintf(stderr, "bench_adjust: out of memory\n"); exit(1); }
-  *len = fread(text, 1, (size_t)st.st_size, f);
-  if (*len != (size_t)st.st_size) { fprintf(stderr, "bench_adjust: short read\n"); exit(1); }
-  fclose(f);
-  text[*len] = '\0';
-  return text;
-}
 
 /* What the callback keeps: the time of each set and the sets themselves. */
 typedef struct record {
@@ -98,23 +77,11 @@ int main(int argc, char **argv) {
   if (argc != 5) { fprintf(stderr, "usage: bench_adjust FILE X Y LIMIT\n"); return 2; }
   size_t limit = strtoull(argv[4], NULL, 10);
   if (limit < 1) limit = 1;
-  size_t len;
-  char *text = slurp(argv[1], &len);
+  sl_graph *g = load_graph(argv[1], "bench_adjust");
+  int32_t x, y;
+  find_two(g, argv[2], argv[3], &x, &y, "bench_adjust");
   sl_error e;
   memset(&e, 0, sizeof e);
-  sl_graph *g = sl_graph_parse(text, len, &e);
-  if (!g) {
-    char msg[2048];
-    fprintf(stderr, "bench_adjust: %s\n", sl_error_format(&e, text, len, msg, sizeof msg));
-    return 1;
-  }
-  free(text);
-  int32_t x = sl_graph_find(g, argv[2], strlen(argv[2]));
-  int32_t y = sl_graph_find(g, argv[3], strlen(argv[3]));
-  if (x < 0 || y < 0 || x == y) {
-    fprintf(stderr, "bench_adjust: need two distinct nodes of the graph\n");
-    return 2;
-  }
   record r;
   memset(&r, 0, sizeof r);
   r.limit = limit;

@@ -27,57 +27,10 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
-#include <time.h>
-#include "graph.h"
-#include "notation.h"
+#include "bench_common.h"
+#include "bench_graph.h"
+#include "bench_rng.h"
 #include "separation.h"
-
-static uint64_t mix64(uint64_t z) {
-  z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ull;
-  z = (z ^ (z >> 27)) * 0x94d049bb133111ebull;
-  return z ^ (z >> 31);
-}
-
-static uint64_t state;
-static uint64_t next_u64(void) { return mix64(state += 0x9e3779b97f4a7c15ull); }
-
-/* Uniform in [0, n) by rejection. */
-static uint64_t below(uint64_t n) {
-  uint64_t lim = UINT64_MAX - UINT64_MAX % n, r;
-  do r = next_u64(); while (r >= lim);
-  return r % n;
-}
-
-static double now(void) {
-  struct timespec ts;
-  clock_gettime(CLOCK_MONOTONIC, &ts);
-  return (double)ts.tv_sec + (double)ts.tv_nsec * 1e-9;
-}
-
-static char *slurp(const char *path, size_t *len) {
-  FILE *f = fopen(path, "rb");
-  struct stat st;
-  if (!f || fstat(fileno(f), &st) != 0) { perror(path); exit(1); }
-  char *text = malloc((size_t)st.st_size + 1);
-  if (!text) { fprintf(stderr, "bench_dsep: out of memory\n"); exit(1); }
-  *len = fread(text, 1, (size_t)st.st_size, f);
-  if (*len != (size_t)st.st_size) { fprintf(stderr, "bench_dsep: short read\n"); exit(1); }
-  fclose(f);
-  text[*len] = '\0';
-  return text;
-}
-
-/* Index i of a name "n<i>", or -1. */
-static int64_t name_index(const char *s) {
-  if (s[0] != 'n' || !s[1]) return -1;
-  int64_t v = 0;
-  for (const char *p = s + 1; *p; p++) {
-    if (*p < '0' || *p > '9') return -1;
-    v = v * 10 + (*p - '0');
-  }
-  return v;
-}
 
 #define ZMAX 5
 
@@ -128,22 +81,17 @@ int main(int argc, char **argv) {
     return 2;
   }
   size_t nq = strtoull(argv[2], NULL, 10);
-  state = strtoull(argv[3], NULL, 10);
+  rng_state = strtoull(argv[3], NULL, 10);
   int reps = atoi(argv[4]);
   if (nq < 1 || reps < 1) { fprintf(stderr, "bench_dsep: need QUERIES, REPS >= 1\n"); return 2; }
   size_t len;
-  char *text = slurp(argv[1], &len);
+  char *text = slurp(argv[1], &len, "bench_dsep");
+  double t0 = now();
+  sl_graph *g = parse_graph(text, len, "bench_dsep");
+  double parse_s = now() - t0;
+  free(text);
   sl_error e;
   memset(&e, 0, sizeof e);
-  double t0 = now();
-  sl_graph *g = sl_graph_parse(text, len, &e);
-  double parse_s = now() - t0;
-  if (!g) {
-    char msg[2048];
-    fprintf(stderr, "bench_dsep: %s\n", sl_error_format(&e, text, len, msg, sizeof msg));
-    return 1;
-  }
-  free(text);
   size_t n = sl_graph_nnodes(g);
   /* id[i] is the node named n<i> */
   int32_t *id = malloc(n * sizeof *id);

@@ -16,54 +16,9 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/resource.h>
-#include <sys/stat.h>
-#include <time.h>
-#include "graph.h"
-#include "notation.h"
-
-static uint64_t mix64(uint64_t z) {
-  z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ull;
-  z = (z ^ (z >> 27)) * 0x94d049bb133111ebull;
-  return z ^ (z >> 31);
-}
-
-static double now(void) {
-  struct timespec ts;
-  clock_gettime(CLOCK_MONOTONIC, &ts);
-  return (double)ts.tv_sec + (double)ts.tv_nsec * 1e-9;
-}
-
-static long maxrss_kb(void) {
-  struct rusage ru;
-  getrusage(RUSAGE_SELF, &ru);
-  return ru.ru_maxrss;
-}
-
-/* The whole file in one allocation (so reading leaves no spare peak). */
-static char *slurp(const char *path, size_t *len) {
-  FILE *f = fopen(path, "rb");
-  struct stat st;
-  if (!f || fstat(fileno(f), &st) != 0) { perror(path); exit(1); }
-  char *text = malloc((size_t)st.st_size + 1);
-  if (!text) { fprintf(stderr, "bench_parse: out of memory\n"); exit(1); }
-  *len = fread(text, 1, (size_t)st.st_size, f);
-  if (*len != (size_t)st.st_size) { fprintf(stderr, "bench_parse: short read\n"); exit(1); }
-  fclose(f);
-  text[*len] = '\0';
-  return text;
-}
-
-/* Index i of a name "n<i>", or -1. */
-static int64_t name_index(const char *s) {
-  if (s[0] != 'n' || !s[1]) return -1;
-  int64_t v = 0;
-  for (const char *p = s + 1; *p; p++) {
-    if (*p < '0' || *p > '9') return -1;
-    v = v * 10 + (*p - '0');
-  }
-  return v;
-}
+#include "bench_common.h"
+#include "bench_graph.h"
+#include "bench_rng.h"
 
 /* 0 when g has exactly the nodes, edges and checksum the generator wrote. */
 static int check(const sl_graph *g, uint64_t nodes, uint64_t edges, uint64_t sum) {
@@ -100,7 +55,7 @@ static int check(const sl_graph *g, uint64_t nodes, uint64_t edges, uint64_t sum
 int main(int argc, char **argv) {
   if (argc == 3 && strcmp(argv[1], "read") == 0) {
     size_t len;
-    char *text = slurp(argv[2], &len);
+    char *text = slurp(argv[2], &len, "bench_parse");
     printf("bytes=%zu rss_kb=%ld\n", len, maxrss_kb());
     free(text);
     return 0;
@@ -114,20 +69,13 @@ int main(int argc, char **argv) {
   uint64_t sum = strtoull(argv[5], NULL, 10);
   int reps = atoi(argv[6]);
   size_t len;
-  char *text = slurp(argv[2], &len);
+  char *text = slurp(argv[2], &len, "bench_parse");
   double best = 1e30;
   long rss = 0;
   for (int r = 0; r < (reps > 0 ? reps : 1); r++) {
-    sl_error e;
-    memset(&e, 0, sizeof e);
     double t0 = now();
-    sl_graph *g = sl_graph_parse(text, len, &e);
+    sl_graph *g = parse_graph(text, len, "bench_parse");
     double t = now() - t0;
-    if (!g) {
-      char msg[2048];
-      fprintf(stderr, "bench_parse: %s\n", sl_error_format(&e, text, len, msg, sizeof msg));
-      return 1;
-    }
     if (r == 0) {
       rss = maxrss_kb();
       if (check(g, nodes, edges, sum)) return 1;

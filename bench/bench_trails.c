@@ -17,30 +17,9 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
-#include <time.h>
-#include "graph.h"
-#include "notation.h"
+#include "bench_common.h"
+#include "bench_graph.h"
 #include "separation.h"
-
-static double now(void) {
-  struct timespec ts;
-  clock_gettime(CLOCK_MONOTONIC, &ts);
-  return (double)ts.tv_sec + (double)ts.tv_nsec * 1e-9;
-}
-
-static char *slurp(const char *path, size_t *len) {
-  FILE *f = fopen(path, "rb");
-  struct stat st;
-  if (!f || fstat(fileno(f), &st) != 0) { perror(path); exit(1); }
-  char *text = malloc((size_t)st.st_size + 1);
-  if (!text) { fprintf(stderr, "bench_trails: out of memory\n"); exit(1); }
-  *len = fread(text, 1, (size_t)st.st_size, f);
-  if (*len != (size_t)st.st_size) { fprintf(stderr, "bench_trails: short read\n"); exit(1); }
-  fclose(f);
-  text[*len] = '\0';
-  return text;
-}
 
 typedef struct tally { uint64_t trails, edges; } tally;
 
@@ -54,22 +33,11 @@ static int count(void *ctx, const sl_trail *t) {
 int main(int argc, char **argv) {
   if (argc != 5) { fprintf(stderr, "usage: bench_trails FILE X Y REPS\n"); return 2; }
   int reps = atoi(argv[4]);
-  size_t len;
-  char *text = slurp(argv[1], &len);
+  sl_graph *g = load_graph(argv[1], "bench_trails");
+  int32_t x, y;
+  find_two(g, argv[2], argv[3], &x, &y, "bench_trails");
   sl_error e;
   memset(&e, 0, sizeof e);
-  sl_graph *g = sl_graph_parse(text, len, &e);
-  if (!g) {
-    char msg[2048];
-    fprintf(stderr, "bench_trails: %s\n", sl_error_format(&e, text, len, msg, sizeof msg));
-    return 1;
-  }
-  int32_t x = sl_graph_find(g, argv[2], strlen(argv[2]));
-  int32_t y = sl_graph_find(g, argv[3], strlen(argv[3]));
-  if (x < 0 || y < 0 || x == y) {
-    fprintf(stderr, "bench_trails: need two distinct nodes of the graph\n");
-    return 2;
-  }
   tally first = {0, 0};
   double best = 1e30;
   for (int r = 0; r < (reps > 0 ? reps : 1); r++) {
@@ -89,6 +57,5 @@ int main(int argc, char **argv) {
   printf("trails=%llu edges=%llu best_s=%.6f per_s=%.0f\n", (unsigned long long)first.trails,
          (unsigned long long)first.edges, best, best > 0 ? (double)first.trails / best : 0.0);
   sl_graph_free(g);
-  free(text);
   return 0;
 }

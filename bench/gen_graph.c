@@ -16,23 +16,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-
-/* splitmix64: the PRNG and the checksum mixer. */
-static uint64_t mix64(uint64_t z) {
-  z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ull;
-  z = (z ^ (z >> 27)) * 0x94d049bb133111ebull;
-  return z ^ (z >> 31);
-}
-
-static uint64_t state;
-static uint64_t next_u64(void) { return mix64(state += 0x9e3779b97f4a7c15ull); }
-
-/* Uniform in [0, n) by rejection. */
-static uint64_t below(uint64_t n) {
-  uint64_t lim = UINT64_MAX - UINT64_MAX % n, r;
-  do r = next_u64(); while (r >= lim);
-  return r % n;
-}
+#include "bench_rng.h"
 
 /* Write "n<v>" into p; returns the number of bytes. */
 static size_t put_name(char *p, uint64_t v) {
@@ -50,7 +34,7 @@ int main(int argc, char **argv) {
     return 2;
   }
   uint64_t n = strtoull(argv[1], NULL, 10), m = strtoull(argv[2], NULL, 10);
-  state = strtoull(argv[3], NULL, 10);
+  rng_state = strtoull(argv[3], NULL, 10);
   if (n < 2 || m > n * (n - 1) / 4) {
     fprintf(stderr, "gen_graph: need NODES >= 2 and EDGES <= NODES*(NODES-1)/4\n");
     return 2;

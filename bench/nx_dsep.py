@@ -15,6 +15,8 @@ when networkx cannot be imported.  Exit status 1 when any answer differs.
 import sys
 import time
 
+import nx_graph
+
 
 def main():
     path, qpath, count = sys.argv[1], sys.argv[2], int(sys.argv[3])
@@ -24,12 +26,8 @@ def main():
         print("missing=1")
         return 0
     separated = getattr(nx, "is_d_separator", None) or nx.d_separated
-    with open(path, encoding="utf-8") as f:
-        lines = f.read().splitlines()
-    edge_lines = [ln for ln in lines if " -> " in ln]
-    alone = [ln.strip() for ln in lines if ln and not ln.startswith("#") and " -> " not in ln]
-    g = nx.parse_edgelist(edge_lines, delimiter=" -> ", create_using=nx.DiGraph, data=False)
-    g.add_nodes_from(alone)
+    edge_lines, alone = nx_graph.read_lines(path)
+    g = nx_graph.build(edge_lines, alone, nx.DiGraph)
     with open(qpath, encoding="utf-8") as f:
         queries = [ln.split() for ln in f.read().splitlines() if ln.strip()]
     queries = queries[:max(count, 1)]

@@ -13,6 +13,8 @@ cannot be imported.
 import sys
 import time
 
+import nx_graph
+
 
 def main():
     path, x, y = sys.argv[1], sys.argv[2], sys.argv[3]
@@ -21,12 +23,8 @@ def main():
     except ImportError:
         print("missing=1")
         return 0
-    with open(path, encoding="utf-8") as f:
-        lines = f.read().splitlines()
-    edge_lines = [ln for ln in lines if " -> " in ln]
-    alone = [ln.strip() for ln in lines if ln and not ln.startswith("#") and " -> " not in ln]
-    g = nx.parse_edgelist(edge_lines, delimiter=" -> ", create_using=nx.Graph, data=False)
-    g.add_nodes_from(alone)
+    edge_lines, alone = nx_graph.read_lines(path)
+    g = nx_graph.build(edge_lines, alone, nx.Graph)
     count, edges = 0, 0
     t0 = time.perf_counter()
     for p in nx.all_simple_paths(g, x, y):

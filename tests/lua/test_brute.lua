@@ -35,6 +35,12 @@ end
 local function sorted(t) local c = {} for i, v in ipairs(t) do c[i] = v end table.sort(c) return c end
 local function key(set) return table.concat(sorted(set), ",") end
 local function setof(list) local s = {} for _, v in ipairs(list) do s[v] = true end return s end
+-- The members of list other than x and y, in order.
+local function without(list, x, y)
+  local out = {}
+  for _, v in ipairs(list) do if v ~= x and v ~= y then out[#out + 1] = v end end
+  return out
+end
 
 -- A random graph text: 3..7 observed nodes n0.., directed edges along a
 -- random order; kind 2 adds one or two <-> edges, kind 3 a hidden node with
@@ -299,8 +305,7 @@ test("brute: g:admissible agrees with the adjustment criterion", function()
     for _, xy in ipairs(c.pairs) do
       local x, y = xy[1], xy[2]
       local P = paths(G, x, y)
-      local others = {}
-      for _, v in ipairs(G.observed) do if v ~= x and v ~= y then others[#others + 1] = v end end
+      local others = without(G.observed, x, y)
       for _, Z in ipairs(subsets(others)) do
         local want = my_admissible(G, x, y, setof(Z), P)
         local ok, reasons = g:admissible(x, y, Z)
@@ -342,8 +347,7 @@ test("brute: g:adjust lists exactly the minimal admissible sets", function()
     local G, g = c.G, c.g
     for _, xy in ipairs(c.pairs) do
       local x, y = xy[1], xy[2]
-      local others = {}
-      for _, v in ipairs(G.observed) do if v ~= x and v ~= y then others[#others + 1] = v end end
+      local others = without(G.observed, x, y)
       local family = {}
       for _, Z in ipairs(subsets(others)) do
         if g:admissible(x, y, Z) then family[#family + 1] = Z end
@@ -449,8 +453,7 @@ test("brute: g:backdoor agrees with Pearl's back-door criterion", function()
     for _, xy in ipairs(c.pairs) do
       local x, y = xy[1], xy[2]
       local P = paths(G, x, y)
-      local others = {}
-      for _, v in ipairs(G.observed) do if v ~= x and v ~= y then others[#others + 1] = v end end
+      local others = without(G.observed, x, y)
       for _, Z in ipairs(subsets(others)) do
         local want = my_backdoor(G, x, y, setof(Z), P)
         local ok = g:backdoor(x, y, Z)
@@ -510,8 +513,7 @@ test("brute: g:cheapest finds a smallest and a least-cost admissible set", funct
     for _, xy in ipairs(c.pairs) do
       local x, y = xy[1], xy[2]
       local P = paths(G, x, y)
-      local others = {}
-      for _, v in ipairs(G.observed) do if v ~= x and v ~= y then others[#others + 1] = v end end
+      local others = without(G.observed, x, y)
       local costs = {}
       for _, v in ipairs(G.observed) do costs[v] = rnd(6) - 1 end
       local best_size, best_cost = math.huge, math.huge
@@ -569,8 +571,7 @@ test("brute: g:trails lists every path with its kind and state", function()
     local G, g = c.G, c.g
     for _, xy in ipairs(c.pairs) do
       local x, y = xy[1], xy[2]
-      local pool = {}
-      for _, v in ipairs(G.nodes) do if v ~= x and v ~= y then pool[#pool + 1] = v end end
+      local pool = without(G.nodes, x, y)
       shuffle(pool)
       local Z = {}
       for i = 1, rnd(math.min(3, #pool) + 1) - 1 do Z[#Z + 1] = pool[i] end
@@ -642,8 +643,7 @@ test("brute: g:adjust on 8-12 node graphs equals the minimal admissible sets", f
     local text = table.concat(st, "; ")
     local g = graph(text)
     local x, y = order[1], order[2 + rnd(n - 1) - 1]
-    local others = {}
-    for _, v in ipairs(g:nodes()) do if v ~= x and v ~= y then others[#others + 1] = v end end
+    local others = without(g:nodes(), x, y)
     local fam = {}
     for m = 0, (1 << #others) - 1 do
       local Z = {}

@@ -12,88 +12,17 @@ still parses as Lua.
 Standard library only.  Environment: B, the build directory.
 """
 import os
-import pty
 import re
-import select
 import shutil
 import signal
 import subprocess
 import sys
 import tempfile
-import time
+
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "lib"))
+from ptyutil import PASSED, PROMPT, Session, fail, ok, sluice_exe, terminal_env
 
 TIMEOUT = 20.0
-PROMPT = "sluice> "
-CONTROL = re.compile(r"\x1b\[[0-9;?]*[A-Za-z]|\x1b\][^\x07]*\x07|\x1b[=>()][0-9A-Za-z]?|[\x07\x08\r]")
-PASSED = []
-
-
-def fail(why, detail):
-    print("FAIL  %s\n      %s" % (why, detail.replace("\n", "\n      ")))
-    sys.exit(1)
-
-
-def ok(what):
-    PASSED.append(what)
-    print("ok    " + what)
-
-
-class Session:
-    """One sluice prompt on a pseudo-terminal."""
-
-    def __init__(self, argv, env, cwd):
-        self.pid, self.fd = pty.fork()
-        if self.pid == 0:
-            os.chdir(cwd)
-            os.execve(argv[0], argv, env)
-        self.raw = b""
-        self.seen = 0
-        self.closed = False
-
-    def text(self):
-        return CONTROL.sub("", self.raw.decode("utf-8", "replace"))
-
-    def read_some(self, wait):
-        ready, _, _ = select.select([self.fd], [], [], wait)
-        if not ready:
-            return
-        try:
-            data = os.read(self.fd, 4096)
-        except OSError:
-            data = b""
-        if not data:
-            self.closed = True
-        self.raw += data
-
-    def expect(self, pattern, why):
-        rx = re.compile(pattern)
-        deadline = time.monotonic() + TIMEOUT
-        while True:
-            m = rx.search(self.text(), self.seen)
-            if m:
-                self.seen = m.end()
-                return m
-            if self.closed or time.monotonic() > deadline:
-                fail(why, "waited for %r; the end of the screen was:\n%s"
-                     % (pattern, self.text()[-800:]))
-            self.read_some(0.2)
-
-    def command(self, line, why):
-        mark = self.seen
-        os.write(self.fd, (line + "\r").encode())
-        self.expect(re.escape(PROMPT), why)
-        return self.text()[mark:self.seen]
-
-    def wait_exit(self):
-        deadline = time.monotonic() + TIMEOUT
-        while time.monotonic() < deadline:
-            pid, status = os.waitpid(self.pid, os.WNOHANG)
-            if pid == self.pid:
-                return os.waitstatus_to_exitcode(status)
-            self.read_some(0.1)
-        os.kill(self.pid, signal.SIGKILL)
-        os.waitpid(self.pid, 0)
-        fail("the session ends", "still running after %.0f s" % TIMEOUT)
 
 
 def replay(exe, log, cwd, *extra):
@@ -126,8 +55,7 @@ SESSION = [
 
 
 def main():
-    build = os.environ.get("B", "build")
-    exe = os.path.abspath(os.path.join(build, "sluice"))
+    exe = sluice_exe()
     data = os.path.abspath("tests/data/orchard.csv")
     tmp = tempfile.mkdtemp(prefix="sluice-log.")
     try:
@@ -139,15 +67,11 @@ def main():
 
 def run(exe, data, tmp):
     shutil.copy(data, os.path.join(tmp, "plots.csv"))
-    inputrc = os.path.join(tmp, "inputrc")
-    open(inputrc, "w").close()
-    env = {k: v for k, v in os.environ.items() if not k.startswith("LUA_INIT")}
-    env.update(HOME=os.path.join(tmp, "home"), XDG_STATE_HOME=os.path.join(tmp, "state"),
-               TERM="xterm", INPUTRC=inputrc, LC_ALL="C.UTF-8")
+    env = terminal_env(tmp)
     log = "session.lua"
     logpath = os.path.join(tmp, log)
 
-    s = Session([exe, "-q", "--log", log], env, tmp)
+    s = Session([exe, "-q", "--log", log], env, tmp, timeout=TIMEOUT)
     s.expect(r"session log: session\.lua", "the shell says where the log goes")
     s.expect(re.escape(PROMPT), "the prompt appears")
     ok("the shell says where the log goes")
@@ -155,8 +79,8 @@ def run(exe, data, tmp):
         out = s.command(line, line)
         if want and not re.search(want, out):
             fail("the session runs", "%r printed:\n%s" % (line, out))
-    os.write(s.fd, b"\x04")
-    if s.wait_exit() != 0:
+    s.send("\x04")
+    if s.wait_exit("the session ends") != 0:
         fail("Ctrl-D leaves", "non-zero status")
     text = open(logpath, encoding="utf-8").read()
     for want in ("--@ sluice ", "--@ started ", "--@ in 1\nx = 41\n", "show(x + 1)\n--| 42\n",
@@ -216,7 +140,7 @@ def run(exe, data, tmp):
 
 def kill_test(exe, env, tmp):
     log = "killed.lua"
-    s = Session([exe, "-q", "--log", log], env, tmp)
+    s = Session([exe, "-q", "--log", log], env, tmp, timeout=TIMEOUT)
     s.expect(re.escape(PROMPT), "the prompt appears")
     cmds = ["a = 6", "a * 7", 'print("orchard " .. a)', "for k = 1, 3 do\rprint(k)\rend"]
     for c in cmds:

@@ -10,116 +10,19 @@ waits for its end; Ctrl-D leaves with status 0; the history file is written.
 
 Standard library only.  Environment: B, the build directory.
 """
-import fcntl
 import os
-import pty
 import re
-import select
 import shutil
-import struct
 import sys
 import tempfile
-import termios
 import time
 
-TIMEOUT = 10.0
-PROMPT = "sluice> "
-MORE = "...> "
-# Terminal control sequences that Readline writes between the characters,
-# and carriage returns: what is left reads as plain lines.
-CONTROL = re.compile(r"\x1b\[[0-9;?]*[A-Za-z]|\x1b\][^\x07]*\x07|\x1b[=>()][0-9A-Za-z]?|[\x07\x08\r]")
-
-
-class Session:
-    """One sluice process on a pseudo-terminal, and all it has written."""
-
-    def __init__(self, exe, env):
-        self.pid, self.fd = pty.fork()
-        if self.pid == 0:
-            os.execve(exe, [exe, "-q", "--no-log"], env)
-        fcntl.ioctl(self.fd, termios.TIOCSWINSZ, struct.pack("HHHH", 24, 100, 0, 0))
-        self.raw = b""
-        self.seen = 0          # offset in text() already matched
-        self.closed = False
-
-    def text(self):
-        """Everything written so far, control sequences removed."""
-        return CONTROL.sub("", self.raw.decode("utf-8", "replace"))
-
-    def read_some(self, wait):
-        """Read what is there within wait seconds; False at end of output."""
-        ready, _, _ = select.select([self.fd], [], [], wait)
-        if not ready:
-            return True
-        try:
-            data = os.read(self.fd, 4096)
-        except OSError:
-            data = b""
-        if not data:
-            self.closed = True
-            return False
-        self.raw += data
-        return True
-
-    def expect(self, pattern, why):
-        """Wait until pattern (a regex) appears after what was matched last."""
-        rx = re.compile(pattern)
-        deadline = time.monotonic() + TIMEOUT
-        while True:
-            m = rx.search(self.text(), self.seen)
-            if m:
-                self.seen = m.end()
-                return self.text()[m.start():m.end()]
-            if self.closed or time.monotonic() > deadline:
-                fail(why, "waited %.0f s for %r; the end of the screen was:\n%s"
-                     % (TIMEOUT, pattern, self.text()[-800:]))
-            self.read_some(0.2)
-
-    def since(self, mark):
-        """The text written from offset mark up to what was matched last."""
-        return self.text()[mark:self.seen]
-
-    def send(self, keys):
-        os.write(self.fd, keys.encode())
-
-    def command(self, line, why, then=PROMPT):
-        """Type line and Enter, wait for the next prompt; return the output."""
-        mark = self.seen
-        self.send(line + "\r")
-        self.expect(re.escape(then), why)
-        return self.since(mark)
-
-    def wait_exit(self):
-        """The exit status, after draining the output (at most TIMEOUT)."""
-        deadline = time.monotonic() + TIMEOUT
-        while time.monotonic() < deadline:
-            pid, status = os.waitpid(self.pid, os.WNOHANG)
-            if pid == self.pid:
-                return os.waitstatus_to_exitcode(status)
-            self.read_some(0.1)
-        os.kill(self.pid, 9)
-        os.waitpid(self.pid, 0)
-        fail("Ctrl-D should leave", "the shell was still running after %.0f s" % TIMEOUT)
-
-
-def fail(why, detail):
-    print("FAIL  %s\n      %s" % (why, detail.replace("\n", "\n      ")))
-    sys.exit(1)
-
-
-PASSED = []
-
-
-def ok(what):
-    PASSED.append(what)
-    print("ok    " + what)
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "lib"))
+from ptyutil import MORE, PASSED, PROMPT, Session, fail, ok, sluice_exe, terminal_env
 
 
 def main():
-    build = os.environ.get("B", "build")
-    exe = os.path.abspath(os.path.join(build, "sluice"))
-    if not os.access(exe, os.X_OK):
-        fail("the program exists", "no executable at " + exe)
+    exe = sluice_exe()
     tmp = tempfile.mkdtemp(prefix="sluice-pty.")
     try:
         run(exe, tmp)
@@ -129,12 +32,8 @@ def main():
 
 def run(exe, tmp):
     state = os.path.join(tmp, "state")
-    inputrc = os.path.join(tmp, "inputrc")
-    open(inputrc, "w").close()  # no site key bindings
-    env = {k: v for k, v in os.environ.items() if not k.startswith("LUA_INIT")}
-    env.update(HOME=os.path.join(tmp, "home"), XDG_STATE_HOME=state,
-               TERM="xterm", INPUTRC=inputrc, LC_ALL="C.UTF-8")
-    s = Session(exe, env)
+    env = terminal_env(tmp)
+    s = Session([exe, "-q", "--no-log"], env, size=(24, 100), timeout=10.0)
 
     s.expect(re.escape(PROMPT), "the prompt appears")
     ok("the prompt appears")
@@ -220,7 +119,7 @@ def run(exe, tmp):
     ok("a chunk over several lines waits for its end, then runs")
 
     s.send("\x04")
-    code = s.wait_exit()
+    code = s.wait_exit("Ctrl-D should leave")
     if code != 0:
         fail("Ctrl-D leaves with status 0", "the status was %r" % code)
     ok("Ctrl-D on an empty line leaves with status 0")
