@@ -101,7 +101,13 @@ fuzz:
 	  -fsanitize=fuzzer,address,undefined -Isrc/graph \
 	  tests/fuzz/fuzz_notation.c $(wildcard src/graph/*.c) \
 	  $(shell pkg-config --cflags --libs libgvc) -o $(B)/fuzz/fuzz_notation
+	clang -std=c11 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -g -O1 \
+	  -fsanitize=fuzzer,address,undefined -Isrc/graph -Isrc/stats \
+	  tests/fuzz/fuzz_csv.c src/graph/error.c src/stats/frame.c src/stats/csv.c \
+	  src/stats/sql.c src/stats/fingerprint.c \
+	  $(shell pkg-config --cflags --libs sqlite3 libsodium) -lcsv -lm -o $(B)/fuzz/fuzz_csv
 	sh tests/fuzz/run.sh $(B)/fuzz/fuzz_notation $(FUZZ_TIME)
+	sh tests/fuzz/run.sh $(B)/fuzz/fuzz_csv $(FUZZ_TIME) tests/fuzz/csv_corpus
 
 bench: all
 	@B=$(B) PYTHON=$(PYTHON) sh bench/run.sh

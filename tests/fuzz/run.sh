@@ -1,6 +1,6 @@
 #!/bin/sh
 # run.sh: run the notation fuzzer for a while and report in one line.
-#   sh tests/fuzz/run.sh BINARY SECONDS
+#   sh tests/fuzz/run.sh BINARY SECONDS [CORPUS]
 # The seed corpus (tests/fuzz/corpus) is copied to a scratch directory under
 # build/, so new inputs found by the run never land in the source tree.
 # Exits non-zero when libFuzzer reports a crash, a leak or a timeout.
@@ -9,7 +9,8 @@ bin=${1:?usage: sh tests/fuzz/run.sh BINARY SECONDS}
 secs=${2:-60}
 here=$(cd "$(dirname "$0")" && pwd)
 root=$(cd "$here/../.." && pwd)
-corpus="$here/corpus"
+corpus=${3:-$here/corpus}
+case $corpus in /*) ;; *) corpus="$root/$corpus" ;; esac
 build=${B:-build}
 case $build in /*) ;; *) build="$root/$build" ;; esac
 scratch="$build/fuzz/scratch.$$"
