@@ -99,6 +99,44 @@ double sl_est_contrast(int scale, double mu1, double mu0) {
   return mu1 - mu0;
 }
 
+/* For a linear outcome model the mean prediction is the prediction at the
+** mean design row, so the standardized means need one pass of sums, not a
+** prediction per row.  ta/tb: the treatment values to set (NULL: 1 / 0). */
+static int linear_means(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
+                        int inter, const double *ta, const double *tb, double *mu_a,
+                        double *mu_b, char *warn, sl_error *e) {
+  size_t p = 2 + P->q * (inter ? 2 : 1);
+  double *X = malloc(n * p * sizeof *X), *y = malloc(n * sizeof *y);
+  double *ra = calloc(p, sizeof *ra), *rb = calloc(p, sizeof *rb), *row = malloc(p * sizeof *row);
+  int rc = SL_OK;
+  if (!X || !y || !ra || !rb || !row) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  size_t m = 0;
+  for (size_t k = 0; k < n; k++) {
+    size_t i = ix[k];
+    outcome_row(P, i, P->t[i], inter, X + k * p);
+    y[k] = P->y[i];
+    if (P->bin_t && !in_target(s, P->t[i])) continue;
+    m++;
+    outcome_row(P, i, ta ? ta[i] : 1, inter, row);
+    for (size_t j = 0; j < p; j++) ra[j] += row[j];
+    outcome_row(P, i, tb ? tb[i] : 0, inter, row);
+    for (size_t j = 0; j < p; j++) rb[j] += row[j];
+  }
+  if (m == 0) { rc = sl_error_set(e, SL_EARG, 0, 0, "no rows in the target population"); goto done; }
+  sl_fit fit;
+  memset(&fit, 0, sizeof fit);
+  if ((rc = sl_ols(X, y, n, p, P->onames, &fit, e))) goto done;
+  double a = 0, b = 0;
+  for (size_t j = 0; j < p; j++) { a += fit.coef[j] * ra[j]; b += fit.coef[j] * rb[j]; }
+  *mu_a = a / (double)m;
+  *mu_b = b / (double)m;
+  sl_fit_free(&fit);
+  (void)warn;
+done:
+  free(X); free(y); free(ra); free(rb); free(row);
+  return rc;
+}
+
 /* Standardization (g-formula). */
 static int standardize(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
                        sl_point *out, char *warn, sl_error *e) {
@@ -106,6 +144,18 @@ static int standardize(const sl_est_spec *s, const sl_prep *P, const size_t *ix,
   int rc = SL_OK;
   if (!ma || !mb) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
   int inter = s->interactions && P->q > 0;
+  if (!P->bin_y) {   /* linear: the means at the mean design rows */
+    if (!P->bin_t) {
+      tp = malloc(P->n * sizeof *tp);
+      if (!tp) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+      for (size_t i = 0; i < P->n; i++) tp[i] = P->t[i] + s->contrast;
+      rc = linear_means(s, P, ix, n, inter, tp, P->t, &out->mu1, &out->mu0, warn, e);
+    } else rc = linear_means(s, P, ix, n, inter, NULL, NULL, &out->mu1, &out->mu0, warn, e);
+    if (rc) goto done;
+    out->est = sl_est_contrast(s->scale, out->mu1, out->mu0);
+    out->has_se = 0;
+    goto done;
+  }
   if (!P->bin_t) {   /* the average effect of moving every unit by +contrast */
     tp = malloc(P->n * sizeof *tp);
     if (!tp) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
