@@ -682,6 +682,165 @@ static void same_bits_any_threads(void **s) {
   same_bits_case(3000, 100);
 }
 
+/* ---- logistic regression: the normal-equations path ---- */
+
+extern int sl_logit_qr_only;   /* regress.c: nonzero takes the QR path only */
+
+/* Seeded random rows (GSL's MT19937, the given seed) for a logit: an
+** intercept and p - 1 correlated normal columns (column j + 1 is half
+** column j plus noise, column 1 shifted by `shift`), y drawn from the
+** model, or a proportion when `prop` (every fifth row); weights 0 to 3
+** when w is given. */
+static void logit_rows(unsigned long seed, size_t n, size_t p, double shift, int prop, double *X,
+                       double *y, double *w) {
+  gsl_rng *r = gsl_rng_alloc(gsl_rng_mt19937);
+  gsl_rng_set(r, seed);
+  for (size_t i = 0; i < n; i++) {
+    double *row = X + i * p, eta = -0.4;
+    row[0] = 1;
+    for (size_t j = 1; j < p; j++) {
+      row[j] = gsl_ran_gaussian(r, 1.0) + (j > 1 ? 0.5 * row[j - 1] : 0);
+      eta += ((double)(j % 5) - 2) * 0.2 * row[j];
+    }
+    row[1] += shift;
+    double mu = 1 / (1 + exp(-eta));
+    y[i] = prop && i % 5 == 0 ? mu : gsl_rng_uniform(r) < mu;
+    if (w) w[i] = (double)gsl_rng_uniform_int(r, 4);
+  }
+  gsl_rng_free(r);
+}
+
+/* Fit with the normal-equations path (the default) and with the QR path
+** alone; both must converge in the same iterations. */
+static void logit_both(const double *X, const double *y, const double *w, size_t n, size_t p,
+                       sl_fit *fast, sl_fit *qr) {
+  sl_error e;
+  sl_logit_qr_only = 0;
+  assert_int_equal(sl_logit(X, y, w, n, p, NULL, 0, 0, fast, NULL, 0, &e), SL_OK);
+  sl_logit_qr_only = 1;
+  int rc = sl_logit(X, y, w, n, p, NULL, 0, 0, qr, NULL, 0, &e);
+  sl_logit_qr_only = 0;
+  assert_int_equal(rc, SL_OK);
+  assert_true(fast->converged && qr->converged);
+}
+
+/* The two paths agree to 1e-10 (relative; for a coefficient nearer 0
+** than its standard error, 1e-10 of the standard error): the Newton
+** iteration has the same fixed point whichever factorization gives its
+** steps, and both take their standard errors from the QR at the end.  The
+** normal-equations path leaves X'WX to the QR when it is poorly
+** conditioned: from the start (a column near a multiple of the intercept),
+** when it gives the QR path's fit bit for bit, or midway. */
+static void logit_fast_matches_qr(void **s) {
+  (void)s;
+  enum { N = 20000, P = 12 };
+  double *X = malloc(N * P * sizeof *X), *y = malloc(N * sizeof *y), *w = malloc(N * sizeof *w);
+  assert_non_null(X); assert_non_null(y); assert_non_null(w);
+  static const struct { unsigned long seed; int weights, prop; } cases[] = {
+    {5, 0, 0}, {6, 1, 0}, {7, 1, 1},
+  };
+  double worst = 0;
+  for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
+    logit_rows(cases[c].seed, N, P, 0, cases[c].prop, X, y, w);
+    sl_fit a, b;
+    logit_both(X, y, cases[c].weights ? w : NULL, N, P, &a, &b);
+    assert_int_equal(a.iterations, b.iterations);
+    for (size_t j = 0; j < P; j++) {
+      double d = fabs(a.coef[j] - b.coef[j]) / fmax(fabs(b.coef[j]), b.se[j]);
+      assert_true(d <= 1e-10);
+      if (d > worst) worst = d;
+      assert_close(a.se[j], b.se[j], 1e-10, "se, two paths");
+      assert_close(a.robust_se[j], b.robust_se[j], 1e-10, "robust se, two paths");
+    }
+    assert_close(a.loglik, b.loglik, 1e-12, "log-likelihood, two paths");
+    sl_fit_free(&a);
+    sl_fit_free(&b);
+  }
+  printf("logit, normal equations against QR: largest coefficient difference %.2g\n", worst);
+  /* poorly conditioned: column 1 has mean 3000 and standard deviation 1 */
+  logit_rows(8, N, P, 3000, 0, X, y, NULL);
+  sl_fit a, b;
+  logit_both(X, y, NULL, N, P, &a, &b);
+  assert_int_equal(a.iterations, b.iterations);
+  assert_memory_equal(a.coef, b.coef, P * sizeof(double));
+  assert_memory_equal(a.cov, b.cov, P * P * sizeof(double));
+  assert_memory_equal(a.robust_se, b.robust_se, P * sizeof(double));
+  sl_fit_free(&a);
+  sl_fit_free(&b);
+  /* quasi-complete separation where X'WX grows poorly conditioned as the
+  ** fit runs (column 2 is column 1 plus 1/2 on every tenth row, all with
+  ** y = 1; MT19937 seed 3): the normal-equations path hands over to the
+  ** QR midway.  The coefficients of columns 1 and 2 diverge, their sum
+  ** does not; same iterations and warning, and the identified quantities
+  ** agree as above */
+  enum { NS = 2000, PS = 4 };
+  gsl_rng *r = gsl_rng_alloc(gsl_rng_mt19937);
+  gsl_rng_set(r, 3);
+  for (size_t i = 0; i < NS; i++) {
+    double x1 = gsl_ran_gaussian(r, 1.0), z = gsl_ran_gaussian(r, 1.0), *row = X + i * PS;
+    row[0] = 1; row[1] = x1; row[2] = x1 + (i % 10 == 0 ? 0.5 : 0); row[3] = z;
+    y[i] = i % 10 == 0 ? 1 : gsl_rng_uniform(r) < 1 / (1 + exp(-(0.3 * x1 - 0.2 * z)));
+  }
+  gsl_rng_free(r);
+  char wa[256], wb[256];
+  sl_error e;
+  assert_int_equal(sl_logit(X, y, NULL, NS, PS, NULL, 0, 0, &a, wa, sizeof wa, &e), SL_OK);
+  sl_logit_qr_only = 1;
+  int rc = sl_logit(X, y, NULL, NS, PS, NULL, 0, 0, &b, wb, sizeof wb, &e);
+  sl_logit_qr_only = 0;
+  assert_int_equal(rc, SL_OK);
+  assert_int_equal(a.iterations, b.iterations);
+  assert_string_equal(wa, wb);
+  assert_contains(wa, "quasi-complete separation");
+  assert_true(a.coef[2] > 20);
+  assert_close(a.coef[0], b.coef[0], 1e-10, "intercept, two paths, separation");
+  assert_close(a.coef[3], b.coef[3], 1e-10, "z, two paths, separation");
+  assert_close(a.coef[1] + a.coef[2], b.coef[1] + b.coef[2], 1e-10, "b1 + b2, two paths");
+  assert_close(a.se[0], b.se[0], 1e-10, "intercept se, two paths, separation");
+  sl_fit_free(&a);
+  sl_fit_free(&b);
+  free(X); free(y); free(w);
+}
+
+/* Either path gives the same bits with one, two and four BLAS threads
+** (seeded rows as above, with weights and proportions): n = 30000 with
+** p = 30, where the normal equations take several matrix products per
+** block, and n = 3000 with p = 100.  The two paths' bits differ, which
+** shows that the normal equations were used. */
+static void logit_same_bits_any_threads(void **s) {
+  (void)s;
+  static const size_t shape[][2] = {{30000, 30}, {3000, 100}};
+  for (size_t c = 0; c < 2; c++) {
+    size_t n = shape[c][0], p = shape[c][1];
+    double *X = malloc(n * p * sizeof *X), *y = malloc(n * sizeof *y), *w = malloc(n * sizeof *w);
+    assert_non_null(X); assert_non_null(y); assert_non_null(w);
+    logit_rows(10 + c, n, p, 0, 1, X, y, w);
+    sl_fit f[2][3];
+    sl_error e;
+    for (int path = 0; path < 2; path++)
+      for (int k = 0; k < 3; k++) {
+        openblas_set_num_threads(1 << k);
+        sl_logit_qr_only = path;
+        int rc = sl_logit(X, y, w, n, p, NULL, 0, 0, &f[path][k], NULL, 0, &e);
+        sl_logit_qr_only = 0;
+        assert_int_equal(rc, SL_OK);
+        assert_true(f[path][k].converged);
+      }
+    openblas_set_num_threads(1);
+    for (int path = 0; path < 2; path++)
+      for (int k = 1; k < 3; k++) {
+        assert_memory_equal(f[path][0].coef, f[path][k].coef, p * sizeof(double));
+        assert_memory_equal(f[path][0].cov, f[path][k].cov, p * p * sizeof(double));
+        assert_memory_equal(f[path][0].robust_se, f[path][k].robust_se, p * sizeof(double));
+        assert_true(memcmp(&f[path][0].loglik, &f[path][k].loglik, sizeof(double)) == 0);
+      }
+    assert_true(memcmp(f[0][0].coef, f[1][0].coef, p * sizeof(double)) != 0);
+    for (int path = 0; path < 2; path++)
+      for (int k = 0; k < 3; k++) sl_fit_free(&f[path][k]);
+    free(X); free(y); free(w);
+  }
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
     cmocka_unit_test(nist_norris),
@@ -705,6 +864,8 @@ int main(void) {
     cmocka_unit_test(logit_weights),
     cmocka_unit_test(logit_bad_input),
     cmocka_unit_test(same_bits_any_threads),
+    cmocka_unit_test(logit_fast_matches_qr),
+    cmocka_unit_test(logit_same_bits_any_threads),
   };
   return cmocka_run_group_tests(tests, NULL, NULL);
 }
