@@ -76,7 +76,7 @@ $(B)/sluice.so: $(BIND_OBJ) $(B)/libsluice.a
 $(B)/sluice: $(SHELL_OBJ) $(BIND_OBJ) $(B)/libsluice.a
 	$(CC) $(LDFLAGS) -Wl,-E -o $@ $(SHELL_OBJ) $(BIND_OBJ) $(B)/libsluice.a $(PKGLIBS)
 
-$(B)/tests/%: tests/c/%.c $(B)/libsluice.a
+$(B)/tests/%: tests/c/%.c $(wildcard tests/c/*.h) $(B)/libsluice.a
 	@mkdir -p $(dir $@)
 	$(CC) $(ALLCFLAGS) $(LDFLAGS) -o $@ $< $(B)/libsluice.a \
 	  $(shell pkg-config --cflags --libs cmocka) $(LIBLIBS)

@@ -21,6 +21,14 @@ static int opt_field(lua_State *L, int idx, const char *name) {
   return lua_getfield(L, idx, name);
 }
 
+/* The limit option of the options table at 4 (its value stays pushed at
+** index 5, so later option fields keep their stack positions). */
+static lua_Integer opt_limit(lua_State *L, lua_Integer def) {
+  lua_Integer limit = opt_field(L, 4, "limit") != LUA_TNIL ? luaL_checkinteger(L, -1) : def;
+  if (limit < 1) luaL_argerror(L, 3, "limit must be at least 1");
+  return limit;
+}
+
 /* The set at stack index idx as ids and as marks; both live in userdata
 ** pushed on the stack. */
 static unsigned char *marks_at(lua_State *L, const sl_graph *g, int idx, int32_t **ids,
@@ -142,11 +150,9 @@ static int l_trails(lua_State *L) {
   sl_graph *g = sl_bind_checkgraph(L, 1);
   int32_t *x, *y, *zi;
   size_t nx, ny, nz;
-  lua_Integer limit = TRAIL_LIMIT;
   if (!lua_isnoneornil(L, 4)) luaL_checktype(L, 4, LUA_TTABLE);
   lua_settop(L, 4);
-  if (opt_field(L, 4, "limit") != LUA_TNIL) limit = luaL_checkinteger(L, -1);
-  if (limit < 1) luaL_argerror(L, 3, "limit must be at least 1");
+  lua_Integer limit = opt_limit(L, TRAIL_LIMIT);
   opt_field(L, 4, "given");                         /* index 6 */
   unsigned char *z = marks_at(L, g, 6, &zi, &nz);
   check_xy(L, g, &x, &nx, &y, &ny);
@@ -344,9 +350,7 @@ static int l_adjust(lua_State *L) {
   sl_graph *g = sl_bind_checkgraph(L, 1);
   if (!lua_isnoneornil(L, 4)) luaL_checktype(L, 4, LUA_TTABLE);
   lua_settop(L, 4);
-  lua_Integer limit = SET_LIMIT;
-  if (opt_field(L, 4, "limit") != LUA_TNIL) limit = luaL_checkinteger(L, -1);
-  if (limit < 1) luaL_argerror(L, 3, "limit must be at least 1");
+  lua_Integer limit = opt_limit(L, SET_LIMIT);
   int32_t *fi, *ri, *x, *y;
   size_t nf, nr, nx, ny;
   opt_field(L, 4, "forbid");                                /* index 6 */

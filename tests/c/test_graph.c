@@ -25,6 +25,7 @@
 #include <gvc.h>
 
 #include "notation.h"
+#include "test_text.h"
 
 /* ---- helpers ---- */
 
@@ -35,17 +36,6 @@ static sl_graph *parse_ok(const char *text) {
   if (!g) print_error("parse failed: %d at %d:%d: %s\n", e.code, e.line, e.col, e.msg);
   assert_non_null(g);
   return g;
-}
-
-static char *canonical(const sl_graph *g) {
-  sl_buf b;
-  sl_buf_init(&b);
-  sl_graph_write(g, &b);
-  assert_false(b.failed);
-  char *s = strdup(b.data ? b.data : "");
-  sl_buf_free(&b);
-  assert_non_null(s);
-  return s;
 }
 
 static int32_t id(const sl_graph *g, const char *name) {

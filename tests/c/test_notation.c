@@ -27,6 +27,7 @@
 #include <sys/stat.h>
 
 #include "notation.h"
+#include "test_text.h"
 
 /* ---- helpers ---- */
 
@@ -46,17 +47,6 @@ static void show_bytes(const char *label, const char *s, size_t n) {
 }
 
 /* The canonical text of g as a NUL-terminated string (caller frees). */
-static char *canonical(const sl_graph *g) {
-  sl_buf b;
-  sl_buf_init(&b);
-  sl_graph_write(g, &b);
-  assert_false(b.failed);
-  char *s = strdup(b.data ? b.data : "");
-  sl_buf_free(&b);
-  assert_non_null(s);
-  return s;
-}
-
 /* Parse or fail the test, showing the error. */
 static sl_graph *parse_ok(const char *text) {
   sl_error e;

@@ -27,6 +27,7 @@
 #include <string.h>
 
 #include "notation.h"
+#include "test_text.h"
 
 #define NGRAPHS 3000
 #define MAXN 24
@@ -397,17 +398,6 @@ static sl_graph *parse_or_fail(const char *text, size_t len, int iter) {
   return g;
 }
 
-static char *write_text(const sl_graph *g) {
-  sl_buf b;
-  sl_buf_init(&b);
-  sl_graph_write(g, &b);
-  assert_false(b.failed);
-  char *s = strdup(b.data ? b.data : "");
-  assert_non_null(s);
-  sl_buf_free(&b);
-  return s;
-}
-
 /* The parsed graph holds exactly the model. */
 static void check_against_model(const sl_graph *g, const model *m, int iter) {
   if (sl_graph_nnodes(g) != m->n) print_error("graph %d: node count\n", iter);
@@ -476,7 +466,7 @@ static void test_random_roundtrip(void **state) {
 
     sl_graph *g = parse_or_fail(in.s, in.n, iter);
     check_against_model(g, &m, iter);
-    char *t1 = write_text(g);
+    char *t1 = canonical(g);
     if (strcmp(t1, want.s) != 0) {
       print_error("graph %d: canonical text differs from the expected one\n", iter);
       show("input", in.s);
@@ -489,7 +479,7 @@ static void test_random_roundtrip(void **state) {
     sl_graph *g2 = parse_or_fail(t1, strlen(t1), iter);
     assert_true(sl_graph_equal(g, g2));
     assert_true(sl_graph_equal(g2, g));
-    char *t2 = write_text(g2);
+    char *t2 = canonical(g2);
     assert_string_equal(t1, t2);
 
     /* another random wording of the same graph writes the same text */
@@ -500,14 +490,14 @@ static void test_random_roundtrip(void **state) {
     join_statements(&st, &in2);
     free_statements(&st);
     sl_graph *g3 = parse_or_fail(in2.s, in2.n, iter);
-    char *t3 = write_text(g3);
+    char *t3 = canonical(g3);
     assert_string_equal(t1, t3);
     assert_true(sl_graph_equal(g, g3));
 
     /* and so does the graph built without text */
     sl_graph *g4 = build_directly(&m);
     assert_true(sl_graph_equal(g, g4));
-    char *t4 = write_text(g4);
+    char *t4 = canonical(g4);
     assert_string_equal(t1, t4);
 
     total_nodes += m.n;
@@ -544,7 +534,7 @@ static void test_statement_order(void **state) {
     size_t k = 0;
     for (int i = 0; i < 5; i++) k += (size_t)snprintf(text + k, sizeof text - k, "%s\n", s[idx[i]]);
     sl_graph *g = parse_or_fail(text, k, count);
-    char *t = write_text(g);
+    char *t = canonical(g);
     assert_string_equal(t, want);
     free(t);
     sl_graph_free(g);
@@ -576,7 +566,7 @@ static void test_bom_name_roundtrip(void **state) {
   for (size_t i = 0; i < sizeof inputs / sizeof *inputs; i++) {
     sl_graph *g = parse_or_fail(inputs[i], strlen(inputs[i]), (int)i);
     assert_int_equal(sl_graph_name(g, 0)[0], (char)0xEF);
-    char *t = write_text(g);
+    char *t = canonical(g);
     sl_error e;
     memset(&e, 0, sizeof e);
     sl_graph *g2 = sl_graph_parse(t, strlen(t), &e);
