@@ -296,99 +296,28 @@ local function wrap_writers()
   end
 end
 
--- ---- the sandbox ----
+-- ---- what sluice.replay needs of the capture (not for users) ----
 
--- Is path (to be written) inside the directory whose realpath is root?
-local function inside(root, path)
-  if not root or type(path) ~= "string" or not hooks.realpath then return false end
-  local function under(p) return p == root or p:sub(1, #root + 1) == root .. "/" end
-  local dir = path:match("^(.*)/[^/]*$")
-  if dir == nil then dir = "." elseif dir == "" then dir = "/" end
-  local rd = hooks.realpath(dir)
-  if not rd or not under(rd) then return false end
-  local rf = hooks.realpath(path)      -- an existing file (or link) must be inside too
-  return rf == nil or under(rf)
-end
+S._real = real
+S._lines_of = lines_of
+S._error_text = error_text
+S._entry_text = entry_text
 
-local function copy(t)
-  local c = {}
-  for k, v in pairs(t) do c[k] = v end
-  return c
-end
+-- In a replay child: writes go through guard(path, what), which raises.
+function S._set_guard(g) guard = g end
 
--- An environment for replayed code.  blocked(name) hears of every refusal.
-local function sandbox(out_dir, blocked)
-  local root = out_dir and hooks.realpath and hooks.realpath(out_dir) or nil
-  local function refuse(name, level)
-    blocked(name)
-    error("blocked by the replay sandbox: " .. name, level or 3)
-  end
-  local function block(name) return function() refuse(name) end end
-  guard = function(path, what)
-    if not inside(root, path) then
-      refuse(what .. "(" .. string.format("%q", tostring(path)) .. ") writes outside "
-             .. (out_dir and ("--out " .. out_dir) or "an --out folder"), 4)
-    end
-  end
-  local env = copy(_G)
-  env._G = env
-  env.os = copy(os)
-  for _, k in ipairs({"execute", "remove", "rename", "exit"}) do env.os[k] = block("os." .. k) end
-  env.io = copy(io)
-  env.io.popen = block("io.popen")
-  env.io.open = function(path, mode)
-    mode = mode == nil and "r" or mode
-    if type(mode) == "string" and not mode:find("^r[b]?$") then
-      if not inside(root, path) then
-        refuse("io.open(" .. string.format("%q", tostring(path)) .. ", \"" .. mode
-               .. "\") writes outside " .. (out_dir and ("--out " .. out_dir) or "an --out folder"))
-      end
-    end
-    return real.open(path, mode)
-  end
-  env.io.output = function(f)
-    if type(f) == "string" and not inside(root, f) then
-      refuse("io.output(" .. string.format("%q", f) .. ") writes outside "
-             .. (out_dir and ("--out " .. out_dir) or "an --out folder"))
-    end
-    return real.output(f)
-  end
-  env.debug = setmetatable({}, {__index = function(_, k) return block("debug." .. tostring(k)) end})
-  env.package = copy(package)
-  env.package.loadlib = block("package.loadlib")
-  local subst = {_G = env, os = env.os, io = env.io, debug = env.debug, package = env.package}
-  env.package.loaded = setmetatable({}, {__index = function(_, k)
-    if subst[k] then return subst[k] end
-    return package.loaded[k]
-  end})
-  env.require = function(name)
-    if subst[name] then return subst[name] end
-    if package.loaded[name] ~= nil or package.preload[name] ~= nil then return require(name) end
-    refuse("require(" .. string.format("%q", tostring(name)) .. ") of a module not built in")
-  end
-  env.load = function(chunk, name, mode, e)
-    if e == nil then e = env end
-    return real.load(chunk, name, "t", e)
-  end
-  env.loadfile = function(path, mode, e)
-    if e == nil then e = env end
-    return real.loadfile(path, "t", e)
-  end
-  env.dofile = function(path)
-    local f, err = real.loadfile(path, "t", env)
-    if not f then error(err, 2) end
-    return f()
-  end
-  env.log = function() return nil end
-  env.report = function(path, ...)
-    guard(path, "report")
-    return S.report(path, ...)
-  end
-  env.exercise = function(o, ...)
-    if type(o) == "table" then guard((o.dir or ".") .. "/handout.md", "exercise") end
-    return S.exercise(o, ...)
-  end
-  return env
+-- Run fn(cap) with the output captured as entry n of a replay; returns
+-- the text printed and the entry's record {data=, pictures=}.
+function S._capture(n, fn)
+  wrap_output()
+  echo = false
+  current = {n = n, data = {}, pictures = {}}
+  cap = {}
+  local ok, err = pcall(fn, cap)
+  local text, run = table.concat(cap), current
+  cap, current = nil, nil
+  if not ok then error(err, 0) end
+  return text, run
 end
 
 -- ---- reading a log ----
@@ -472,191 +401,6 @@ function S.parse(text, name)
     res.entries[#res.entries + 1] = e
   end
   return res
-end
-
--- ---- replay ----
-
-local function say(...) real.fwrite(stdout, ...) end
-
--- The error message without the position of a one-line input.
-local function strip_position(e, msg)
-  local id = "[input " .. e.n .. "]:1: "
-  if not e.typed:find("\n", 1, true) and msg:sub(1, #id) == id then
-    return msg:sub(#id + 1)
-  end
-  return msg
-end
-
--- Run one entry as the prompt would; returns the lines it printed and
--- whether it raised an error.
-local function run_entry(e, env)
-  local name = "=[input " .. e.n .. "]"
-  local fn = real.load("return " .. e.code, name, "t", env)
-  local msg
-  if not fn then fn, msg = real.load(e.code, name, "t", env) end
-  current = {n = e.n, data = {}, pictures = {}}
-  cap = {}
-  local failed = false
-  if not fn then
-    failed = true
-    cap[#cap + 1] = "error: " .. strip_position(e, msg) .. "\n"
-  else
-    local r = table.pack(xpcall(fn, error_text))
-    if r[1] then
-      for i = 2, r.n do
-        local ok, s = pcall(P.format, r[i])
-        if not ok or type(s) ~= "string" then s = tostring(r[i]) end
-        if s:sub(-1) ~= "\n" then s = s .. "\n" end
-        cap[#cap + 1] = s
-      end
-    else
-      failed = true
-      local lines = lines_of(r[2])
-      cap[#cap + 1] = "error: " .. strip_position(e, table.concat(lines, "\n")) .. "\n"
-    end
-  end
-  local got = lines_of(table.concat(cap))
-  local run = current
-  cap, current = nil, nil
-  return got, failed, run, not fn and msg
-end
-
--- The first line where a and b differ, or nil.
-local function first_difference(a, b)
-  for i = 1, math.max(#a, #b) do
-    if a[i] ~= b[i] then return i end
-  end
-end
-
-local function file_exists(path)
-  local f = real.open(path, "rb")
-  if f then f:close() return true end
-  return false
-end
-
--- sluice --replay LOG: returns the exit status.
-function S.replay(o)
-  local f, err = real.open(o.log, "rb")
-  if not f then
-    say("sluice: cannot read the log: ", tostring(err), "\n")
-    return 1
-  end
-  local text = f:read("a")
-  f:close()
-  local log_, perr = S.parse(text, o.log)
-  if not log_ then say("sluice: ", perr, "\n") return 1 end
-  if version_newer(log_.version, M.version) then
-    say(string.format("sluice: %s was written by sluice %s, newer than this sluice %s; "
-                      .. "replay it with sluice %s or later\n", o.log, log_.version,
-                      M.version, log_.version))
-    return 1
-  end
-  if o.out and not (hooks.realpath and hooks.realpath(o.out)) then
-    say("sluice: --out ", o.out, ": no such folder\n")
-    return 2
-  end
-  wrap_output()
-  echo = false
-  local blocked_here, blocked_all = {}, {}
-  local env = _G
-  if not o.trust then
-    env = sandbox(o.out, function(name) blocked_here[#blocked_here + 1] = name end)
-  else
-    env.log = function() return nil end
-  end
-  say(string.format("replaying %s: %d entries, %s\n", o.log, #log_.entries,
-                    o.trust and "trusted (no sandbox)"
-                    or ("sandboxed, writes " .. (o.out and ("inside " .. o.out) or "nowhere"))))
-  local total, matched, differed, shown = 0, 0, 0, false
-  local problems = 0
-  for idx, e in ipairs(log_.entries) do
-    if e.skip then
-      say(string.format("in %d: skipped (%s at the prompt)\n", e.n, e.skip))
-      goto continue
-    end
-    total = total + 1
-    blocked_here = {}
-    if e.new_session and not o.trust then   -- a later session starts afresh
-      env = sandbox(o.out, function(name) blocked_here[#blocked_here + 1] = name end)
-    end
-    local status = "ok"
-    for _, d in ipairs(e.data) do
-      if not file_exists(d.path) then
-        say(string.format("data missing: %s (recorded sha256 %s, %d bytes)\n", d.path,
-                          d.sha256, d.bytes))
-        status = "differs"
-      end
-    end
-    local got, failed, run, cmsg = run_entry(e, env)
-    if cmsg then
-      local last = idx == #log_.entries
-      say(string.format("in %d: error: line %d of the log is not valid Lua%s: %s\n", e.n,
-                        e.line + 1, last and log_.truncated and " (the log is truncated)" or "",
-                        cmsg))
-      status = "error"
-    end
-    for _, d in ipairs(e.data) do
-      for _, r in ipairs(run.data) do
-        if r.path == d.path and r.sha256 ~= d.sha256 then
-          say(string.format("data changed: %s (recorded sha256 %s, now %s)\n", d.path,
-                            d.sha256, r.sha256))
-          status = "differs"
-        end
-      end
-    end
-    local recorded_error = false
-    for _, l in ipairs(e.out) do if l:match("^error: ") then recorded_error = true end end
-    local at = first_difference(e.out, got)
-    if cmsg or (at and failed and not recorded_error) then status = "error"
-    elseif at then status = "differs" end
-    if status == "ok" then matched = matched + 1 else differed = differed + 1 end
-    say(string.format("in %d: %s\n", e.n, status))
-    if at and not shown then
-      shown = true
-      say(string.format("  line %d of its output:\n    expected: %s\n    got:      %s\n", at,
-                        e.out[at] or "(nothing)", got[at] or "(nothing)"))
-    end
-    for _, b in ipairs(blocked_here) do
-      blocked_all[#blocked_all + 1] = b
-      say(string.format("blocked: in %d: %s\n", e.n, b))
-    end
-    e.new_out, e.new_data, e.new_pictures = got, run.data, run.pictures
-    ::continue::
-  end
-  guard = nil
-  echo = true
-  say(string.format("%d commands: %d matched, %d differed\n", total, matched, differed))
-  if #blocked_all > 0 then
-    say(string.format("%d call%s blocked by the replay sandbox (--trust lifts it)\n",
-                      #blocked_all, #blocked_all == 1 and " was" or "s were"))
-    problems = problems + 1
-  end
-  if o.update then
-    local ok, uerr = S.rewrite(o.log, text, log_)
-    if not ok then say("sluice: --update: ", uerr, "\n") return 1 end
-    say("updated ", o.log, " (the old log is ", o.log, ".bak)\n")
-  end
-  return (differed == 0 and problems == 0) and 0 or 1
-end
-
--- Rewrite the log with the outputs of the replay; the old one goes to .bak.
-function S.rewrite(path, old_text, parsed)
-  local b = real.open(path .. ".bak", "wb")
-  if not b then return nil, "cannot write " .. path .. ".bak" end
-  b:write(old_text)
-  b:close()
-  local out = {table.concat(parsed.head, "\n")}
-  for _, e in ipairs(parsed.entries) do
-    local n = {n = e.n, typed = e.typed, expr = e.expr, skip = e.skip, code = e.code,
-               out = e.new_out or e.out, data = e.new_data or e.data,
-               pictures = e.new_pictures or e.pictures}
-    out[#out + 1] = entry_text(n):sub(1, -2)
-  end
-  local f, err = real.open(path, "wb")
-  if not f then return nil, err end
-  f:write(table.concat(out, "\n"), "\n")
-  f:close()
-  return true
 end
 
 -- ---- report ----
@@ -772,6 +516,7 @@ S.base64 = base64
 -- ---- exercise ----
 
 local function write_file(path, text)
+  if guard then guard(path, "exercise") end
   local f, err = real.open(path, "wb")
   if not f then error("exercise: cannot write " .. path .. ": " .. tostring(err), 3) end
   f:write(text)
@@ -804,6 +549,7 @@ function S.exercise(o)
   if math.type(seed) ~= "integer" then error("exercise: seed = a whole number expected", 2) end
   local order = g:order()
   local x, y = o.treatment or order[1], o.outcome or order[#order]
+  if guard then guard(dir .. "/handout.md", "exercise") end
   if hooks.mkdir then
     local ok, err = hooks.mkdir(dir)
     if not ok then error("exercise: " .. err, 2) end

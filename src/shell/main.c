@@ -16,6 +16,7 @@
 #include "options.h"
 #include "prompt.h"
 #include "replay.h"
+#include "replayer.h"
 #include "repl.h"
 #include "run.h"
 #include "signals.h"
@@ -119,6 +120,7 @@ static int pmain(lua_State *L) {
   lua_gc(L, LUA_GCGEN, 0, 0);
   sig_init();
   log_install(L);
+  replayer_install(L);
   if (o->replay != NULL) {
     j->status = replay_run(L, o);
     return 0;

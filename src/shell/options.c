@@ -3,6 +3,7 @@
 ** argument that is not one is the script, and everything after it belongs
 ** to the script.
 */
+#include <errno.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -61,6 +62,21 @@ static int take_exec(sl_options *o, int argc, char **argv, int *i) {
   return 0;
 }
 
+/* Handle "--limit SECONDS": a positive number of seconds, at most a day. */
+static int take_limit(sl_options *o, int argc, char **argv, int *i) {
+  const char *v;
+  int status = take_path("--limit", &v, argc, argv, i);
+  if (status != 0)
+    return status;
+  char *end;
+  errno = 0;
+  double s = strtod(v, &end);
+  if (errno != 0 || *end != '\0' || end == v || !(s > 0 && s <= 86400))
+    return usage_error("option '--limit' needs seconds between 0 and 86400, not '%s'", v);
+  o->limit = s;
+  return 0;
+}
+
 /* Handle one option at argv[*i]; returns 0 or the usage-error status. */
 static int take_option(sl_options *o, int argc, char **argv, int *i) {
   const char *a = argv[*i];
@@ -84,6 +100,8 @@ static int take_option(sl_options *o, int argc, char **argv, int *i) {
     return take_path("--replay", &o->replay, argc, argv, i);
   else if (is_opt(a, "--out"))
     return take_path("--out", &o->out_dir, argc, argv, i);
+  else if (is_opt(a, "--limit"))
+    return take_limit(o, argc, argv, i);
   else if (strncmp(a, "-e", 2) == 0)
     return take_exec(o, argc, argv, i);
   else
@@ -93,8 +111,8 @@ static int take_option(sl_options *o, int argc, char **argv, int *i) {
 
 /* The replay options belong together. */
 static int check_replay(sl_options *o) {
-  if (o->replay == NULL && (o->out_dir || o->trust || o->update))
-    return usage_error("%s go with --replay LOG", "--out, --trust and --update");
+  if (o->replay == NULL && (o->out_dir || o->trust || o->update || o->limit > 0))
+    return usage_error("%s go with --replay LOG", "--out, --trust, --update and --limit");
   if (o->replay != NULL && (o->script || o->nexec || o->interactive))
     return usage_error("%s takes no script, -e or -i", "--replay");
   return 0;
@@ -151,6 +169,8 @@ void options_usage(const char *progname) {
     "  --replay LOG re-run a session log and compare every output with it\n"
     "  --out DIR    with --replay: the one folder the replayed code may write in\n"
     "  --trust      with --replay: run the log without the sandbox\n"
+    "  --limit S    with --replay: stop an entry that runs longer than S seconds\n"
+    "               (default 600)\n"
     "  --update     with --replay: rewrite the recorded outputs (old log: LOG.bak)\n"
     "  -h, --help   print this help and leave\n"
     "  --version    print the version and leave\n"

@@ -18,6 +18,7 @@ typedef struct sl_options {
   const char *out_dir;  /* --out DIR: where a replay may write */
   int trust;            /* --trust: replay without the sandbox */
   int update;           /* --update: rewrite the log's recorded outputs */
+  double limit;         /* --limit SECONDS: wall clock per replayed entry, 0: default */
   int script;           /* argv index of the script, 0 when there is none */
   int script_stdin;     /* the script is "-": standard input */
 } sl_options;

@@ -1,6 +1,7 @@
 /*
 ** replay.c: the command line side of replay.  The work is done by
-** sluice.session's replay, in Lua; this file hands it the options.
+** sluice.replay, in Lua (with the child process of replayer.c); this
+** file hands it the options.
 */
 #include <stdio.h>
 
@@ -20,7 +21,7 @@ static void set_string(lua_State *L, const char *name, const char *s) {
 
 int replay_run(lua_State *L, const sl_options *o) {
   lua_getglobal(L, "require");
-  lua_pushliteral(L, "sluice.session");
+  lua_pushliteral(L, "sluice.replay");
   if (run_report(L, run_call(L, 1, 1, RUN_SCRIPT)) != LUA_OK)
     return 1;
   lua_getfield(L, -1, "replay");
@@ -32,6 +33,10 @@ int replay_run(lua_State *L, const sl_options *o) {
   lua_setfield(L, -2, "trust");
   lua_pushboolean(L, o->update);
   lua_setfield(L, -2, "update");
+  if (o->limit > 0) {
+    lua_pushnumber(L, o->limit);
+    lua_setfield(L, -2, "limit");
+  }
   if (run_report(L, run_call(L, 1, 1, RUN_SCRIPT)) != LUA_OK)
     return 1;
   int status = lua_isinteger(L, -1) ? (int)lua_tointeger(L, -1) : 1;

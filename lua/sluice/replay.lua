@@ -1,0 +1,487 @@
+-- sluice.replay: sluice --replay LOG.  Two processes: the parent reads and
+-- parses the log, starts a child and judges every entry from what the
+-- child sends back (framed records, src/shell/wire.c); the child confines
+-- itself in the kernel (src/shell/confine.c) before the first line of the
+-- log runs, and runs the entries in a Lua environment of its own.  The
+-- child shares nothing with the parent that writes the report, so a log
+-- can at worst spoil its own outputs, never the verdict.  The Lua-level
+-- blocks here are for clear "blocked:" messages; the kernel makes them hold.
+local R = {}
+
+local S = require "sluice.session"
+local P = require "sluice.print"
+local T = package.preload["sluice.logtext"] and require "sluice.logtext"
+  or {parse = S.parse, escape = function(l) return l end, entry_text = S._entry_text}  -- SHIM
+
+-- Captured now, before any replayed code runs: a log that patches the
+-- string library in its own environment cannot reach these.
+local real = S._real
+local concat, pack, format = table.concat, table.pack, string.format
+local find, sub, match, gsub = string.find, string.sub, string.match, string.gsub
+local tostring, type, pairs, ipairs, select = tostring, type, pairs, ipairs, select
+local setmetatable, getmetatable, rawequal = setmetatable, getmetatable, rawequal
+local stdout = io.stdout
+
+local M, hooks            -- the module and the hooks table, set by install
+
+R.DEFAULT_LIMIT = 600     -- seconds an entry may run (--limit)
+
+local function say(...) real.fwrite(stdout, ...) end
+
+-- Is version a newer than b?
+local function version_newer(a, b)
+  local function parts(v) local t = {} for d in v:gmatch("%d+") do t[#t + 1] = tonumber(d) end return t end
+  local x, y = parts(a), parts(b)
+  for i = 1, math.max(#x, #y) do
+    local p, q = x[i] or 0, y[i] or 0
+    if p ~= q then return p > q end
+  end
+  return false
+end
+
+-- ---- where a replay may write ----
+
+-- Is path, which the replayed code wants to write, beneath the folder whose
+-- real path is root?  The nearest folder above path that exists decides, and
+-- no ".." may follow it; a link must lead beneath root, and a dangling link
+-- is refused (writing through it would create its target).
+local function inside(root, path)
+  if not root or type(path) ~= "string" or path == "" or find(path, "\0", 1, true) then
+    return false
+  end
+  local function under(p) return p == root or sub(p, 1, #root + 1) == root .. "/" end
+  local kind = hooks.file_kind(path, true)
+  if kind == "link" then
+    local rp = hooks.realpath(path)
+    return rp ~= nil and under(rp)
+  elseif kind ~= nil then
+    local rp = hooks.realpath(path)
+    return rp ~= nil and under(rp)
+  end
+  local dir = match(path, "^(.*)/[^/]*$")
+  if dir == nil then dir = "." elseif dir == "" then dir = "/" end
+  local made = {}
+  while not hooks.realpath(dir) do
+    local up, last = match(dir, "^(.*)/([^/]*)$")
+    if not up then up, last = ".", dir end
+    if up == "" then up = "/" end
+    made[#made + 1] = last
+    if up == dir then return false end
+    dir = up
+  end
+  for _, c in ipairs(made) do if c == ".." then return false end end
+  return under(hooks.realpath(dir))
+end
+
+local function copy(t)
+  local c = {}
+  for k, v in pairs(t) do c[k] = v end
+  return c
+end
+
+-- The standard libraries a log sees, each its own copy: patching them in
+-- the log changes nothing that the replay itself uses.
+local LIBS = {"string", "table", "math", "utf8", "coroutine", "os", "io"}
+
+-- An environment for replayed code.  blocked(name) hears of every refusal.
+local function sandbox(out_dir, blocked)
+  local root = out_dir and hooks.realpath(out_dir) or nil
+  local where = out_dir and ("--out " .. out_dir) or "an --out folder"
+  local function refuse(name, level)
+    blocked(name)
+    error("blocked by the replay sandbox: " .. name, level or 3)
+  end
+  local function block(name) return function() refuse(name) end end
+  local function guard(path, what)
+    if not inside(root, path) then
+      refuse(what .. "(" .. format("%q", tostring(path)) .. ") writes outside " .. where, 4)
+    end
+  end
+  S._set_guard(guard)
+  local env = copy(_G)
+  env._G = env
+  for _, k in ipairs(LIBS) do env[k] = copy(_G[k]) end
+  for _, k in ipairs({"execute", "remove", "rename", "exit", "tmpname"}) do
+    env.os[k] = block("os." .. k)
+  end
+  env.io.popen = block("io.popen")
+  env.io.open = function(path, mode)
+    mode = mode == nil and "r" or mode
+    if type(mode) == "string" and not find(mode, "^r[b]?$") and not inside(root, path) then
+      refuse("io.open(" .. format("%q", tostring(path)) .. ", \"" .. mode
+             .. "\") writes outside " .. where)
+    end
+    return real.open(path, mode)
+  end
+  env.io.output = function(f)
+    if type(f) == "string" and not inside(root, f) then
+      refuse("io.output(" .. format("%q", f) .. ") writes outside " .. where)
+    end
+    return real.output(f)
+  end
+  env.debug = setmetatable({}, {__index = function(_, k) return block("debug." .. tostring(k)) end})
+  -- strings share one metatable: hand out a copy whose __index is the log's string
+  local strmeta = {__index = env.string}
+  env.getmetatable = function(v)
+    if type(v) == "string" then return strmeta end
+    return getmetatable(v)
+  end
+  local mod = copy(M)
+  mod.log = function(path)
+    if path == nil or path == false then return S.log(path) end
+    guard(path, "log")
+    return S.log(path)
+  end
+  mod.report = function(path, ...)
+    guard(path, "report")
+    return S.report(path, ...)
+  end
+  mod.exercise = function(o, ...)
+    if type(o) == "table" then guard((o.dir or ".") .. "/handout.md", "exercise") end
+    return S.exercise(o, ...)
+  end
+  for _, k in ipairs({"log", "report", "exercise"}) do env[k] = mod[k] end
+  env.package = copy(package)
+  env.package.loadlib = block("package.loadlib")
+  env.package.searchers = setmetatable({}, {__index = function(_, k)
+    return block("package.searchers[" .. tostring(k) .. "]")
+  end})
+  env.package.searchpath = block("package.searchpath")
+  local subst = {_G = env, debug = env.debug, package = env.package, sluice = mod}
+  for _, k in ipairs(LIBS) do subst[k] = env[k] end
+  env.package.loaded = setmetatable({}, {__index = function(_, k)
+    if subst[k] then return subst[k] end
+    if k == "sluice.session" or k == "sluice.replay" then return nil end
+    return package.loaded[k]
+  end})
+  env.require = function(name)
+    if subst[name] then return subst[name] end
+    if name == "sluice.session" or name == "sluice.replay" then
+      refuse("require(" .. format("%q", name) .. "): the session layer is not for replayed code")
+    end
+    if package.loaded[name] ~= nil or package.preload[name] ~= nil then return require(name) end
+    refuse("require(" .. format("%q", tostring(name)) .. ") of a module not built in")
+  end
+  env.load = function(chunk, name, mode, e)
+    if e == nil then e = env end
+    return real.load(chunk, name, "t", e)
+  end
+  env.loadfile = function(path, mode, e)
+    if e == nil then e = env end
+    return real.loadfile(path, "t", e)
+  end
+  env.dofile = function(path)
+    local f, err = real.loadfile(path, "t", env)
+    if not f then error(err, 2) end
+    return f()
+  end
+  env.collectgarbage = function(opt, ...)
+    if opt == nil or opt == "collect" or opt == "count" or opt == "step" then
+      return collectgarbage(opt, ...)
+    end
+    refuse("collectgarbage(" .. format("%q", tostring(opt)) .. ")")
+  end
+  return env
+end
+
+-- ---- the child: run the entries, send what they printed ----
+
+-- The error message without the position of a one-line input.
+local function strip_position(e, msg)
+  local id = "[input " .. e.n .. "]:1: "
+  if not find(e.typed, "\n", 1, true) and sub(msg, 1, #id) == id then
+    return sub(msg, #id + 1)
+  end
+  return msg
+end
+
+-- Run one entry as the prompt would: the text it printed, whether it
+-- raised an error, the files it read and drew, and a compile message.
+local function run_entry(e, env)
+  local name = "=[input " .. e.n .. "]"
+  local fn = real.load("return " .. e.code, name, "t", env)
+  local msg
+  if not fn then fn, msg = real.load(e.code, name, "t", env) end
+  local failed = false
+  local text, run = S._capture(e.n, function(cap)
+    if not fn then
+      failed = true
+      cap[#cap + 1] = "error: " .. strip_position(e, msg) .. "\n"
+      return
+    end
+    local r = pack(xpcall(fn, S._error_text))
+    if r[1] then
+      for i = 2, r.n do
+        local ok, s = pcall(P.format, r[i])
+        if not ok or type(s) ~= "string" then s = tostring(r[i]) end
+        if sub(s, -1) ~= "\n" then s = s .. "\n" end
+        cap[#cap + 1] = s
+      end
+    else
+      failed = true
+      local lines = S._lines_of(tostring(r[2]))
+      cap[#cap + 1] = "error: " .. strip_position(e, concat(lines, "\n")) .. "\n"
+    end
+  end)
+  return text, failed, run, not fn and msg
+end
+
+-- The child's whole life; it never returns.
+local function child_main(parsed, o)
+  local send, leave = hooks.replay_send, hooks.replay_exit
+  local blocked_here = {}
+  local function note(name) blocked_here[#blocked_here + 1] = name end
+  local env
+  local function fresh()
+    if o.trust then
+      env = _G
+      env.log = function() return nil end
+    else
+      env = sandbox(o.out, note)
+    end
+  end
+  fresh()
+  for _, e in ipairs(parsed.entries) do
+    if not e.skip then
+      if e.new_session then fresh() end
+      blocked_here = {}
+      send("E", tostring(e.n))
+      local text, failed, run, cmsg = run_entry(e, env)
+      send("O", text)
+      if failed then send("F", "") end
+      if cmsg then send("C", cmsg) end
+      for _, d in ipairs(run.data) do
+        send("D", concat({tostring(d.path), tostring(d.bytes), tostring(d.sha256)}, "\0"))
+      end
+      for _, p in ipairs(run.pictures) do send("P", tostring(p)) end
+      for _, b in ipairs(blocked_here) do send("B", tostring(b)) end
+      send("Z", "")
+    end
+  end
+  send("Q", "")
+  leave(0)
+end
+
+-- ---- the parent: judge each entry ----
+
+local function first_difference(a, b)
+  for i = 1, math.max(#a, #b) do
+    if a[i] ~= b[i] then return i end
+  end
+end
+
+-- The records of entry e from the child: {out=, failed=, data=, pictures=,
+-- blocked=, cmsg=}, or nil, what ("timeout", "ended", "broken", "setup")
+-- and a detail.
+local function collect(child, e, limit)
+  local r = {out = "", failed = false, data = {}, pictures = {}, blocked = {}}
+  local kind, p, detail = child:recv(limit)
+  if not kind then return nil, p, detail end
+  if kind == "Q" and p ~= "" then return nil, "setup", p end
+  if kind ~= "E" or p ~= tostring(e.n) then
+    child:stop()
+    return nil, "broken", "the replay process answered out of turn"
+  end
+  local seen_out = false
+  while true do
+    kind, p, detail = child:recv(limit)
+    if not kind then return nil, p, detail end
+    if kind == "O" and not seen_out then r.out, seen_out = p, true
+    elseif kind == "F" then r.failed = true
+    elseif kind == "C" then r.cmsg = p
+    elseif kind == "D" then
+      local path, bytes, sha = match(p, "^([^%z]*)%z(%d+)%z(%x+)$")
+      if path then r.data[#r.data + 1] = {path = path, bytes = tonumber(bytes), sha256 = sha} end
+    elseif kind == "P" then r.pictures[#r.pictures + 1] = p
+    elseif kind == "B" then r.blocked[#r.blocked + 1] = p
+    elseif kind == "Z" and seen_out then return r
+    else
+      child:stop()
+      return nil, "broken", "the replay process sent a record out of place"
+    end
+  end
+end
+
+-- The recorded data files of entry e as they are now; the parent reads
+-- them itself.  Returns "ok" or "differs".
+local function check_data(e)
+  local status = "ok"
+  for _, d in ipairs(e.data) do
+    local sha, bytes = hooks.fingerprint(d.path)
+    if not sha then
+      say(format("data missing: %s (recorded sha256 %s, %d bytes): %s\n", T.escape(d.path),
+                 d.sha256, d.bytes, tostring(bytes)))
+      status = "differs"
+    elseif sha ~= d.sha256 then
+      say(format("data changed: %s (recorded sha256 %s, now %s)\n", T.escape(d.path),
+                 d.sha256, sha))
+      status = "differs"
+    end
+  end
+  return status
+end
+
+-- Read the log file: its text, or nil after saying why.
+local function read_log(path)
+  local kind, size = hooks.file_kind(path)
+  if not kind then
+    say("sluice: cannot read the log: ", path, ": ", tostring(size), "\n")
+    return nil
+  end
+  if kind ~= "regular" then
+    say("sluice: ", path, " is a ", kind, ", not a session log file\n")
+    return nil
+  end
+  local f, err = real.open(path, "rb")
+  if not f then
+    say("sluice: cannot read the log: ", tostring(err), "\n")
+    return nil
+  end
+  local text = f:read("a")
+  f:close()
+  return text
+end
+
+-- sluice --replay LOG: returns the exit status.
+function R.replay(o)
+  local text = read_log(o.log)
+  if not text then return 1 end
+  local parsed, perr = T.parse(text, o.log)
+  if not parsed then say("sluice: ", perr, "\n") return 1 end
+  if version_newer(parsed.version, M.version) then
+    say(format("sluice: %s was written by sluice %s, newer than this sluice %s; "
+               .. "replay it with sluice %s or later\n", o.log, parsed.version,
+               M.version, parsed.version))
+    return 1
+  end
+  if o.out and hooks.file_kind(o.out) ~= "directory" then
+    say("sluice: --out ", o.out, ": no such folder\n")
+    return 2
+  end
+  if not o.trust then
+    local ok, why = hooks.sandbox_available()
+    if not ok then
+      say("sluice: will not replay ", o.log, " without --trust: ", why,
+          "; replay it on a kernel that has both, or give --trust if you wrote the log yourself\n")
+      return 1
+    end
+  end
+  local limit = o.limit or R.DEFAULT_LIMIT
+  local runnable = 0
+  for _, e in ipairs(parsed.entries) do if not e.skip then runnable = runnable + 1 end end
+  say(format("replaying %s: %d entries, %s\n", o.log, #parsed.entries,
+             o.trust and "trusted (no sandbox)"
+             or ("sandboxed, writes " .. (o.out and ("inside " .. o.out) or "nowhere"))))
+  local child = hooks.replay_spawn{out = o.out and hooks.realpath(o.out) or nil,
+                                   confine = not o.trust,
+                                   cpu = math.floor(2 * limit * (runnable + 1))}
+  if child == "child" then child_main(parsed, o) end
+  local total, matched, differed, notrun, blocked_all = 0, 0, 0, 0, 0
+  local shown, stopped = false, nil
+  for _, e in ipairs(parsed.entries) do
+    if e.skip then
+      say(format("in %d: skipped (%s at the prompt)\n", e.n, T.escape(e.skip)))
+      goto continue
+    end
+    total = total + 1
+    if stopped then
+      notrun = notrun + 1
+      say(format("in %d: not run (%s)\n", e.n, stopped))
+      goto continue
+    end
+    do
+      local status = check_data(e)
+      local r, what, detail = collect(child, e, limit)
+      if not r then
+        if what == "setup" then
+          say("sluice: ", T.escape(detail), "\n")
+          return 1
+        end
+        local why = what == "timeout" and format("timed out after %g s (--limit)", limit)
+                    or what == "ended" and ("killed: " .. T.escape(tostring(detail)))
+                    or ("error: " .. T.escape(tostring(detail)))
+        say(format("in %d: %s\n", e.n, why))
+        differed = differed + 1
+        stopped = "the replay stopped at in " .. e.n
+        goto continue
+      end
+      local got = S._lines_of(r.out)
+      for i, l in ipairs(got) do got[i] = T.escape(l) end
+      if r.cmsg then
+        say(format("in %d: error: line %d of the log is not valid Lua%s: %s\n", e.n,
+                   e.line + 1, e == parsed.entries[#parsed.entries] and parsed.truncated
+                   and " (the log is truncated)" or "", T.escape(r.cmsg)))
+        status = "error"
+      end
+      local recorded_error = false
+      for _, l in ipairs(e.out) do if find(l, "^error: ") then recorded_error = true end end
+      local at = first_difference(e.out, got)
+      if r.cmsg or (at and r.failed and not recorded_error) then status = "error"
+      elseif at then status = "differs" end
+      if status == "ok" then matched = matched + 1 else differed = differed + 1 end
+      say(format("in %d: %s\n", e.n, status))
+      if at and not shown then
+        shown = true
+        say(format("  line %d of its output:\n    expected: %s\n    got:      %s\n", at,
+                   e.out[at] or "(nothing)", got[at] or "(nothing)"))
+      end
+      for _, b in ipairs(r.blocked) do
+        blocked_all = blocked_all + 1
+        say(format("blocked: in %d: %s\n", e.n, T.escape(b)))
+      end
+      e.new_out, e.new_data, e.new_pictures = got, r.data, r.pictures
+    end
+    ::continue::
+  end
+  if not stopped then
+    local kind, p, detail = child:recv(limit)
+    if kind ~= "Q" then
+      say("sluice: the replay process did not end cleanly: ",
+          T.escape(tostring(kind and ("record " .. kind) or detail or p)), "\n")
+      differed = differed + 1
+    end
+  end
+  child:stop()
+  say(format("%d commands: %d matched, %d differed%s\n", total, matched, differed,
+             notrun > 0 and format(", %d not run", notrun) or ""))
+  if blocked_all > 0 then
+    say(format("%d call%s blocked by the replay sandbox (--trust lifts it)\n",
+               blocked_all, blocked_all == 1 and " was" or "s were"))
+  end
+  if o.update then
+    if stopped then
+      say("sluice: --update: not rewriting ", o.log, ": the replay stopped early\n")
+      return 1
+    end
+    local ok, uerr = R.rewrite(o.log, text, parsed)
+    if not ok then say("sluice: --update: ", uerr, "\n") return 1 end
+    say("updated ", o.log, " (the old log is ", o.log, ".bak)\n")
+  end
+  return (differed == 0 and blocked_all == 0) and 0 or 1
+end
+
+-- Rewrite the log with the outputs of the replay; the old one goes to .bak.
+function R.rewrite(path, old_text, parsed)
+  local b = real.open(path .. ".bak", "wb")
+  if not b then return nil, "cannot write " .. path .. ".bak" end
+  b:write(old_text)
+  b:close()
+  local out = {concat(parsed.head, "\n")}
+  for _, e in ipairs(parsed.entries) do
+    local n = {n = e.n, typed = e.typed, expr = e.expr, skip = e.skip, code = e.code,
+               out = e.new_out or e.out, data = e.new_data or e.data,
+               pictures = e.new_pictures or e.pictures}
+    out[#out + 1] = sub(T.entry_text(n), 1, -2)
+  end
+  local f, err = real.open(path, "wb")
+  if not f then return nil, err end
+  f:write(concat(out, "\n"), "\n")
+  f:close()
+  return true
+end
+
+function R.install(mod, metas, hk)
+  M, hooks = mod, hk
+end
+
+return R
