@@ -10,7 +10,7 @@ PKGS     := lua5.4 gsl libgvc readline sqlite3 plplot libsodium libcmark
 PKGCFLAGS = $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
 LIBLIBS   = $(shell pkg-config --libs libgvc sqlite3 plplot libsodium 2>/dev/null) $(shell pkg-config --libs libcmark) -lcsv \
             -lgsl -lopenblas -lpthread -lm
-PKGLIBS   = $(shell pkg-config --libs lua5.4 readline 2>/dev/null) $(LIBLIBS)
+PKGLIBS   = $(shell pkg-config --libs lua5.4 readline libseccomp 2>/dev/null) $(LIBLIBS)
 SANITIZE ?=
 OPT      ?= -O2
 CFLAGS   ?= $(OPT) -g
@@ -80,6 +80,12 @@ $(B)/tests/%: tests/c/%.c $(wildcard tests/c/*.h) $(B)/libsluice.a
 	@mkdir -p $(dir $@)
 	$(CC) $(ALLCFLAGS) $(LDFLAGS) -o $@ $< $(B)/libsluice.a \
 	  $(shell pkg-config --cflags --libs cmocka) $(LIBLIBS)
+
+# the kernel layer of the replay sandbox, tested apart from the shell
+$(B)/tests/test_confine: tests/c/test_confine.c src/shell/confine.h $(B)/obj/src/shell/confine.o
+	@mkdir -p $(dir $@)
+	$(CC) $(ALLCFLAGS) $(LDFLAGS) -o $@ $< $(B)/obj/src/shell/confine.o \
+	  $(shell pkg-config --cflags --libs cmocka libseccomp) -lpthread
 
 # ---- tests ----
 check: deps-check
