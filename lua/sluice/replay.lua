@@ -232,8 +232,10 @@ local function child_main(parsed, o)
   local blocked_here = {}
   local function note(name) blocked_here[#blocked_here + 1] = name end
   local env
+  -- SLUICE_TEST_KERNEL_ONLY: the tests' way to show that the kernel alone holds
+  local bare = os.getenv("SLUICE_TEST_KERNEL_ONLY") ~= nil
   local function fresh()
-    if o.trust then
+    if o.trust or bare then
       env = _G
       env.log = function() return nil end
     else
