@@ -3,9 +3,12 @@
 local P = {}
 
 local bare = "^[%w_.\128-\255]+$"
+local write_name      -- sluice._name, set by install: the C writer's rules
 
--- A node name as the graph notation writes it.
+-- A node name as the graph notation writes it (quoted, with invisible
+-- characters as \u{XXXX}, when it cannot stand bare).
 function P.name(s)
+  if write_name and not s:find("\0", 1, true) then return write_name(s) end
   if s:match(bare) and s ~= "hidden" then return s end
   return '"' .. s:gsub('[\\"]', "\\%0") .. '"'
 end
@@ -110,6 +113,7 @@ function P.install(M, metas)
   edge_mt.__tostring = edge_tostring
   edge_mt.__name = "sluice.edge"
   M._format = P.format
+  write_name = M._name
 end
 
 return P

@@ -332,6 +332,17 @@ static int l_draw(lua_State *L) {
   return 1;
 }
 
+/* sluice._name(s): a node name as the notation writes it (print.lua). */
+static int l_name(lua_State *L) {
+  size_t len;
+  const char *s = luaL_checklstring(L, 1, &len);
+  if (strlen(s) != len) return luaL_argerror(L, 1, "a node name holds no NUL byte");
+  sl_buf b;
+  sl_buf_init(&b);
+  sl_name_write(s, &b);
+  return push_buf(L, &b);
+}
+
 static const luaL_Reg graph_methods[] = {
   {"nodes", l_nodes}, {"edges", l_edges}, {"hidden", l_hidden},
   {"parents", l_parents}, {"children", l_children},
@@ -347,7 +358,7 @@ static const luaL_Reg graph_meta[] = {
 };
 
 static const luaL_Reg graph_funcs[] = {
-  {"graph", l_graph}, {"read_graph", l_read_graph},
+  {"graph", l_graph}, {"read_graph", l_read_graph}, {"_name", l_name},
   {NULL, NULL}
 };
 

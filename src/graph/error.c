@@ -6,6 +6,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "error.h"
+#include "notation.h"
 
 int sl_error_set(sl_error *e, int code, int line, int col, const char *fmt, ...) {
   if (e) {
@@ -18,6 +19,26 @@ int sl_error_set(sl_error *e, int code, int line, int col, const char *fmt, ...)
     va_end(ap);
   }
   return code;
+}
+
+/* Copy a source line into buf at k, each control or invisible character
+** shown as one '?': it holds the column the caret counts, and a terminal
+** neither hides it nor obeys it. */
+static size_t echo_line(const char *p, size_t len, char *buf, size_t bufsize, size_t k) {
+  for (size_t i = 0; i < len && k + 1 < bufsize;) {
+    uint32_t cp = 0;
+    size_t n = sl_utf8_decode(p + i, len - i, &cp);
+    int hide = n ? (cp < 0x20 && cp != '\t') || cp == 0x7F || sl_invisible_name(cp) != NULL
+                 : (unsigned char)p[i] < 0x20;
+    if (hide) { buf[k++] = '?'; i += n ? n : 1; continue; }
+    size_t m = n ? n : 1;
+    if (k + m >= bufsize) break;
+    memcpy(buf + k, p + i, m);
+    k += m;
+    i += m;
+  }
+  buf[k < bufsize ? k : bufsize - 1] = '\0';
+  return k;
 }
 
 char *sl_error_format(const sl_error *e, const char *src, size_t srclen,
@@ -37,7 +58,11 @@ char *sl_error_format(const sl_error *e, const char *src, size_t srclen,
   while (q < end && *q != '\n' && *q != '\r') q++;
   size_t linelen = (size_t)(q - p);
   if (linelen > 200) return buf;  /* too long to be worth echoing */
-  k += (size_t)snprintf(buf + k, bufsize - k, "\n  %.*s\n  ", (int)linelen, p);
+  k += (size_t)snprintf(buf + k, bufsize - k, "\n  ");
+  if (k >= bufsize) return buf;
+  k = echo_line(p, linelen, buf, bufsize, k);
+  if (k + 1 >= bufsize) return buf;
+  k += (size_t)snprintf(buf + k, bufsize - k, "\n  ");
   if (k >= bufsize) return buf;
   /* columns count UTF-8 characters; tabs are copied so the caret lines up
   ** with the echoed text */

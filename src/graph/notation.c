@@ -6,9 +6,12 @@
 **   names     = name { "," name }
 **   arrow     = "->" | "<-" | "<->"
 **   name      = bare | quoted        (bare: letters, digits, "_", ".", UTF-8)
+**   quoted    = '"' { char | '\"' | '\\' | '\u{' hex '}' } '"'
 **
 ** A "#" starts a comment that runs to the end of the line.  Columns count
-** UTF-8 characters from 1.
+** UTF-8 characters from 1.  A bare name may not hold a character that
+** prints as nothing or as a blank (invisible.c): two names differing by
+** one would look the same.  Quoted names may, and \u{200B} writes one.
 */
 #include <errno.h>
 #include <stdio.h>
@@ -61,16 +64,8 @@ static int lex_error(lexer *L, int line, int col, const char *msg) {
 }
 
 /* Length of a valid UTF-8 sequence at p, or 0. */
-static size_t utf8_len(const unsigned char *p, const unsigned char *end) {
-  size_t n = p[0] < 0x80 ? 1 : (p[0] & 0xE0) == 0xC0 ? 2 : (p[0] & 0xF0) == 0xE0 ? 3
-           : (p[0] & 0xF8) == 0xF0 ? 4 : 0;
-  if (n == 0 || (size_t)(end - p) < n) return 0;
-  if (n == 2 && p[0] < 0xC2) return 0;
-  for (size_t i = 1; i < n; i++) if ((p[i] & 0xC0) != 0x80) return 0;
-  if (n == 3 && ((p[0] == 0xE0 && p[1] < 0xA0) || (p[0] == 0xED && p[1] >= 0xA0))) return 0;
-  if (n == 4 && ((p[0] == 0xF0 && p[1] < 0x90) || p[0] > 0xF4 || (p[0] == 0xF4 && p[1] >= 0x90)))
-    return 0;
-  return n;
+static size_t utf8_len(const char *p, const char *end, uint32_t *cp) {
+  return sl_utf8_decode(p, (size_t)(end - p), cp);
 }
 
 static int qput(lexer *L, char c) {
@@ -85,7 +80,45 @@ static int qput(lexer *L, char c) {
   return SL_OK;
 }
 
-/* A quoted name: "..." with \" and \\ as the only escapes, on one line. */
+/* \u{hex} in a quoted name (L at the 'u'): the character, as UTF-8. */
+static int lex_escape(lexer *L, int ecol) {
+  static const char *const bad = "\\u{...} takes 1 to 6 hex digits naming a Unicode character "
+                                 "(not a control character or a surrogate), e.g. \\u{200B}";
+  step(L);
+  if (L->p >= L->end || *L->p != '{') return lex_error(L, L->line, ecol, bad);
+  step(L);
+  uint32_t cp = 0;
+  int digits = 0;
+  for (; L->p < L->end && *L->p != '}'; step(L), digits++) {
+    char h = *L->p;
+    int v = h >= '0' && h <= '9' ? h - '0' : h >= 'a' && h <= 'f' ? h - 'a' + 10
+          : h >= 'A' && h <= 'F' ? h - 'A' + 10 : -1;
+    if (v < 0 || digits == 6) return lex_error(L, L->line, ecol, bad);
+    cp = cp * 16 + (uint32_t)v;
+  }
+  if (L->p >= L->end || digits == 0 || cp < 0x20 || cp > 0x10FFFF ||
+      (cp >= 0xD800 && cp <= 0xDFFF))
+    return lex_error(L, L->line, ecol, bad);
+  step(L);
+  char u[4];
+  size_t n = cp < 0x80 ? 1 : cp < 0x800 ? 2 : cp < 0x10000 ? 3 : 4;
+  if (n == 1) u[0] = (char)cp;
+  else {
+    for (size_t i = n - 1; i > 0; i--) { u[i] = (char)(0x80 | (cp & 0x3F)); cp >>= 6; }
+    u[0] = (char)((n == 2 ? 0xC0 : n == 3 ? 0xE0 : 0xF0) | cp);
+  }
+  for (size_t i = 0; i < n; i++) if (qput(L, u[i])) return L->e->code;
+  return SL_OK;
+}
+
+/* An invisible character at L in a bare name: a caret error naming it. */
+static int invisible_error(lexer *L, uint32_t cp) {
+  return sl_error_set(L->e, SL_ESYNTAX, L->line, L->col,
+                      "invisible character U+%04X (%s) in a name; quote the name if you mean it",
+                      (unsigned)cp, sl_invisible_name(cp));
+}
+
+/* A quoted name: "..." with \", \\ and \u{hex} as escapes, on one line. */
 static int lex_quoted(lexer *L) {
   int line = L->line, col = L->col;
   step(L);
@@ -104,9 +137,15 @@ static int lex_quoted(lexer *L) {
         step(L);
         continue;
       }
-      return lex_error(L, line, ecol, "unknown escape in a quoted name (only \\\" and \\\\ are allowed)");
+      if (L->p < L->end && *L->p == 'u') {
+        if (lex_escape(L, ecol)) return L->e->code;
+        continue;
+      }
+      return lex_error(L, line, ecol, "unknown escape in a quoted name "
+                       "(only \\\", \\\\ and \\u{hex} are allowed)");
     }
-    size_t n = utf8_len((const unsigned char *)L->p, (const unsigned char *)L->end);
+    uint32_t cp;
+    size_t n = utf8_len(L->p, L->end, &cp);
     if (n == 0 || c < 0x20)
       return lex_error(L, L->line, L->col, n ? "control character in a quoted name"
                                                : "invalid UTF-8 in a quoted name");
@@ -147,8 +186,10 @@ static int lex(lexer *L) {
   if (is_bare(c)) {
     while (L->p < L->end && is_bare((unsigned char)*L->p)) {
       if ((unsigned char)*L->p >= 0x80) {
-        size_t n = utf8_len((const unsigned char *)L->p, (const unsigned char *)L->end);
+        uint32_t cp;
+        size_t n = utf8_len(L->p, L->end, &cp);
         if (n == 0) return lex_error(L, L->line, L->col, "invalid UTF-8 in a name");
+        if (sl_invisible_name(cp)) return invisible_error(L, cp);
         for (size_t i = 0; i < n; i++) step(L);
       } else step(L);
     }

@@ -6,7 +6,20 @@
 #define SL_NOTATION_H
 
 #include <stddef.h>
+#include <stdint.h>
 #include "graph.h"
+
+/* Decode the UTF-8 sequence at s (left bytes available) into *cp: its
+** length, or 0 when it is not valid UTF-8. */
+size_t sl_utf8_decode(const char *s, size_t left, uint32_t *cp);
+
+/* The name of a character that prints as nothing or as a blank (U+200B
+** "zero-width space", U+00A0 "no-break space", ...), or NULL.  Such a
+** character may not appear in a bare name. */
+const char *sl_invisible_name(uint32_t cp);
+
+/* The first such character in s[0..len), or 0 when there is none. */
+uint32_t sl_invisible_in(const char *s, size_t len);
 
 /* Growable byte buffer used for every text a graph is turned into. */
 typedef struct sl_buf {
@@ -50,7 +63,9 @@ void sl_removal_free(sl_removal *r);
 
 /* Canonical notation: parses back to an equal graph. */
 void sl_graph_write(const sl_graph *g, sl_buf *out);
-/* A name as the notation writes it (quoted when needed). */
+/* A name as the notation writes it: quoted when needed, and inside quotes
+** '"' and '\\' escaped with a backslash, control and invisible characters
+** as \u{XXXX}, so that the text parses back to the same name. */
 void sl_name_write(const char *name, sl_buf *out);
 /* DOT text. */
 void sl_graph_dot(const sl_graph *g, sl_buf *out);

@@ -48,20 +48,28 @@ void sl_buf_addf(sl_buf *b, const char *fmt, ...) {
 /* Whether a name can be written without quotes. */
 static int bare_ok(const char *s) {
   if (!*s || strcmp(s, "hidden") == 0) return 0;
-  if (strncmp(s, "\xEF\xBB\xBF", 3) == 0) return 0;  /* would read as a byte-order mark */
   for (const unsigned char *p = (const unsigned char *)s; *p; p++)
     if (!((*p >= 'a' && *p <= 'z') || (*p >= 'A' && *p <= 'Z') || (*p >= '0' && *p <= '9') ||
           *p == '_' || *p == '.' || *p >= 0x80))
       return 0;
-  return 1;
+  return sl_invisible_in(s, strlen(s)) == 0;   /* a BOM or a blank would not read back */
 }
 
 void sl_name_write(const char *name, sl_buf *out) {
   if (bare_ok(name)) { sl_buf_adds(out, name); return; }
   sl_buf_add(out, "\"", 1);
-  for (const char *p = name; *p; p++) {
-    if (*p == '"' || *p == '\\') sl_buf_add(out, "\\", 1);
-    sl_buf_add(out, p, 1);
+  size_t len = strlen(name);
+  for (size_t i = 0; i < len;) {
+    uint32_t cp;
+    size_t n = sl_utf8_decode(name + i, len - i, &cp);
+    if (n && (cp < 0x20 || cp == 0x7F || sl_invisible_name(cp))) {
+      sl_buf_addf(out, "\\u{%04X}", (unsigned)cp);   /* seen, and read back */
+      i += n;
+      continue;
+    }
+    if (name[i] == '"' || name[i] == '\\') sl_buf_add(out, "\\", 1);
+    sl_buf_add(out, name + i, n ? n : 1);
+    i += n ? n : 1;
   }
   sl_buf_add(out, "\"", 1);
 }
@@ -175,11 +183,25 @@ static size_t width(const char *s) {
   return w;
 }
 
+/* A name in the terminal view: as it is, unless it holds a character that
+** would not show; then in the notation's quoted form.  Returns its width. */
+static size_t show_name(const char *nm, int hidden, sl_buf *out) {
+  sl_buf q;
+  sl_buf_init(&q);
+  if (sl_invisible_in(nm, strlen(nm))) { sl_name_write(nm, &q); nm = q.data ? q.data : ""; }
+  size_t w = width(nm) + (hidden ? 2 : 0);
+  if (out) {
+    if (hidden) sl_buf_addf(out, "(%s)", nm); else sl_buf_adds(out, nm);
+  }
+  sl_buf_free(&q);
+  return w;
+}
+
 void sl_graph_show(const sl_graph *g, sl_buf *out) {
   size_t n = g->n, nh = 0, wmax = 4;
   for (size_t v = 0; v < n; v++) {
     nh += g->hidden[v];
-    size_t w = width(sl_graph_name(g, (int32_t)v)) + (g->hidden[v] ? 2 : 0);
+    size_t w = show_name(sl_graph_name(g, (int32_t)v), g->hidden[v], NULL);
     if (w > wmax) wmax = w;
   }
   if (wmax > 28) wmax = 28;
@@ -199,10 +221,8 @@ void sl_graph_show(const sl_graph *g, sl_buf *out) {
   }
   for (size_t i = 0; i < n; i++) {
     int32_t v = order[i];
-    const char *nm = sl_graph_name(g, v);
-    size_t w = width(nm) + (g->hidden[v] ? 2 : 0);
     sl_buf_addf(out, "  %2d  ", depth[v]);
-    if (g->hidden[v]) sl_buf_addf(out, "(%s)", nm); else sl_buf_adds(out, nm);
+    size_t w = show_name(sl_graph_name(g, v), g->hidden[v], out);
     for (size_t k = w; k < wmax; k++) sl_buf_add(out, " ", 1);
     size_t np, ns;
     const int32_t *p = sl_graph_parents(g, v, &np), *s = sl_graph_siblings(g, v, &ns);

@@ -150,8 +150,26 @@ static const valid_case valid_cases[] = {
   {"a -> b; a -> b; a, a -> b, b", 0, "a -> b\n"},
   {"a <-> b; b <-> a", 0, "a <-> b\n"},
   {"b <- a\na -> b", 0, "a -> b\n"},
-  /* DEL is allowed inside quotes and forces quoting */
-  {"\"a\x7f\" -> b", 0, "\"a\x7f\" -> b\n"},
+  /* DEL is allowed inside quotes, forces quoting, and is written as an
+  ** escape so that it shows */
+  {"\"a\x7f\" -> b", 0, "\"a\\u{007F}\" -> b\n"},
+  /* quoted names may hold invisible characters; the canonical text writes
+  ** each as \u{XXXX} (four hex digits at least, capitals), so that two
+  ** names differing by one do not print the same.  UTF-8 bytes of the code
+  ** points from the Unicode code charts (from memory): U+200B E2 80 8B,
+  ** U+00A0 C2 A0, U+FEFF EF BB BF, U+202E E2 80 AE, U+E0001 F3 A0 80 81 */
+  {"\"a\xE2\x80\x8B\" -> a", 0, "\"a\\u{200B}\" -> a\n"},
+  {"\"no\xC2\xA0" "break\"", 0, "\"no\\u{00A0}break\"\n"},
+  {"\"\xEF\xBB\xBF" "x\"", 0, "\"\\u{FEFF}x\"\n"},
+  {"\"x\xE2\x80\xAE" "y\" <-> z", 0, "\"x\\u{202E}y\" <-> z\n"},
+  {"\"e\xF3\xA0\x80\x81\"", 0, "\"e\\u{E0001}\"\n"},
+  /* \u{hex} escapes read back: small letters too, 1 to 6 digits; a name
+  ** that needs no quotes once decoded is written bare */
+  {"\"a\\u{200b}\" -> a", 0, "\"a\\u{200B}\" -> a\n"},
+  {"\"\\u{41}\\u{e9}\\u{01F34E}\" -> b", 0, "A\xC3\xA9\xF0\x9F\x8D\x8E -> b\n"},
+  {"\"\\u{22}\\u{5C}\"", 0, "\"\\\"\\\\\"\n"},        /* '"' and '\\' */
+  /* a variation selector is not refused: an emoji name needs it */
+  {"\xE2\x9D\xA4\xEF\xB8\x8F -> b", 0, "\xE2\x9D\xA4\xEF\xB8\x8F -> b\n"},
   /* an explicit length stops the parser before a NUL */
   {"a -> b\0garbage", 6, "a -> b\n"},
 };
@@ -293,7 +311,40 @@ static const invalid_case invalid_cases[] = {
   {"a -> \"x\r\n", 0, SL_ESYNTAX, 1, 6, "unterminated quoted name"},
   /* unknown escapes: the position is that of the backslash */
   {"\"a\\n\" -> b", 0, SL_ESYNTAX, 1, 3, "unknown escape"},
-  {"x -> \"tab\\t\"", 0, SL_ESYNTAX, 1, 10, "only \\\" and \\\\ are allowed"},
+  {"x -> \"tab\\t\"", 0, SL_ESYNTAX, 1, 10, "only \\\", \\\\ and \\u{hex} are allowed"},
+  /* bad \u escapes: no braces, no digits, too many, not hex, a control
+  ** character, a surrogate, past U+10FFFF, unterminated */
+  {"\"a\\u200B\"", 0, SL_ESYNTAX, 1, 3, "\\u{...} takes 1 to 6 hex digits"},
+  {"\"a\\u{}\"", 0, SL_ESYNTAX, 1, 3, "\\u{...} takes 1 to 6 hex digits"},
+  {"\"a\\u{1234567}\"", 0, SL_ESYNTAX, 1, 3, "\\u{...}"},
+  {"\"a\\u{12g}\"", 0, SL_ESYNTAX, 1, 3, "\\u{...}"},
+  {"\"a\\u{A}\"", 0, SL_ESYNTAX, 1, 3, "not a control character"},
+  {"\"a\\u{D800}\"", 0, SL_ESYNTAX, 1, 3, "or a surrogate"},
+  {"\"a\\u{110000}\"", 0, SL_ESYNTAX, 1, 3, "\\u{...}"},
+  {"x -> \"a\\u{12\"", 0, SL_ESYNTAX, 1, 8, "\\u{...}"},
+  /* invisible characters in bare names: refused at the character, named
+  ** by code point (names from the Unicode code charts, from memory) */
+  {"a\xE2\x80\x8B -> b", 0, SL_ESYNTAX, 1, 2,
+   "invisible character U+200B (zero-width space) in a name; quote the name if you mean it"},
+  {"x -> no\xC2\xA0" "break", 0, SL_ESYNTAX, 1, 8, "U+00A0 (no-break space)"},
+  {"soft\xC2\xAD" "ware", 0, SL_ESYNTAX, 1, 5, "U+00AD (soft hyphen)"},
+  {"a\xE2\x80\x8C" "b", 0, SL_ESYNTAX, 1, 2, "U+200C (zero-width non-joiner)"},
+  {"a\xE2\x80\x8D" "b", 0, SL_ESYNTAX, 1, 2, "U+200D (zero-width joiner)"},
+  {"\xE2\x80\x8E" "a -> b", 0, SL_ESYNTAX, 1, 1, "U+200E (left-to-right mark)"},
+  {"a -> b\xE2\x80\x8F", 0, SL_ESYNTAX, 1, 7, "U+200F (right-to-left mark)"},
+  {"x\xE2\x80\xAA" "y", 0, SL_ESYNTAX, 1, 2, "U+202A (left-to-right embedding)"},
+  {"x\xE2\x80\xAE" "y", 0, SL_ESYNTAX, 1, 2, "U+202E (right-to-left override)"},
+  {"x\xE2\x81\xA6" "y", 0, SL_ESYNTAX, 1, 2, "U+2066 (left-to-right isolate)"},
+  {"x\xE2\x81\xA9" "y", 0, SL_ESYNTAX, 1, 2, "U+2069 (pop directional isolate)"},
+  {"x\xE2\x81\xA0" "y", 0, SL_ESYNTAX, 1, 2, "U+2060 (word joiner)"},
+  {"x\xE2\x80\x89" "y", 0, SL_ESYNTAX, 1, 2, "U+2009 (thin space)"},
+  {"x\xE3\x80\x80" "y", 0, SL_ESYNTAX, 1, 2, "U+3000 (ideographic space)"},
+  {"x\xC2\x85", 0, SL_ESYNTAX, 1, 2, "U+0085 (control character)"},
+  {"e\xF3\xA0\x80\x81", 0, SL_ESYNTAX, 1, 2, "U+E0001 (tag character)"},
+  /* a byte-order mark anywhere but at the very start */
+  {"a -> b\n\xEF\xBB\xBF" "c -> d", 0, SL_ESYNTAX, 2, 1, "U+FEFF (byte-order mark)"},
+  {"\xEF\xBB\xBF\xEF\xBB\xBF" "a", 0, SL_ESYNTAX, 1, 1, "U+FEFF (byte-order mark)"},
+  {"a\xEF\xBB\xBF", 0, SL_ESYNTAX, 1, 2, "U+FEFF (byte-order mark)"},
   /* an empty quoted name */
   {"\"\" -> a", 0, SL_ESYNTAX, 1, 1, "empty quoted name"},
   {"a -> \"\"", 0, SL_ESYNTAX, 1, 6, "empty quoted name"},
@@ -450,6 +501,24 @@ static void test_error_format(void **state) {
                       "line 1, column 13: unexpected character '@' (quote names that hold it)\n"
                       "  \xF0\x9F\x8D\x8E, Größe -> @\n"
                       "              ^");
+
+  /* an invisible character is echoed as '?', one column, so the caret
+  ** points at it and the terminal shows where it is */
+  in = "a -> b\xE2\x80\x8B";
+  parse_fail(in, strlen(in), &e);
+  assert_string_equal(sl_error_format(&e, in, strlen(in), buf, sizeof buf),
+                      "line 1, column 7: invisible character U+200B (zero-width space) in a name; "
+                      "quote the name if you mean it\n"
+                      "  a -> b?\n"
+                      "        ^");
+  /* ... and so is a control character before the error */
+  in = "\"a\x1b[2Jb\" -> $";
+  parse_fail(in, strlen(in), &e);
+  assert_int_equal(e.col, 3);
+  assert_string_equal(sl_error_format(&e, in, strlen(in), buf, sizeof buf),
+                      "line 1, column 3: control character in a quoted name\n"
+                      "  \"a?[2Jb\" -> $\n"
+                      "    ^");
 
   /* a tab is copied so the caret lines up under it */
   in = "a\t-> $";

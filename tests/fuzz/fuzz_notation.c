@@ -5,8 +5,10 @@
 ** text, which must parse again to an equal graph and write the very same
 ** bytes; its terminal view and DOT text are made too, so the sanitizers
 ** see them.  A text that fails must leave a one-line message with a sane
-** position, and the formatted error (with its caret line) is made.  Any
-** broken promise calls abort(), which libFuzzer reports as a crash.
+** position, and the formatted error (with its caret line) is made and
+** holds no control character.  The canonical text shows every invisible
+** character as an escape.  Any broken promise calls abort(), which
+** libFuzzer reports as a crash.
 */
 #include <stdint.h>
 #include <stdio.h>
@@ -31,6 +33,8 @@ static void check_error(const sl_error *e, const char *src, size_t len) {
   char buf[1024];
   sl_error_format(e, src, len, buf, sizeof buf);
   check(memchr(buf, '\0', sizeof buf) != NULL, "formatted error not terminated");
+  for (const char *p = buf; *p; p++)   /* the echo hides what a terminal would obey */
+    check((unsigned char)*p >= 0x20 || *p == '\n' || *p == '\t', "control character in a formatted error");
   char small[16];
   sl_error_format(e, src, len, small, sizeof small);
   check(memchr(small, '\0', sizeof small) != NULL, "small formatted error not terminated");
@@ -56,6 +60,8 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
     abort();
   }
   check(sl_graph_equal(g, h), "canonical text parses to a different graph");
+  check(sl_invisible_in(t1.data ? t1.data : "", t1.len) == 0,
+        "canonical text holds an invisible character unescaped");
   check(sl_graph_equal(h, g), "sl_graph_equal is not symmetric");
   sl_graph_write(h, &t2);
   check(t1.len == t2.len && (t1.len == 0 || memcmp(t1.data, t2.data, t1.len) == 0),

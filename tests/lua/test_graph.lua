@@ -140,3 +140,25 @@ test("show lists every node in causal order", function()
   eq(s:find("   2  yield%s+<%- \"frost days\", pests, rain, soil") ~= nil, true, "yield line")
   eq(s:find("(pests)", 1, true) ~= nil, true, "hidden marked")
 end)
+
+-- Invisible characters (issue 9): a zero-width space or a no-break space in
+-- a bare name made a second node that printed like the first.  The code
+-- points and their names are from the Unicode code charts (from memory).
+test("invisible characters: refused bare, escaped when quoted", function()
+  local msg = raises(function() return graph "pest\u{200B}s -> yield" end,
+                     "line 1, column 5", "invisible character U+200B (zero-width space)",
+                     "quote the name if you mean it")
+  eq(msg:find("pest?s -> yield\n      ^", 1, true) ~= nil, true, "caret under the character")
+  raises(function() return graph "rain\u{00A0} -> soil" end, "U+00A0 (no-break space)")
+  raises(function() return graph "a -> b\n\u{FEFF}c -> d" end, "line 2, column 1", "U+FEFF")
+  raises(function() return orchard:with "rain\u{200D} -> compost" end, "U+200D (zero-width joiner)")
+  local g = graph '"pest\u{200B}s" -> yield; pests -> yield'
+  eq(#g, 3, "two distinct pests nodes")
+  -- bytewise name order: "pests" before "pest" .. U+200B (bytes E2 80 8B)
+  eq(tostring(g), 'pests -> yield\n"pest\\u{200B}s" -> yield', "escaped in the notation")
+  eq(graph(tostring(g)) == g, true, "the text parses back to the same graph")
+  eq(tostring(g:nodes()), 'pests, "pest\\u{200B}s", yield', "lists show the escape")
+  eq(g:show():find('"pest\\u{200B}s"', 1, true) ~= nil, true, "the terminal view too")
+  eq(tostring(graph '"a\\u{e9}" -> b'), "a\u{e9} -> b", "an escape of a visible letter")
+end)
+
