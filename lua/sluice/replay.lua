@@ -229,6 +229,7 @@ end
 -- The child's whole life; it never returns.
 local function child_main(parsed, o)
   local send, leave = hooks.replay_send, hooks.replay_exit
+  S._wrap_output()   -- before the environment copies print and io.write
   local blocked_here = {}
   local function note(name) blocked_here[#blocked_here + 1] = name end
   local env

@@ -302,6 +302,7 @@ S._real = real
 S._lines_of = lines_of
 S._error_text = error_text
 S._entry_text = entry_text
+S._wrap_output = wrap_output
 
 -- In a replay child: writes go through guard(path, what), which raises.
 function S._set_guard(g) guard = g end
