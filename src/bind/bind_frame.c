@@ -227,6 +227,8 @@ static int l_read_csv(lua_State *L) {
   const char *path = luaL_checkstring(L, 1);
   sl_csv_opts o;
   csv_options(L, 2, &o);
+  o.stop = &sl_bind_stop;   /* Ctrl-C ends the read */
+  sl_bind_stop = 0;
   frame_box *b = new_box(L);
   sl_read_report rep;
   sl_error e;

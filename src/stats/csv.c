@@ -237,18 +237,38 @@ static void feed(reader *r, struct csv_parser *p, const char *s, size_t n) {
       }
       return;
     }
+    if (p->entry_pos > SL_CSV_MAX_CELL) {
+      char lim[32];
+      snprintf(lim, sizeof lim, "%u MiB", SL_CSV_MAX_CELL >> 20);
+      fail_at(r, SL_ELIMIT, r->pending_line, (int)r->field + 1, ": a cell of more than %s "
+              "(is this a CSV file?)%s", lim, "");
+      return;
+    }
     r->at_line_start = nl != NULL;
+    if (nl && r->line == SL_CSV_MAX_LINES) {
+      sl_error_set(r->e, SL_ELIMIT, 0, 0, "%s has more than %d lines", r->path,
+                   SL_CSV_MAX_LINES);
+      r->failed = 1;
+      return;
+    }
     if (nl) r->line++;
     s += k;
     n -= k;
   }
 }
 
+/* Whether the caller asked the read to stop (Ctrl-C): then an error. */
+static int stopped(reader *r) {
+  if (!r->opts || !r->opts->stop || !*r->opts->stop) return 0;
+  sl_error_set(r->e, SL_ELIMIT, 0, 0, "interrupted");
+  r->failed = 1;
+  return 1;
+}
+
 /* One pass over the file; fills sha with the digest of its bytes. */
 static int read_pass(reader *r, unsigned char sha[32], uint64_t *bytes) {
-  FILE *fp = fopen(r->path, "rb");
-  if (!fp) return sl_error_set(r->e, SL_EIO, 0, 0, "cannot open '%s': %s", r->path,
-                               strerror(errno));
+  FILE *fp = sl_data_open(r->path, r->e);
+  if (!fp) return r->e->code;
   char *buf = malloc(CHUNK);
   sl_sha256 h;
   struct csv_parser p;
@@ -267,8 +287,9 @@ static int read_pass(reader *r, unsigned char sha[32], uint64_t *bytes) {
   int first = 1;
   size_t n;
   while ((n = fread(buf, 1, CHUNK, fp)) > 0) {
+    if (r->failed || stopped(r)) break;
     sl_sha256_update(&h, buf, n);
-    if (r->failed || r->done) continue;   /* the fingerprint covers the whole file */
+    if (r->done) continue;   /* pass 2: the fingerprint still covers the whole file */
     const char *s = buf;
     if (first) {
       if (n >= 3 && memcmp(s, "\xEF\xBB\xBF", 3) == 0) { s += 3; n -= 3; }

@@ -8,11 +8,14 @@
 
 #include <stddef.h>
 #include <stdint.h>
+#include <stdio.h>
 #include "error.h"
 
 /* Documented limits. */
 #define SL_FRAME_MAX_COLS 65536        /* columns of a frame read from a file */
 #define SL_FRAME_MAX_LEVELS 2147483647 /* levels of a categorical column (int32 codes) */
+#define SL_CSV_MAX_CELL (256u << 20)   /* bytes in one CSV cell (256 MiB) */
+#define SL_CSV_MAX_LINES 2147483647    /* lines of a CSV file (rows are named by line) */
 
 enum sl_coltype { SL_NUMERIC = 0, SL_CATEGORICAL = 1 };
 
@@ -66,6 +69,7 @@ typedef struct sl_csv_opts {
   const char *const *na;       /* extra missing-value tokens */
   size_t nna;
   int coerce;                  /* non-numeric cells in numeric columns become missing */
+  volatile int *stop;          /* when set and nonzero, the read ends: "interrupted" */
 } sl_csv_opts;
 
 /* Type inference, per column, over its non-missing cells (missing: empty,
@@ -88,7 +92,9 @@ typedef struct sl_read_report {
 
 /* Read a CSV file with a header row.  Errors name the file, the row (line
 ** of the file, 1-based, header = 1) in e->line and the column in e->col.
-** A file with a header but no rows is an error.  opts may be NULL. */
+** A file with a header but no rows is an error; so is a path that is not a
+** regular file (a device, pipe or directory: checked before it is opened,
+** and opened without waiting for a writer).  opts may be NULL. */
 sl_frame *sl_csv_read(const char *path, const sl_csv_opts *opts, sl_read_report *rep,
                       sl_error *e);
 /* Write f with a header row: numbers in the shortest "%.15g".."%.17g" form
@@ -100,6 +106,9 @@ sl_frame *sl_sql_read(const char *dbpath, const char *query, sl_read_report *rep
                       sl_error *e);
 
 /* ---- fingerprints (SHA-256, libsodium) ---- */
+/* Open a data file for reading; anything but a regular file is an error
+** ("PATH is not a regular file (a device); ..."). */
+FILE *sl_data_open(const char *path, sl_error *e);
 int sl_fingerprint_file(const char *path, unsigned char sha256[32], uint64_t *bytes,
                         sl_error *e);
 /* Lower-case hex of a digest into hex (65 bytes with the NUL); returns hex. */

@@ -25,6 +25,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <unistd.h>
+#include <sys/stat.h>
 #include <sqlite3.h>
 
 #include "frame.h"
@@ -213,7 +214,7 @@ static void test_semicolon(void **state) {
   assert_string_equal(level(score, 0), "61");
   sl_frame_free(f);
   const char *na[] = {"-"};
-  sl_csv_opts o = {0, na, 1, 0};
+  sl_csv_opts o = {0, na, 1, 0, NULL};
   f = read_ok(DATA "classroom.csv", &o, NULL);
   score = col(f, "score");
   assert_int_equal(score->type, SL_NUMERIC);
@@ -274,7 +275,7 @@ static void test_mixed_keeps_text(void **state) {
 static void test_extra_na(void **state) {
   (void)state;
   const char *na[] = {"-999", "?"};
-  sl_csv_opts o = {0, na, 2, 0};
+  sl_csv_opts o = {0, na, 2, 0, NULL};
   sl_frame *f = read_ok(DATA "sensor.csv", &o, NULL);
   const sl_column *t = col(f, "temp");
   assert_int_equal(t->type, SL_NUMERIC);
@@ -286,12 +287,12 @@ static void test_extra_na(void **state) {
 ** one column whose name is the whole header line. */
 static void test_given_delim(void **state) {
   (void)state;
-  sl_csv_opts o = {';', NULL, 0, 0};
+  sl_csv_opts o = {';', NULL, 0, 0, NULL};
   sl_frame *f = read_ok(DATA "orchard.csv", &o, NULL);
   assert_int_equal(f->ncol, 1);
   assert_string_equal(f->col[0].name, "plot,variety,rain,yield,pests");
   sl_frame_free(f);
-  sl_csv_opts bad = {'x', NULL, 0, 0};
+  sl_csv_opts bad = {'x', NULL, 0, 0, NULL};
   sl_error e;
   assert_null(sl_csv_read(DATA "orchard.csv", &bad, NULL, &e));
   assert_non_null(strstr(e.msg, "delimiter"));
@@ -322,7 +323,7 @@ static void test_errors(void **state) {
 ** missing and counted; the other cells are 10 + i/4 for plot i. */
 static void test_coerce(void **state) {
   (void)state;
-  sl_csv_opts o = {0, NULL, 0, 1};
+  sl_csv_opts o = {0, NULL, 0, 1, NULL};
   sl_read_report rep;
   sl_frame *f = read_ok(DATA "typo.csv", &o, &rep);
   const sl_column *y = col(f, "yield");
@@ -586,6 +587,57 @@ static void test_sql(void **state) {
   assert_string_equal(e.msg, "file is not a database");
 }
 
+/* ---- files that never end, and stopping a read ---- */
+
+/* A device never ends and a pipe without a writer blocks the open: both
+** are refused before a byte is read (the alarm turns a hang or an endless
+** read into a failure of this test). */
+static void test_not_regular(void **state) {
+  (void)state;
+  sl_error e;
+  sl_read_report rep;
+  alarm(20);
+  assert_null(sl_csv_read("/dev/zero", NULL, &rep, &e));
+  assert_string_equal(e.msg, "/dev/zero is not a regular file (a device); sluice reads "
+                      "data from regular files");
+  assert_null(sl_csv_read("/dev/urandom", NULL, &rep, &e));
+  assert_string_equal(e.msg, "/dev/urandom is not a regular file (a device); sluice reads "
+                      "data from regular files");
+  const char *fifo = tmp("pipe.csv");
+  assert_int_equal(mkfifo(fifo, 0600), 0);
+  assert_null(sl_csv_read(fifo, NULL, &rep, &e));
+  assert_non_null(strstr(e.msg, "pipe.csv is not a regular file (a pipe)"));
+  assert_null(sl_csv_read(tmpdir, NULL, &rep, &e));
+  assert_non_null(strstr(e.msg, "is not a regular file (a directory)"));
+  unsigned char sha[32];
+  uint64_t bytes;
+  assert_int_equal(sl_fingerprint_file(fifo, sha, &bytes, &e), SL_EARG);
+  assert_non_null(strstr(e.msg, "is not a regular file (a pipe)"));
+  alarm(0);
+}
+
+/* A read polls the stop flag (set by Ctrl-C in the shell) between chunks. */
+static void test_stop(void **state) {
+  (void)state;
+  const char *path = tmp("stop.csv");
+  FILE *fp = fopen(path, "wb");
+  assert_non_null(fp);
+  fputs("a,b\n", fp);
+  for (int i = 0; i < 100000; i++) fprintf(fp, "%d,%d\n", i, 2 * i);
+  fclose(fp);
+  volatile int stop = 1;
+  sl_csv_opts o = {0, NULL, 0, 0, &stop};
+  sl_error e;
+  sl_read_report rep;
+  assert_null(sl_csv_read(path, &o, &rep, &e));
+  assert_string_equal(e.msg, "interrupted");
+  assert_int_equal(e.code, SL_ELIMIT);
+  stop = 0;
+  sl_frame *f = read_ok(path, &o, NULL);
+  assert_int_equal(f->nrow, 100000);
+  sl_frame_free(f);
+}
+
 /* ---- fingerprints ---- */
 
 /* Digests from sha256sum tests/data/orchard.csv tests/data/quoted.csv. */
@@ -633,7 +685,7 @@ static void test_random_files(void **state) {
     put_file(tmp("random.csv"), text, n);
     sl_error e = {0};
     sl_read_report rep;
-    sl_csv_opts o = {0, NULL, 0, (int)(round & 1)};
+    sl_csv_opts o = {0, NULL, 0, (int)(round & 1), NULL};
     sl_frame *f = sl_csv_read(tmp("random.csv"), &o, &rep, &e);
     if (f) {
       frames++;
@@ -672,6 +724,8 @@ int main(void) {
     cmocka_unit_test(test_ops),
     cmocka_unit_test(test_sql),
     cmocka_unit_test(test_sha256),
+    cmocka_unit_test(test_not_regular),
+    cmocka_unit_test(test_stop),
     cmocka_unit_test(test_random_files),
   };
   return cmocka_run_group_tests(tests, setup_tmp, teardown_tmp);

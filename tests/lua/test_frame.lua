@@ -276,3 +276,21 @@ test("hooks.data_read hears of every file read (for the session log)", function(
   eq(heard[1][2], "4185850cb103de325fba433e306d3e5713a4acc8aa936a40d8848098c4fe8fa4")
   eq(heard[1][3], 177)
 end)
+
+-- A device never ends and a pipe with no writer blocks: both are refused
+-- by name before a byte is read (before, read_csv("/dev/zero") grew
+-- without end and a pipe hung the shell).
+test("read_csv and read_sql refuse devices, pipes and directories", function()
+  raises(function() read_csv("/dev/zero") end,
+         "read_csv: /dev/zero is not a regular file (a device); sluice reads data from regular files")
+  raises(function() read_csv("/dev/urandom") end, "/dev/urandom is not a regular file (a device)")
+  raises(function() read_sql("/dev/zero", "SELECT 1") end,
+         "read_sql: /dev/zero is not a regular file (a device)")
+  raises(function() read_csv("tests/data") end, "tests/data is not a regular file (a directory)")
+  local fifo = tmpname(".csv")
+  if os.execute("mkfifo " .. fifo .. " 2>/dev/null") then
+    raises(function() read_csv(fifo) end, "is not a regular file (a pipe)")
+    raises(function() read_sql(fifo, "SELECT 1") end, "is not a regular file (a pipe)")
+    os.remove(fifo)
+  end
+end)
