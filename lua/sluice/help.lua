@@ -328,8 +328,12 @@ lines) and the data files read (path, size, SHA-256, as "--@ " lines), each
 entry flushed to disk before the next prompt. The interactive shell logs to a
 new file in ./sluice-logs unless started with --no-log or --log PATH.
 log(path) starts a new log at path, log(false) stops logging, log() gives the
-current path. sluice --replay LOG re-runs a log in a sandbox and compares
-every output; sluice LOG runs it as a script.]],
+current path. sluice --replay LOG re-runs a log and compares every output.
+A log is code: a replay runs it in a child process that the kernel confines
+(Landlock: writes only beneath --out; seccomp: no programs, processes or
+sockets; limits on memory, CPU and --limit seconds per entry), while the
+parent writes the report. In a replay, log(path) needs a path beneath --out.
+sluice LOG runs a log as a script, with no sandbox: only for your own logs.]],
     example = [[log "orchard-session.lua"]] },
   { name = "show", topic = "session",
     sig = "show(...)",
