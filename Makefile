@@ -112,8 +112,12 @@ fuzz:
 	  tests/fuzz/fuzz_csv.c src/graph/error.c src/stats/frame.c src/stats/csv.c \
 	  src/stats/sql.c src/stats/fingerprint.c \
 	  $(shell pkg-config --cflags --libs sqlite3 libsodium) -lcsv -lm -o $(B)/fuzz/fuzz_csv
+	clang -std=c11 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -g -O1 \
+	  -fsanitize=fuzzer,address,undefined -Isrc/shell \
+	  tests/fuzz/fuzz_wire.c src/shell/wire.c -o $(B)/fuzz/fuzz_wire
 	sh tests/fuzz/run.sh $(B)/fuzz/fuzz_notation $(FUZZ_TIME)
 	sh tests/fuzz/run.sh $(B)/fuzz/fuzz_csv $(FUZZ_TIME) tests/fuzz/csv_corpus
+	sh tests/fuzz/run.sh $(B)/fuzz/fuzz_wire $(FUZZ_TIME) tests/fuzz/wire_corpus
 
 bench: all
 	@B=$(B) PYTHON=$(PYTHON) sh bench/run.sh
