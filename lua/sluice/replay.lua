@@ -25,6 +25,9 @@ local stdout = io.stdout
 local M, hooks            -- the module and the hooks table, set by install
 
 R.DEFAULT_LIMIT = 600     -- seconds an entry may run (--limit)
+R.MAX_LOG = 1 << 30       -- bytes of a log that replay reads
+R.MAX_RECORDS = 10000     -- records one entry may send
+R.MAX_BYTES = 256 << 20   -- bytes one entry may send
 
 local function say(...) real.fwrite(stdout, ...) end
 
@@ -278,7 +281,18 @@ end
 -- and a detail.
 local function collect(child, e, limit)
   local r = {out = "", failed = false, data = {}, pictures = {}, blocked = {}}
-  local kind, p, detail = child:recv(limit)
+  local deadline, count, bytes = hooks.now() + limit, 0, 0
+  local function recv()
+    local kind, p, detail = child:recv(math.max(deadline - hooks.now(), 0))
+    count = count + 1
+    bytes = bytes + (kind and #p or 0)
+    if kind and (count > R.MAX_RECORDS or bytes > R.MAX_BYTES) then
+      child:stop()
+      return nil, "broken", "the replay process sent more than one entry may"
+    end
+    return kind, p, detail
+  end
+  local kind, p, detail = recv()
   if not kind then return nil, p, detail end
   if kind == "Q" and p ~= "" then return nil, "setup", p end
   if kind ~= "E" or p ~= tostring(e.n) then
@@ -287,7 +301,7 @@ local function collect(child, e, limit)
   end
   local seen_out = false
   while true do
-    kind, p, detail = child:recv(limit)
+    kind, p, detail = recv()
     if not kind then return nil, p, detail end
     if kind == "O" and not seen_out then r.out, seen_out = p, true
     elseif kind == "F" then r.failed = true
@@ -324,30 +338,19 @@ local function check_data(e)
   return status
 end
 
--- Read the log file: its text, or nil after saying why.
+-- Read the log file: its text and identity, or nil after saying why.
 local function read_log(path)
-  local kind, size = hooks.file_kind(path)
-  if not kind then
-    say("sluice: cannot read the log: ", path, ": ", tostring(size), "\n")
+  local text, id = hooks.read_regular(path, R.MAX_LOG)
+  if not text then
+    say("sluice: cannot read the log: ", path, ": ", tostring(id), "\n")
     return nil
   end
-  if kind ~= "regular" then
-    say("sluice: ", path, " is a ", kind, ", not a session log file\n")
-    return nil
-  end
-  local f, err = real.open(path, "rb")
-  if not f then
-    say("sluice: cannot read the log: ", tostring(err), "\n")
-    return nil
-  end
-  local text = f:read("a")
-  f:close()
-  return text
+  return text, id
 end
 
 -- sluice --replay LOG: returns the exit status.
 function R.replay(o)
-  local text = read_log(o.log)
+  local text, log_id = read_log(o.log)
   if not text then return 1 end
   local parsed, perr = T.parse(text, o.log)
   if not parsed then say("sluice: ", perr, "\n") return 1 end
@@ -454,6 +457,16 @@ function R.replay(o)
   if o.update then
     if stopped then
       say("sluice: --update: not rewriting ", o.log, ": the replay stopped early\n")
+      return 1
+    end
+    -- the child is gone; the log must still be the file that was read
+    if hooks.file_id(o.log) ~= log_id then
+      say("sluice: --update: not rewriting ", o.log, ": it changed during the replay\n")
+      return 1
+    end
+    local bak_id, bak_kind = hooks.file_id(o.log .. ".bak")
+    if bak_id and bak_kind ~= "regular" then
+      say("sluice: --update: not rewriting ", o.log, ": ", o.log, ".bak is not a regular file\n")
       return 1
     end
     local ok, uerr = R.rewrite(o.log, text, parsed)

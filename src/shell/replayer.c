@@ -400,29 +400,122 @@ static int l_file_kind(lua_State *L) {
   return 2;
 }
 
+/* Open path for reading only if it is a regular file: opened first (never
+** blocking, never a terminal), then checked, so that nothing can swap a
+** pipe or a device in between.  The descriptor, or -1 with why. */
+static int open_regular(const char *path, struct stat *st, const char **why) {
+  int fd = open(path, O_RDONLY | O_NONBLOCK | O_NOCTTY | O_CLOEXEC);
+  if (fd < 0) {
+    *why = strerror(errno);
+    return -1;
+  }
+  if (fstat(fd, st) != 0 || !S_ISREG(st->st_mode)) {
+    *why = S_ISDIR(st->st_mode) ? "a directory, not a file" : "not a regular file";
+    close(fd);
+    return -1;
+  }
+  fcntl(fd, F_SETFL, 0);
+  return fd;
+}
+
 /* hooks.fingerprint(path): the SHA-256 in hex and the size of a regular
 ** file, or nil and why. */
 static int l_fingerprint(lua_State *L) {
-  const char *path = luaL_checkstring(L, 1);
+  const char *path = luaL_checkstring(L, 1), *why = NULL;
   struct stat st;
-  if (stat(path, &st) != 0 || !S_ISREG(st.st_mode)) {
+  int fd = open_regular(path, &st, &why);
+  if (fd < 0) {
     luaL_pushfail(L);
-    lua_pushstring(L, errno && !S_ISREG(st.st_mode) ? "not a regular file" : strerror(errno));
+    lua_pushstring(L, why);
     return 2;
   }
-  unsigned char sha[32];
-  char hex[65];
-  uint64_t bytes;
+  sl_sha256 h;
   sl_error e;
   memset(&e, 0, sizeof e);
-  if (sl_fingerprint_file(path, sha, &bytes, &e) != SL_OK) {
+  if (sl_sha256_init(&h, &e) != SL_OK) {
+    close(fd);
     luaL_pushfail(L);
     lua_pushstring(L, e.msg);
     return 2;
   }
+  unsigned char buf[1 << 16], sha[32];
+  ssize_t n;
+  while ((n = read(fd, buf, sizeof buf)) > 0 || (n < 0 && errno == EINTR))
+    if (n > 0)
+      sl_sha256_update(&h, buf, (size_t)n);
+  int err = errno;
+  close(fd);
+  if (n < 0) {
+    luaL_pushfail(L);
+    lua_pushstring(L, strerror(err));
+    return 2;
+  }
+  char hex[65];
+  sl_sha256_final(&h, sha);
   lua_pushstring(L, sl_fingerprint_hex(sha, hex));
-  lua_pushinteger(L, (lua_Integer)bytes);
+  lua_pushinteger(L, (lua_Integer)h.bytes);
   return 2;
+}
+
+/* hooks.read_regular(path, max): the bytes of a regular file of at most
+** max bytes and its identity "device:inode", or nil and why. */
+static int l_read_regular(lua_State *L) {
+  const char *path = luaL_checkstring(L, 1), *why = NULL;
+  lua_Integer max = luaL_checkinteger(L, 2);
+  struct stat st;
+  int fd = open_regular(path, &st, &why);
+  if (fd < 0) {
+    luaL_pushfail(L);
+    lua_pushstring(L, why);
+    return 2;
+  }
+  if (st.st_size > max) {
+    close(fd);
+    luaL_pushfail(L);
+    lua_pushfstring(L, "larger than %I bytes", max);
+    return 2;
+  }
+  luaL_Buffer b;
+  luaL_buffinit(L, &b);
+  ssize_t n;
+  char buf[1 << 16];
+  lua_Integer total = 0;
+  while ((n = read(fd, buf, sizeof buf)) != 0) {
+    if (n < 0 && errno == EINTR)
+      continue;
+    if (n < 0 || (total += n) > max)
+      break;
+    luaL_addlstring(&b, buf, (size_t)n);
+  }
+  int err = errno;
+  close(fd);
+  if (n != 0) {
+    luaL_pushfail(L);
+    lua_pushstring(L, n < 0 ? strerror(err) : "it grew while being read");
+    return 2;
+  }
+  luaL_pushresult(&b);
+  lua_pushfstring(L, "%I:%I", (lua_Integer)st.st_dev, (lua_Integer)st.st_ino);
+  return 2;
+}
+
+/* hooks.file_id(path): "device:inode" of path itself (a link is not
+** followed) and its kind, or nil. */
+static int l_file_id(lua_State *L) {
+  struct stat st;
+  if (lstat(luaL_checkstring(L, 1), &st) != 0) {
+    luaL_pushfail(L);
+    return 1;
+  }
+  lua_pushfstring(L, "%I:%I", (lua_Integer)st.st_dev, (lua_Integer)st.st_ino);
+  lua_pushstring(L, kind_of(st.st_mode));
+  return 2;
+}
+
+/* hooks.now(): seconds on a clock that only moves forward. */
+static int l_now(lua_State *L) {
+  lua_pushnumber(L, now());
+  return 1;
 }
 
 /* hooks.sandbox_available(): true, or false and why. */
@@ -441,6 +534,7 @@ void replayer_install(lua_State *L) {
   static const luaL_Reg hooks[] = {
     {"replay_spawn", l_spawn}, {"replay_send", l_send}, {"replay_exit", l_exit},
     {"file_kind", l_file_kind}, {"fingerprint", l_fingerprint},
+    {"read_regular", l_read_regular}, {"file_id", l_file_id}, {"now", l_now},
     {"sandbox_available", l_available}, {NULL, NULL}
   };
   static const luaL_Reg methods[] = {

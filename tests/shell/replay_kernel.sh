@@ -106,4 +106,18 @@ grep -q "^replayed code: 2 commands: 2 matched" stderr.txt \
   || { cat stderr.txt; fail "the child's error output carries a prefix"; }
 grep -q "2 commands" stdout.txt && fail "the child cannot print into the report"
 ok "the replayed code cannot print into the report"
+# --update writes only the file it read: a log that swaps itself is refused
+mkdir upd
+cat > upd/self.lua <<LOG
+$head3
+--@ in 1
+local f = io.open("upd/other.lua", "w") f:write("print('planted')") f:close()
+os.rename("upd/other.lua", "upd/self.lua")
+LOG
+SLUICE_TEST_KERNEL_ONLY=1 "$exe" --replay upd/self.lua --out upd --update > out.txt 2>&1
+[ $? = 1 ] || fail "an --update of a log that changed exits 1"
+has "not rewriting upd/self.lua: it changed during the replay" "the refusal says why"
+[ "$(cat upd/self.lua)" = "print('planted')" ] || fail "the swapped file is left alone"
+[ -e upd/self.lua.bak ] && fail "no .bak is written"
+ok "--update refuses a log that changed during the replay"
 echo "$n passed, 0 failed"
