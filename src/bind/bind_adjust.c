@@ -1,6 +1,8 @@
 /*
 ** bind_adjust.c: trails, separation and adjustment sets as graph methods.
 */
+#include <stdarg.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include "bind.h"
@@ -21,19 +23,111 @@ static int opt_field(lua_State *L, int idx, const char *name) {
   return lua_getfield(L, idx, name);
 }
 
+/* Raise "fname: message" at the caller's line. */
+static int opt_error(lua_State *L, const char *fname, const char *fmt, ...) {
+  sl_error e;
+  va_list ap;
+  va_start(ap, fmt);
+  vsnprintf(e.msg, sizeof e.msg, fmt, ap);
+  va_end(ap);
+  e.code = SL_EARG;
+  e.line = e.col = 0;
+  return sl_bind_raise(L, &e, fname, NULL, 0);
+}
+
+/* A value as the user would write it, for messages: 2.5, nan, "x", a table. */
+static const char *value_text(lua_State *L, int idx) {
+  int t = lua_type(L, idx);
+  if (t == LUA_TNUMBER) {
+    lua_Number x = lua_tonumber(L, idx);
+    if (x != x) return lua_pushliteral(L, "nan");
+    return luaL_tolstring(L, idx, NULL);
+  }
+  if (t == LUA_TSTRING) return lua_pushfstring(L, "\"%s\"", lua_tostring(L, idx));
+  if (t == LUA_TNIL || t == LUA_TNONE) return lua_pushliteral(L, "nil");
+  return lua_pushfstring(L, "a %s", luaL_typename(L, idx));
+}
+
+/* The options table at idx holds only the known keys (a typo would be
+** ignored silently otherwise). */
+static void check_options(lua_State *L, int idx, const char *fname,
+                          const char *const *known, size_t nknown) {
+  if (lua_isnoneornil(L, idx)) return;
+  if (!lua_istable(L, idx))
+    opt_error(L, fname, "the options are a table such as {%s = ...}, got %s", known[0],
+              luaL_typename(L, idx));
+  lua_pushnil(L);
+  while (lua_next(L, idx)) {
+    lua_pop(L, 1);
+    const char *k = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : NULL;
+    size_t i = 0;
+    while (k && i < nknown && strcmp(k, known[i]) != 0) i++;
+    if (k && i < nknown) continue;
+    const char *near = k ? sl_closest(k, known, nknown) : NULL;
+    luaL_Buffer b;
+    luaL_buffinit(L, &b);
+    for (i = 0; i < nknown; i++) {
+      if (i) luaL_addstring(&b, ", ");
+      luaL_addstring(&b, known[i]);
+    }
+    luaL_pushresult(&b);
+    const char *names = lua_tostring(L, -1);
+    if (near) opt_error(L, fname, "unknown option '%s'; did you mean '%s'?", k, near);
+    opt_error(L, fname, "unknown option %s (options: %s)",
+              k ? lua_pushfstring(L, "'%s'", k) : value_text(L, -2), names);
+  }
+}
+
 /* The limit option of the options table at 4 (its value stays pushed at
-** index 5, so later option fields keep their stack positions). */
-static lua_Integer opt_limit(lua_State *L, lua_Integer def) {
-  lua_Integer limit = opt_field(L, 4, "limit") != LUA_TNIL ? luaL_checkinteger(L, -1) : def;
-  if (limit < 1) luaL_argerror(L, 3, "limit must be at least 1");
+** index 5, so later option fields keep their stack positions): a whole
+** number of at least 1. */
+static lua_Integer opt_limit(lua_State *L, const char *fname, lua_Integer def) {
+  if (opt_field(L, 4, "limit") == LUA_TNIL) return def;
+  lua_Integer limit = 0;
+  int ok = lua_type(L, -1) == LUA_TNUMBER;
+  if (ok && lua_isinteger(L, -1)) limit = lua_tointeger(L, -1);
+  else if (ok) {
+    lua_Number x = lua_tonumber(L, -1);
+    ok = x == x && x >= 1 && x < 9.2e18 && x == (lua_Number)(lua_Integer)x;
+    if (ok) limit = (lua_Integer)x;
+  }
+  if (!ok || limit < 1)
+    opt_error(L, fname, "limit = %s must be a whole number of at least 1", value_text(L, 5));
   return limit;
 }
 
+/* A node set given as an option (a name or a list of names): ids in a
+** userdata pushed on the stack; errors name the function and the option. */
+static int32_t *opt_set(lua_State *L, const sl_graph *g, int idx, const char *fname,
+                        const char *opt, size_t *n) {
+  int t = lua_type(L, idx);
+  size_t len = t == LUA_TSTRING ? 1 : t == LUA_TTABLE ? (size_t)luaL_len(L, idx) : 0;
+  if (t != LUA_TNIL && t != LUA_TSTRING && t != LUA_TTABLE)
+    opt_error(L, fname, "%s = must be a node name or a list of names, got %s", opt, value_text(L, idx));
+  if (len > sl_graph_nnodes(g) * 4 + 16)
+    opt_error(L, fname, "%s = holds more names than the graph could", opt);
+  int32_t *v = lua_newuserdatauv(L, (len ? len : 1) * sizeof *v, 0);
+  for (size_t i = 0; i < len; i++) {
+    if (t == LUA_TTABLE) lua_geti(L, idx, (lua_Integer)i + 1); else lua_pushvalue(L, idx);
+    if (lua_type(L, -1) != LUA_TSTRING)
+      opt_error(L, fname, "%s = item %d is %s, not a node name", opt, (int)i + 1, value_text(L, -1));
+    size_t nl;
+    const char *name = lua_tolstring(L, -1, &nl);
+    sl_error e;
+    v[i] = sl_graph_lookup(g, name, nl, &e);
+    if (v[i] < 0) opt_error(L, fname, "%s: %s", opt, e.msg);
+    lua_pop(L, 1);
+  }
+  *n = len;
+  return v;
+}
+
 /* The set at stack index idx as ids and as marks; both live in userdata
-** pushed on the stack. */
+** pushed on the stack.  opt names the option it came from (NULL: the
+** argument at idx). */
 static unsigned char *marks_at(lua_State *L, const sl_graph *g, int idx, int32_t **ids,
-                               size_t *n) {
-  *ids = sl_bind_checkset(L, g, idx, n, 1);
+                               size_t *n, const char *fname, const char *opt) {
+  *ids = opt ? opt_set(L, g, idx, fname, opt, n) : sl_bind_checkset(L, g, idx, n, 1);
   size_t nn = sl_graph_nnodes(g);
   unsigned char *m = lua_newuserdatauv(L, nn ? nn : 1, 0);
   memset(m, 0, nn);
@@ -124,8 +218,8 @@ static void check_xy(lua_State *L, const sl_graph *g, int32_t **x, size_t *nx,
                      int32_t **y, size_t *ny) {
   *x = sl_bind_checkset(L, g, 2, nx, 0);
   *y = sl_bind_checkset(L, g, 3, ny, 0);
-  if (*nx == 0) luaL_argerror(L, 1, "the treatment set is empty");
-  if (*ny == 0) luaL_argerror(L, 2, "the outcome set is empty");
+  if (*nx == 0) luaL_argerror(L, 2, "the treatment set is empty");
+  if (*ny == 0) luaL_argerror(L, 3, "the outcome set is empty");
   for (size_t i = 0; i < *nx; i++)
     for (size_t j = 0; j < *ny; j++)
       if ((*x)[i] == (*y)[j])
@@ -150,11 +244,12 @@ static int l_trails(lua_State *L) {
   sl_graph *g = sl_bind_checkgraph(L, 1);
   int32_t *x, *y, *zi;
   size_t nx, ny, nz;
-  if (!lua_isnoneornil(L, 4)) luaL_checktype(L, 4, LUA_TTABLE);
+  static const char *const known[] = {"given", "limit"};
   lua_settop(L, 4);
-  lua_Integer limit = opt_limit(L, TRAIL_LIMIT);
+  check_options(L, 4, "trails", known, 2);
+  lua_Integer limit = opt_limit(L, "trails", TRAIL_LIMIT);
   opt_field(L, 4, "given");                         /* index 6 */
-  unsigned char *z = marks_at(L, g, 6, &zi, &nz);
+  unsigned char *z = marks_at(L, g, 6, &zi, &nz, "trails", "given");
   check_xy(L, g, &x, &nx, &y, &ny);
   unsigned char *an = ancestors_of(L, g, z, zi, nz);
   sl_bind_newlist(L, 0);
@@ -195,7 +290,7 @@ static int l_separated(lua_State *L) {
   int32_t *x, *y, *zi;
   size_t nx, ny, nz;
   lua_settop(L, 4);
-  unsigned char *z = marks_at(L, g, 4, &zi, &nz);
+  unsigned char *z = marks_at(L, g, 4, &zi, &nz, NULL, NULL);
   check_xy(L, g, &x, &nx, &y, &ny);
   unsigned char *an = ancestors_of(L, g, z, zi, nz);
   sl_sep_ws *w = sl_sep_alloc(g);
@@ -306,7 +401,7 @@ static int check_set(lua_State *L, criterion fn) {
   size_t nx, ny, nz;
   lua_settop(L, 4);
   int setidx = 4;
-  unsigned char *z = marks_at(L, g, 4, &zi, &nz);
+  unsigned char *z = marks_at(L, g, 4, &zi, &nz, NULL, NULL);
   check_xy(L, g, &x, &nx, &y, &ny);
   unsigned char *an = ancestors_of(L, g, z, zi, nz);
   sl_effect *q = push_effect(L, g, x, nx, y, ny);
@@ -348,15 +443,16 @@ static const char *sort_sets =
 /* g:adjust(x, y, {forbid=, require=, limit=}) */
 static int l_adjust(lua_State *L) {
   sl_graph *g = sl_bind_checkgraph(L, 1);
-  if (!lua_isnoneornil(L, 4)) luaL_checktype(L, 4, LUA_TTABLE);
+  static const char *const known[] = {"forbid", "require", "limit"};
   lua_settop(L, 4);
-  lua_Integer limit = opt_limit(L, SET_LIMIT);
+  check_options(L, 4, "adjust", known, 3);
+  lua_Integer limit = opt_limit(L, "adjust", SET_LIMIT);
   int32_t *fi, *ri, *x, *y;
   size_t nf, nr, nx, ny;
   opt_field(L, 4, "forbid");                                /* index 6 */
-  unsigned char *forbid = marks_at(L, g, 6, &fi, &nf);
+  unsigned char *forbid = marks_at(L, g, 6, &fi, &nf, "adjust", "forbid");
   opt_field(L, 4, "require");                               /* index 9 */
-  unsigned char *require = marks_at(L, g, 9, &ri, &nr);
+  unsigned char *require = marks_at(L, g, 9, &ri, &nr, "adjust", "require");
   check_xy(L, g, &x, &nx, &y, &ny);
   sl_effect *q = push_effect(L, g, x, nx, y, ny);
   sl_reasons *why = push_reason_box(L);
@@ -440,23 +536,23 @@ static int l_cheapest(lua_State *L) {
   double *cost = NULL;
   lua_settop(L, 4);
   if (!lua_isnil(L, 4)) {
-    luaL_checktype(L, 4, LUA_TTABLE);
+    if (!lua_istable(L, 4))
+      opt_error(L, "cheapest", "costs must be a table of node name = cost, got %s", value_text(L, 4));
     cost = lua_newuserdatauv(L, (nn ? nn : 1) * sizeof *cost, 0);
     for (size_t v = 0; v < nn; v++) cost[v] = 1;
     lua_pushnil(L);
     while (lua_next(L, 4)) {
-      if (lua_type(L, -2) != LUA_TSTRING) luaL_argerror(L, 3, "costs are keyed by node name");
+      if (lua_type(L, -2) != LUA_TSTRING)
+        opt_error(L, "cheapest", "costs are keyed by node name, not by %s", value_text(L, -2));
       size_t len;
       const char *nm = lua_tolstring(L, -2, &len);
       sl_error e;
       int32_t v = sl_graph_lookup(g, nm, len, &e);
-      if (v < 0) luaL_argerror(L, 3, e.msg);
-      int isnum;
-      lua_Number c = lua_tonumberx(L, -1, &isnum);
-      if (!isnum || !(c >= 0) || c > 1e15) {
-        lua_pushfstring(L, "the cost of '%s' must be a number from 0 to 1e15", nm);
-        luaL_argerror(L, 3, lua_tostring(L, -1));
-      }
+      if (v < 0) opt_error(L, "cheapest", "costs: %s", e.msg);
+      lua_Number c = lua_tonumber(L, -1);
+      if (lua_type(L, -1) != LUA_TNUMBER || !(c >= 0) || c > 1e15)
+        opt_error(L, "cheapest", "the cost of '%s' = %s must be a number from 0 to 1e15",
+                  nm, value_text(L, -1));
       cost[v] = c;
       lua_pop(L, 1);
     }

@@ -8,11 +8,24 @@
 
 typedef struct graph_box { sl_graph *g; } graph_box;
 
+/* Push "file:line: " of the caller the user wrote: the first frame outside
+** the embedded Lua layer (lua/sluice), or "" when that is a C function. */
+static void where(lua_State *L) {
+  lua_Debug ar;
+  for (int level = 1; lua_getstack(L, level, &ar); level++) {
+    lua_getinfo(L, "Sl", &ar);
+    if (ar.source && strncmp(ar.source, "@lua/sluice/", 12) == 0) continue;
+    if (ar.currentline > 0) { lua_pushfstring(L, "%s:%d: ", ar.short_src, ar.currentline); return; }
+    break;
+  }
+  lua_pushliteral(L, "");
+}
+
 int sl_bind_raise(lua_State *L, const sl_error *e, const char *prefix,
                   const char *src, size_t srclen) {
   char buf[SL_MSG_MAX + 512];
   sl_error_format(e, src, srclen, buf, sizeof buf);
-  luaL_where(L, 1);
+  where(L);
   if (prefix) lua_pushfstring(L, "%s: %s", prefix, buf);
   else lua_pushstring(L, buf);
   lua_concat(L, 2);
@@ -325,9 +338,15 @@ static int l_show(lua_State *L) {
 
 static int l_draw(lua_State *L) {
   sl_graph *g = sl_bind_checkgraph(L, 1);
-  const char *path = luaL_checkstring(L, 2);
+  if (lua_type(L, 2) != LUA_TSTRING) {
+    sl_error e;
+    sl_error_set(&e, SL_EARG, 0, 0, "path = must be a file name ending in .svg, .png or .pdf, "
+                 "got %s", luaL_typename(L, 2));
+    return sl_bind_raise(L, &e, "g:draw", NULL, 0);
+  }
+  const char *path = lua_tostring(L, 2);
   sl_error e;
-  if (sl_graph_draw(g, path, &e) != SL_OK) return sl_bind_raise(L, &e, "draw", NULL, 0);
+  if (sl_graph_draw(g, path, &e) != SL_OK) return sl_bind_raise(L, &e, "g:draw", NULL, 0);
   lua_pushvalue(L, 2);
   return 1;
 }

@@ -147,8 +147,43 @@ test("bad input is a clear error", function()
   raises(function() return cc:adjust("x", "y", {require = "z", forbid = "z"}) end,
          "'z' is both required and forbidden")
   raises(function() return cc:separated("x", "y", "x") end, "'x' is in more than one of the sets")
-  raises(function() return cc:cheapest("x", "y", {z = -1}) end, "the cost of 'z' must be a number")
-  raises(function() return cc:trails("x", "y", {limit = 0}) end, "limit must be at least 1")
+  raises(function() return cc:cheapest("x", "y", {z = -1}) end,
+         "cheapest: the cost of 'z' = -1 must be a number from 0 to 1e15")
+  raises(function() return cc:trails("x", "y", {limit = 0}) end,
+         "trails: limit = 0 must be a whole number of at least 1")
+end)
+
+-- Issue 9: option values and names were checked by luaL_check* on stack
+-- positions ("bad argument #-2 to 'trails' (number has no integer
+-- representation)", "bad argument #5"), or not at all (a typo was ignored).
+test("options: every bad value names the function and the option", function()
+  raises(function() return cc:trails("x", "y", {limit = 2.5}) end,
+         "trails: limit = 2.5 must be a whole number of at least 1")
+  raises(function() return cc:trails("x", "y", {limit = 0 / 0}) end, "trails: limit = nan must be")
+  raises(function() return cc:trails("x", "y", {limit = "3"}) end, 'trails: limit = "3" must be')
+  raises(function() return cc:adjust("x", "y", {limit = 1 / 0}) end, "adjust: limit = inf must be")
+  raises(function() return cc:adjust("x", "y", {limit = -2}) end, "adjust: limit = -2 must be")
+  eq(#cc:adjust("x", "y", {limit = 1.0}), 1, "an integral float is a whole number")
+  raises(function() return cc:trails("x", "y", {limt = 3}) end,
+         "trails: unknown option 'limt'; did you mean 'limit'?")
+  raises(function() return cc:adjust("x", "y", {forbidden = "z"}) end,
+         "adjust: unknown option 'forbidden'; did you mean 'forbid'?")
+  raises(function() return cc:adjust("x", "y", {"z"}) end,
+         "adjust: unknown option 1 (options: forbid, require, limit)")
+  raises(function() return cc:trails("x", "y", 5) end, "trails: the options are a table")
+  raises(function() return cc:trails("x", "y", {given = "zz"}) end,
+         "trails: given: no node 'zz'", "did you mean 'z'?")
+  raises(function() return cc:trails("x", "y", {given = {"z", 3}}) end,
+         "trails: given = item 2 is 3, not a node name")
+  raises(function() return cc:adjust("x", "y", {require = true}) end,
+         "adjust: require = must be a node name or a list of names, got a boolean")
+  raises(function() return cc:cheapest("x", "y", {z = 0 / 0}) end, "the cost of 'z' = nan")
+  raises(function() return cc:cheapest("x", "y", {z = 1 / 0}) end, "the cost of 'z' = inf")
+  raises(function() return cc:cheapest("x", "y", {z = "1"}) end, "the cost of 'z' = \"1\"")
+  raises(function() return cc:cheapest("x", "y", {zz = 1}) end, "cheapest: costs: no node 'zz'")
+  raises(function() return cc:cheapest("x", "y", 3) end, "cheapest: costs must be a table")
+  raises(function() return cc:trails({}, "y") end, "bad argument #1 to 'trails' (the treatment set is empty)")
+  raises(function() return cc:trails("x", {}) end, "bad argument #2 to 'trails' (the outcome set is empty)")
 end)
 
 test("forbid and require", function()

@@ -162,3 +162,10 @@ test("invisible characters: refused bare, escaped when quoted", function()
   eq(tostring(graph '"a\\u{e9}" -> b'), "a\u{e9} -> b", "an escape of a visible letter")
 end)
 
+test("draw errors name g:draw and the path", function()
+  local msg = raises(function() return orchard:draw("/nonexistent-dir/o.svg") end,
+                     "g:draw: cannot write '/nonexistent-dir/o.svg'")
+  eq(msg:find("session.lua", 1, true), nil, "no internal file in the message")
+  raises(function() return orchard:draw("orchard.gif") end, "g:draw: cannot tell the picture format of 'orchard.gif'")
+  raises(function() return orchard:draw(42) end, "g:draw: path = must be a file name")
+end)
