@@ -28,6 +28,68 @@ static int sem_gc(lua_State *L) {
   return 0;
 }
 
+/* A value as the user would write it, for messages: 2.5, nan, "x", a table. */
+static const char *value_text(lua_State *L, int idx) {
+  int t = lua_type(L, idx);
+  if (t == LUA_TNUMBER) {
+    lua_Number x = lua_tonumber(L, idx);
+    if (x != x) return lua_pushliteral(L, "nan");
+    return luaL_tolstring(L, idx, NULL);
+  }
+  if (t == LUA_TSTRING) return lua_pushfstring(L, "\"%s\"", lua_tostring(L, idx));
+  if (t == LUA_TNIL || t == LUA_TNONE) return lua_pushliteral(L, "nil");
+  return lua_pushfstring(L, "a %s", luaL_typename(L, idx));
+}
+
+/* The number at idx when it is a finite number (not a string). */
+static int finite_at(lua_State *L, int idx, double *x) {
+  if (lua_type(L, idx) != LUA_TNUMBER) return 0;
+  *x = lua_tonumber(L, idx);
+  return isfinite(*x);
+}
+
+/* The whole number at idx, from lo to hi (integral floats count). */
+static int whole_at(lua_State *L, int idx, lua_Integer lo, lua_Integer hi, lua_Integer *out) {
+  if (lua_type(L, idx) != LUA_TNUMBER) return 0;
+  if (lua_isinteger(L, idx)) *out = lua_tointeger(L, idx);
+  else {
+    lua_Number x = lua_tonumber(L, idx);
+    if (!(x >= -9.2e18 && x <= 9.2e18) || x != (lua_Number)(lua_Integer)x) return 0;
+    *out = (lua_Integer)x;
+  }
+  return *out >= lo && *out <= hi;
+}
+
+/* The options table at idx holds only the known keys: a typo would be
+** ignored silently otherwise. */
+static void check_options(lua_State *L, int idx, const char *fname,
+                          const char *const *known, size_t nknown) {
+  if (lua_isnoneornil(L, idx)) return;
+  if (!lua_istable(L, idx))
+    luaL_error(L, "%s: the options are a table such as {%s = ...}, got %s", fname, known[0],
+               value_text(L, idx));
+  lua_pushnil(L);
+  while (lua_next(L, idx)) {
+    lua_pop(L, 1);
+    const char *k = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : NULL;
+    size_t i = 0;
+    while (k && i < nknown && strcmp(k, known[i]) != 0) i++;
+    if (k && i < nknown) continue;
+    const char *near = k ? sl_closest(k, known, nknown) : NULL;
+    if (near) luaL_error(L, "%s: unknown option '%s'; did you mean '%s'?", fname, k, near);
+    luaL_Buffer b;
+    luaL_buffinit(L, &b);
+    for (i = 0; i < nknown; i++) {
+      if (i) luaL_addstring(&b, ", ");
+      luaL_addstring(&b, known[i]);
+    }
+    luaL_pushresult(&b);
+    const char *names = lua_tostring(L, -1);
+    luaL_error(L, "%s: unknown option %s (options: %s)", fname,
+               k ? lua_pushfstring(L, "'%s'", k) : value_text(L, -2), names);
+  }
+}
+
 /* Parse an edge key ("a -> b" or "a <-> b") against g: ids and kind. */
 static void edge_key(lua_State *L, const sl_graph *g, const char *key, int want,
                      int32_t *from, int32_t *to) {
@@ -64,27 +126,32 @@ static int32_t node(lua_State *L, const sl_graph *g, const char *name, const cha
 
 /* Iterate over the table opts[field] of name = number pairs. */
 static void node_numbers(lua_State *L, const sl_graph *g, int opts, const char *field,
-                         double *out, int positive) {
+                         double *out, int positive, const char *fname) {
   if (lua_isnoneornil(L, opts)) return;
   if (lua_getfield(L, opts, field) == LUA_TNIL) { lua_pop(L, 1); return; }
-  if (!lua_istable(L, -1)) luaL_error(L, "sem: %s = must be a table of node = number", field);
+  if (!lua_istable(L, -1))
+    luaL_error(L, "%s: %s = must be a table of node = number, got %s", fname, field,
+               value_text(L, -1));
   lua_pushnil(L);
   while (lua_next(L, -2)) {
-    if (lua_type(L, -2) != LUA_TSTRING) luaL_error(L, "sem: %s: keys are node names", field);
+    if (lua_type(L, -2) != LUA_TSTRING)
+      luaL_error(L, "%s: %s = is keyed by node names, not by %s", fname, field, value_text(L, -2));
     int32_t v = node(L, g, lua_tostring(L, -2), field);
-    int isnum;
-    double x = lua_tonumberx(L, -1, &isnum);
-    if (!isnum || !isfinite(x)) luaL_error(L, "sem: %s of '%s' must be a finite number", field, sl_graph_name(g, v));
-    if (positive && !(x > 0)) luaL_error(L, "sem: the %s of '%s' must be positive, got %f", field, sl_graph_name(g, v), (lua_Number)x);
+    double x = 0;
+    if (!finite_at(L, -1, &x))
+      luaL_error(L, "%s: %s of '%s' = %s must be a finite number", fname, field,
+                 sl_graph_name(g, v), value_text(L, -1));
+    if (positive && !(x > 0))
+      luaL_error(L, "%s: the %s of '%s' must be positive, got %s", fname, field,
+                 sl_graph_name(g, v), value_text(L, -1));
     out[v] = x;
     lua_pop(L, 1);
   }
   lua_pop(L, 1);
 }
 
-/* Fill the model arrays from (g, coefs, opts) at stack 1..3; cut may be
-** overridden by a binarize table at stack index bidx (0: none). */
-static void build(lua_State *L, sem_box *box, int bidx) {
+/* Fill the model arrays from (g, coefs, opts) at stack 1..3. */
+static void build(lua_State *L, sem_box *box) {
   sl_graph *g = sl_bind_checkgraph(L, 1);
   luaL_checktype(L, 2, LUA_TTABLE);
   if (!lua_isnoneornil(L, 3)) luaL_checktype(L, 3, LUA_TTABLE);
@@ -97,18 +164,25 @@ static void build(lua_State *L, sem_box *box, int bidx) {
   unsigned char *have = lua_newuserdatauv(L, n ? n * n : 1, 0);
   memset(B, 0, n * n * sizeof *B); memset(om, 0, n * n * sizeof *om); memset(have, 0, n * n);
   for (size_t i = 0; i < n; i++) { a[i] = 0; sd[i] = 1; cut[i] = NAN; }
+  static const char *const known[] = {"default", "intercept", "sd", "cov", "binary", "binarize"};
+  check_options(L, 3, "sem", known, sizeof known / sizeof *known);
   /* coefficients */
   int def = !lua_isnoneornil(L, 3) && lua_getfield(L, 3, "default") != LUA_TNIL;
-  double defval = def ? lua_tonumber(L, -1) : 0;
+  double defval = 0;
+  if (def && !finite_at(L, -1, &defval))
+    luaL_error(L, "sem: default = %s must be a finite number (the coefficient of each edge "
+               "not listed)", value_text(L, -1));
   if (!lua_isnoneornil(L, 3)) lua_pop(L, 1);
   lua_pushnil(L);
   while (lua_next(L, 2)) {
     if (lua_type(L, -2) != LUA_TSTRING) luaL_error(L, "sem: coefficients are keyed by edges such as [\"a -> b\"]");
     int32_t f, t;
     edge_key(L, g, lua_tostring(L, -2), SL_DIRECTED, &f, &t);
-    int isnum;
-    double c = lua_tonumberx(L, -1, &isnum);
-    if (!isnum || !isfinite(c)) luaL_error(L, "sem: the coefficient of %s must be a finite number", lua_tostring(L, -2));
+    double c = 0;
+    const char *key = lua_tostring(L, -2);
+    if (!finite_at(L, -1, &c))
+      luaL_error(L, "sem: the coefficient of %s = %s must be a finite number", key,
+                 value_text(L, -1));
     B[(size_t)t * n + (size_t)f] = c;
     have[(size_t)t * n + (size_t)f] = 1;
     lua_pop(L, 1);
@@ -129,16 +203,9 @@ static void build(lua_State *L, sem_box *box, int bidx) {
         luaL_error(L, "sem: no coefficient for the edge %s (or give opts.default)", lua_tostring(L, -1));
       }
   }
-  node_numbers(L, g, 3, "intercept", a, 0);
-  node_numbers(L, g, 3, "sd", sd, 1);
-  node_numbers(L, g, 3, "binarize", cut, 0);
-  if (bidx) {
-    lua_createtable(L, 0, 1);
-    lua_pushvalue(L, bidx);
-    lua_setfield(L, -2, "binarize");
-    node_numbers(L, g, lua_gettop(L), "binarize", cut, 0);
-    lua_pop(L, 1);
-  }
+  node_numbers(L, g, 3, "intercept", a, 0, "sem");
+  node_numbers(L, g, 3, "sd", sd, 1, "sem");
+  node_numbers(L, g, 3, "binarize", cut, 0, "sem");
   for (size_t i = 0; i < n; i++) om[i * n + i] = sd[i] * sd[i];
   /* covariances of <-> pairs: each needs one */
   if (!lua_isnoneornil(L, 3) && lua_getfield(L, 3, "cov") != LUA_TNIL) {
@@ -149,7 +216,11 @@ static void build(lua_State *L, sem_box *box, int bidx) {
       if (lua_type(L, -2) != LUA_TSTRING) luaL_error(L, "sem: cov is keyed by edges such as [\"a <-> b\"]");
       int32_t f, t;
       edge_key(L, g, lua_tostring(L, -2), SL_BIDIRECTED, &f, &t);
-      double c = lua_tonumber(L, -1);
+      double c = 0;
+      const char *key = lua_tostring(L, -2);
+      if (!finite_at(L, -1, &c))
+        luaL_error(L, "sem: the covariance of %s = %s must be a finite number", key,
+                   value_text(L, -1));
       om[(size_t)f * n + (size_t)t] = om[(size_t)t * n + (size_t)f] = c;
       have[(size_t)f * n + (size_t)t] = have[(size_t)t * n + (size_t)f] = 2;
       lua_pop(L, 1);
@@ -170,12 +241,20 @@ static void build(lua_State *L, sem_box *box, int bidx) {
   memset(logi, 0, n ? n : 1);
   if (!lua_isnoneornil(L, 3) && lua_getfield(L, 3, "binary") != LUA_TNIL) {
     int bt = lua_gettop(L);
-    lua_pushnil(L);
-    while (lua_next(L, bt)) {
-      const char *nm = lua_type(L, -2) == LUA_TSTRING ? lua_tostring(L, -2) : lua_tostring(L, -1);
-      if (!nm) luaL_error(L, "sem: binary = lists node names");
-      logi[node(L, g, nm, "binary")] = 1;
-      lua_pop(L, 1);
+    if (lua_type(L, bt) == LUA_TSTRING) logi[node(L, g, lua_tostring(L, bt), "binary")] = 1;
+    else if (!lua_istable(L, bt))
+      luaL_error(L, "sem: binary = must be a node name or a list of names, got %s", value_text(L, bt));
+    else {
+      lua_pushnil(L);
+      while (lua_next(L, bt)) {   /* {"a", "b"} or {a = true} */
+        int listed = lua_type(L, -2) == LUA_TNUMBER && lua_type(L, -1) == LUA_TSTRING;
+        int keyed = lua_type(L, -2) == LUA_TSTRING && lua_type(L, -1) == LUA_TBOOLEAN;
+        if (!listed && !keyed)
+          luaL_error(L, "sem: binary = must list node names, such as {\"a\", \"b\"}");
+        if (listed || lua_toboolean(L, -1))
+          logi[node(L, g, lua_tostring(L, listed ? -1 : -2), "binary")] = 1;
+        lua_pop(L, 1);
+      }
     }
   }
   if (!lua_isnoneornil(L, 3)) lua_pop(L, 1);
@@ -198,7 +277,7 @@ static int l_sem(lua_State *L) {
   memset(box, 0, sizeof *box);
   luaL_setmetatable(L, SL_SEM_MT);
   int at = lua_gettop(L);
-  build(L, box, 0);
+  build(L, box);
   lua_settop(L, at);
   lua_pushvalue(L, 1);
   lua_setiuservalue(L, at, 1);
@@ -220,18 +299,24 @@ static int32_t model_node(lua_State *L, int arg, int uidx) {
 }
 
 /* {draws=, seed=} at idx: draws (0 when absent) and seed. */
-static size_t mc_opts(lua_State *L, int idx, uint64_t *seed) {
+static size_t mc_opts(lua_State *L, int idx, uint64_t *seed, const char *fname) {
+  static const char *const known[] = {"draws", "seed"};
   *seed = 1;
   if (lua_isnoneornil(L, idx)) return 0;
-  luaL_checktype(L, idx, LUA_TTABLE);
-  lua_getfield(L, idx, "seed");
-  if (!lua_isnil(L, -1)) *seed = (uint64_t)luaL_checkinteger(L, -1);
+  check_options(L, idx, fname, known, 2);
+  lua_Integer v = 0;
+  if (lua_getfield(L, idx, "seed") != LUA_TNIL) {
+    if (!whole_at(L, -1, LUA_MININTEGER, LUA_MAXINTEGER, &v))
+      luaL_error(L, "%s: seed = %s must be a whole number", fname, value_text(L, -1));
+    *seed = (uint64_t)v;
+  }
   lua_pop(L, 1);
-  lua_getfield(L, idx, "draws");
-  lua_Integer d = lua_isnil(L, -1) ? 0 : luaL_checkinteger(L, -1);
+  v = 0;
+  if (lua_getfield(L, idx, "draws") != LUA_TNIL && !whole_at(L, -1, 2, MC_DRAWS_MAX, &v))
+    luaL_error(L, "%s: draws = %s must be a whole number from 2 to %d", fname,
+               value_text(L, -1), MC_DRAWS_MAX);
   lua_pop(L, 1);
-  if (d < 0 || d > MC_DRAWS_MAX) luaL_error(L, "draws must lie between 2 and %d", MC_DRAWS_MAX);
-  return (size_t)d;
+  return (size_t)v;
 }
 
 static const char *not_exact =
@@ -244,7 +329,7 @@ static int l_effect(lua_State *L) {
   lua_settop(L, 4);
   int32_t x = model_node(L, 2, 1), y = model_node(L, 3, 1);
   uint64_t seed;
-  size_t draws = mc_opts(L, 4, &seed);
+  size_t draws = mc_opts(L, 4, &seed, "effect");
   sl_error e;
   double v, se;
   if (b->m.exact && !draws) {
@@ -276,7 +361,7 @@ static int l_limit(lua_State *L) {
     set[i] = ids[i];
   }
   uint64_t seed;
-  size_t draws = mc_opts(L, 5, &seed);
+  size_t draws = mc_opts(L, 5, &seed, "limit");
   sl_error e;
   double v, se;
   if (b->m.exact && !draws) {
@@ -319,38 +404,65 @@ static int l_cov(lua_State *L) {
   return 1;
 }
 
+#define SIM_ROWS_MAX 1000000000   /* rows in one simulated frame */
+#define SIM_THREADS_MAX 1024       /* more are accepted and run as 64 */
+
 /* m:simulate(n, {seed=, threads=, binarize=}) */
 static int l_simulate(lua_State *L) {
+  static const char *const known[] = {"seed", "threads", "binarize"};
   sem_box *b = check_sem(L, 1);
-  lua_Integer rows = luaL_checkinteger(L, 2);
-  if (rows <= 0) luaL_argerror(L, 1, "the number of rows must be positive");
-  if (rows > 1000000000) luaL_argerror(L, 1, "at most 10^9 rows");
+  lua_settop(L, 3);
+  lua_Integer rows = 0, v = 0;
+  if (!whole_at(L, 2, 1, SIM_ROWS_MAX, &rows))
+    luaL_error(L, "simulate: n = %s must be a whole number of at least 1 (at most 10^9)",
+               value_text(L, 2));
   uint64_t seed = 1;
   int threads = 0;
-  if (!lua_isnoneornil(L, 3)) {
-    luaL_checktype(L, 3, LUA_TTABLE);
-    lua_getfield(L, 3, "seed");
-    if (!lua_isnil(L, -1)) seed = (uint64_t)luaL_checkinteger(L, -1);
-    lua_getfield(L, 3, "threads");
-    if (!lua_isnil(L, -1)) threads = (int)luaL_checkinteger(L, -1);
+  check_options(L, 3, "simulate", known, 3);
+  if (!lua_isnil(L, 3)) {
+    if (lua_getfield(L, 3, "seed") != LUA_TNIL) {
+      if (!whole_at(L, -1, LUA_MININTEGER, LUA_MAXINTEGER, &v))
+        luaL_error(L, "simulate: seed = %s must be a whole number", value_text(L, -1));
+      seed = (uint64_t)v;
+    }
+    if (lua_getfield(L, 3, "threads") != LUA_TNIL) {
+      if (!whole_at(L, -1, 0, SIM_THREADS_MAX, &v))
+        luaL_error(L, "simulate: threads = %s must be a whole number from 0 (all cores) to %d",
+                   value_text(L, -1), SIM_THREADS_MAX);
+      threads = (int)v;
+    }
     lua_pop(L, 2);
     if (lua_getfield(L, 3, "binarize") != LUA_TNIL) {
-      /* binarizing: the model now describes the binarized data */
-      luaL_checktype(L, -1, LUA_TTABLE);
+      /* binarizing: the model now describes the binarized data; every
+      ** value is checked before the model changes */
+      if (!lua_istable(L, -1))
+        luaL_error(L, "simulate: binarize = must be a table of node = cut, got %s", value_text(L, -1));
       lua_getiuservalue(L, 1, 1);
       sl_graph *g = sl_bind_checkgraph(L, -1);
       lua_pop(L, 1);
+      double *cut = lua_newuserdatauv(L, (b->m.n ? b->m.n : 1) * sizeof *cut, 0);
+      memcpy(cut, b->m.cut, b->m.n * sizeof *cut);
       lua_pushnil(L);
-      while (lua_next(L, -2)) {
-        if (lua_type(L, -2) != LUA_TSTRING) luaL_error(L, "simulate: binarize is keyed by node names");
+      while (lua_next(L, -3)) {
+        if (lua_type(L, -2) != LUA_TSTRING)
+          luaL_error(L, "simulate: binarize = is keyed by node names, not by %s", value_text(L, -2));
         const char *nm = lua_tostring(L, -2);
         sl_error e;
-        int32_t v = sl_graph_lookup(g, nm, strlen(nm), &e);
-        if (v < 0) luaL_error(L, "simulate: binarize: %s", e.msg);
-        b->m.cut[v] = luaL_checknumber(L, -1);
-        b->m.exact = 0;
+        int32_t id = sl_graph_lookup(g, nm, strlen(nm), &e);
+        if (id < 0) luaL_error(L, "simulate: binarize: %s", e.msg);
+        double x = 0;
+        if (!finite_at(L, -1, &x))
+          luaL_error(L, "simulate: binarize: the cut of '%s' = %s must be a finite number", nm,
+                     value_text(L, -1));
+        cut[id] = x;
         lua_pop(L, 1);
       }
+      for (size_t i = 0; i < b->m.n; i++)
+        if (!(isnan(cut[i]) && isnan(b->m.cut[i])) && cut[i] != b->m.cut[i]) {
+          b->m.cut[i] = cut[i];
+          b->m.exact = 0;
+        }
+      lua_pop(L, 1);
     }
     lua_pop(L, 1);
   }

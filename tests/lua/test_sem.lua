@@ -145,7 +145,7 @@ test("bad input names the problem", function()
          "a <-> c", "not positive definite")
   raises(function() return sem(g, {}, {default = 1}) end, "no covariance for a <-> c")
   local m = sem(g, {}, {default = 1, cov = {["a <-> c"] = 0.2}})
-  raises(function() return m:simulate(0) end, "the number of rows must be positive")
+  raises(function() return m:simulate(0) end, "simulate: n = 0 must be a whole number of at least 1")
   raises(function() return m:simulate(10, {binarize = {bb = 0}}) end, "did you mean 'b'?")
   raises(function() return m:effect("u", "c") end, "a hidden node has no data")
   raises(function() return sem(g, {["a => b"] = 1}) end, "is not an edge")
@@ -169,4 +169,59 @@ test("compare lists the default candidates beside the truth", function()
   eq(c.truth, 0.5)
   eq(math.abs(byset["{z}"].limit - 0.5) < 1e-12, true, "limit of a valid set")
   eq(tostring(c):find("why the invalid sets fail", 1, true) ~= nil, true)
+end)
+
+-- Issue 9: values that were taken silently (a NaN default made every
+-- coefficient NaN, "x" made them 0, a NaN covariance or cut was dropped),
+-- and messages that named stack positions ("calling 'simulate' on bad
+-- self") instead of the option.
+test("sem refuses NaN, inf and non-numbers, naming the option", function()
+  local g = graph "a -> b -> c"
+  raises(function() return sem(g, {}, {default = 0 / 0}) end, "sem: default = nan must be a finite number")
+  raises(function() return sem(g, {}, {default = "x"}) end, 'sem: default = "x" must be a finite number')
+  raises(function() return sem(g, {}, {default = 1 / 0}) end, "sem: default = inf")
+  raises(function() return sem(g, {["a -> b"] = 0 / 0, ["b -> c"] = 1}) end,
+         "sem: the coefficient of a -> b = nan must be a finite number")
+  raises(function() return sem(g, {["a -> b"] = -1 / 0, ["b -> c"] = 1}) end,
+         "the coefficient of a -> b = -inf")
+  raises(function() return sem(g, {["a -> b"] = "0.5", ["b -> c"] = 1}) end,
+         'the coefficient of a -> b = "0.5" must be a finite number')
+  local g2 = graph "a -> b; a <-> b"
+  raises(function() return sem(g2, {}, {default = 1, cov = {["a <-> b"] = 0 / 0}}) end,
+         "sem: the covariance of a <-> b = nan must be a finite number")
+  raises(function() return sem(g2, {}, {default = 1, cov = {["a <-> b"] = "x"}}) end,
+         'the covariance of a <-> b = "x"')
+  raises(function() return sem(g, {}, {default = 1, sd = {a = 0 / 0}}) end, "sem: sd of 'a' = nan")
+  raises(function() return sem(g, {}, {default = 1, intercept = {a = 1 / 0}}) end,
+         "sem: intercept of 'a' = inf")
+  raises(function() return sem(g, {}, {default = 1, binarize = {a = 0 / 0}}) end,
+         "sem: binarize of 'a' = nan")
+  raises(function() return sem(g, {}, {defualt = 1}) end, "sem: unknown option 'defualt'; did you mean 'default'?")
+  raises(function() return sem(g, {}, {default = 1, binary = 3}) end,
+         "sem: binary = must be a node name or a list of names, got 3")
+  -- a single name for binary = once crashed the program (lua_next on a string)
+  local m1 = sem(g, {}, {default = 1, binary = "c"})
+  eq(m1:exact(), false, "binary = \"c\" makes c binary")
+  eq(sem(g, {}, {default = 1, binary = {c = false}}):exact(), true, "{c = false} is not binary")
+end)
+
+test("simulate, effect and limit name their options", function()
+  local m = sem(graph "a -> b -> c", {}, {default = 0.5})
+  raises(function() return m:simulate(10, {binarize = {b = 0 / 0}}) end,
+         "simulate: binarize: the cut of 'b' = nan must be a finite number")
+  eq(m:exact(), true, "a refused binarize leaves the model as it was")
+  raises(function() return m:simulate(10, {binarize = {a = 0, bb = 1}}) end, "did you mean 'b'?")
+  eq(m:exact(), true, "... even when an earlier cut was good")
+  raises(function() return m:simulate(-1) end, "simulate: n = -1 must be a whole number of at least 1")
+  raises(function() return m:simulate(2.5) end, "simulate: n = 2.5 must be a whole number")
+  raises(function() return m:simulate(0 / 0) end, "simulate: n = nan")
+  raises(function() return m:simulate() end, "simulate: n = nil must be a whole number")
+  raises(function() return m:simulate(10, {seed = 0 / 0}) end, "simulate: seed = nan must be a whole number")
+  raises(function() return m:simulate(10, {threads = -1}) end, "simulate: threads = -1 must be a whole number")
+  raises(function() return m:simulate(10, {sede = 1}) end, "simulate: unknown option 'sede'; did you mean 'seed'?")
+  eq(#m:simulate(10.0, {seed = 3.0}), 10, "integral floats are whole numbers")
+  raises(function() return m:effect("a", "c", {draws = 0 / 0}) end, "effect: draws = nan must be a whole number from 2")
+  raises(function() return m:effect("a", "c", {draws = 1}) end, "effect: draws = 1")
+  raises(function() return m:limit("a", "c", {}, {seed = 1.5}) end, "limit: seed = 1.5 must be a whole number")
+  raises(function() return m:limit("a", "c", {}, {draw = 10}) end, "limit: unknown option 'draw'; did you mean 'draws'?")
 end)
