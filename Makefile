@@ -100,7 +100,7 @@ asan: deps-check
 	  SLUICE_ASAN=1 test
 
 FUZZ_TIME ?= 60
-fuzz:
+fuzz: $(B)/gen/lua_embedded.c
 	@sh tools/deps.sh fuzz
 	@mkdir -p $(B)/fuzz
 	clang -std=c11 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -g -O1 \
@@ -113,10 +113,15 @@ fuzz:
 	  src/stats/sql.c src/stats/fingerprint.c \
 	  $(shell pkg-config --cflags --libs sqlite3 libsodium) -lcsv -lm -o $(B)/fuzz/fuzz_csv
 	clang -std=c11 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -g -O1 \
+	  -fsanitize=fuzzer,address,undefined -Isrc/bind \
+	  tests/fuzz/fuzz_logparse.c $(B)/gen/lua_embedded.c \
+	  $(shell pkg-config --cflags --libs lua5.4) -o $(B)/fuzz/fuzz_logparse
+	clang -std=c11 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -g -O1 \
 	  -fsanitize=fuzzer,address,undefined -Isrc/shell \
 	  tests/fuzz/fuzz_wire.c src/shell/wire.c -o $(B)/fuzz/fuzz_wire
 	sh tests/fuzz/run.sh $(B)/fuzz/fuzz_notation $(FUZZ_TIME)
 	sh tests/fuzz/run.sh $(B)/fuzz/fuzz_csv $(FUZZ_TIME) tests/fuzz/csv_corpus
+	sh tests/fuzz/run.sh $(B)/fuzz/fuzz_logparse $(FUZZ_TIME) tests/fuzz/log_corpus
 	sh tests/fuzz/run.sh $(B)/fuzz/fuzz_wire $(FUZZ_TIME) tests/fuzz/wire_corpus
 
 bench: all
