@@ -8,6 +8,7 @@
 ** hooks.data_read(path, sha256, bytes), when set, hears of every file read.
 */
 #include <math.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 #include "bind.h"
@@ -154,25 +155,32 @@ static const char **check_na(lua_State *L, int idx, size_t *n) {
   return v;
 }
 
+/* Every key of the options table at arg must be one of known (n of them,
+** listed in the text all); an unknown one suggests the closest. */
+static void check_keys(lua_State *L, int arg, const char *fn, const char *const *known,
+                       size_t n, const char *all) {
+  lua_pushnil(L);
+  while (lua_next(L, arg)) {
+    lua_pop(L, 1);
+    const char *k = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : NULL;
+    int ok = 0;
+    for (size_t i = 0; k && i < n; i++) ok |= strcmp(k, known[i]) == 0;
+    if (!ok) {
+      const char *near = k ? sl_closest(k, known, n) : NULL;
+      if (near) luaL_error(L, "%s: unknown option '%s'; did you mean '%s'?", fn, k, near);
+      luaL_error(L, "%s: unknown option '%s' (options: %s)", fn,
+                 k ? k : luaL_typename(L, -1), all);
+    }
+  }
+}
+
 /* Read the options table of read_csv into o. */
 static void csv_options(lua_State *L, int arg, sl_csv_opts *o) {
   static const char *const known[] = {"delim", "na", "coerce"};
   memset(o, 0, sizeof *o);
   if (lua_isnoneornil(L, arg)) return;
   luaL_checktype(L, arg, LUA_TTABLE);
-  lua_pushnil(L);
-  while (lua_next(L, arg)) {
-    lua_pop(L, 1);
-    const char *k = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : NULL;
-    int ok = 0;
-    for (int i = 0; k && i < 3; i++) ok |= strcmp(k, known[i]) == 0;
-    if (!ok) {
-      const char *near = k ? sl_closest(k, known, 3) : NULL;
-      if (near) luaL_error(L, "read_csv: unknown option '%s'; did you mean '%s'?", k, near);
-      luaL_error(L, "read_csv: unknown option '%s' (options: delim, na, coerce)",
-                 k ? k : luaL_typename(L, -1));
-    }
-  }
+  check_keys(L, arg, "read_csv", known, 3, "delim, na, coerce");
   if (lua_getfield(L, arg, "delim") != LUA_TNIL) o->delim = check_delim(L, -1);
   lua_pop(L, 1);
   if (lua_getfield(L, arg, "na") != LUA_TNIL) {
@@ -248,14 +256,40 @@ static int l_read_csv(lua_State *L) {
   return 1;
 }
 
-/* read_sql(dbfile, query) */
+/* Read the options table of read_sql into o: limit, a whole number of
+** rows from 1 on, or math.huge for none. */
+static void sql_options(lua_State *L, int arg, sl_sql_opts *o) {
+  static const char *const known[] = {"limit"};
+  memset(o, 0, sizeof *o);
+  if (lua_isnoneornil(L, arg)) return;
+  luaL_checktype(L, arg, LUA_TTABLE);
+  check_keys(L, arg, "read_sql", known, 1, "limit");
+  int t = lua_getfield(L, arg, "limit");
+  if (t == LUA_TNIL) { lua_pop(L, 1); return; }
+  if (t != LUA_TNUMBER)
+    luaL_error(L, "read_sql: option limit must be a number of rows, got a %s",
+               luaL_typename(L, -1));
+  lua_Number x = lua_tonumber(L, -1);
+  if (x == HUGE_VAL) o->limit = SIZE_MAX;
+  else if (!(x >= 1) || x != floor(x))
+    luaL_error(L, "read_sql: option limit must be a whole number of rows, 1 or more "
+               "(math.huge for no limit), got %s", x != x ? "NaN" : lua_tostring(L, -1));
+  else o->limit = x >= 0x1p53 ? SIZE_MAX : (size_t)x;
+  lua_pop(L, 1);
+}
+
+/* read_sql(dbfile, query, {limit=}) */
 static int l_read_sql(lua_State *L) {
   const char *path = luaL_checkstring(L, 1);
   const char *query = luaL_checkstring(L, 2);
+  sl_sql_opts o;
+  sql_options(L, 3, &o);
+  o.stop = &sl_bind_stop;   /* Ctrl-C ends the query */
+  sl_bind_stop = 0;
   frame_box *b = new_box(L);
   sl_read_report rep;
   sl_error e;
-  b->f = sl_sql_read(path, query, &rep, &e);
+  b->f = sl_sql_read(path, query, &o, &rep, &e);
   if (!b->f) return raise_err(L, "read_sql", &e);
   set_fingerprint(L, path, &rep);
   return 1;

@@ -16,6 +16,7 @@
 #define SL_FRAME_MAX_LEVELS 2147483647 /* levels of a categorical column (int32 codes) */
 #define SL_CSV_MAX_CELL (256u << 20)   /* bytes in one CSV cell (256 MiB) */
 #define SL_CSV_MAX_LINES 2147483647    /* lines of a CSV file (rows are named by line) */
+#define SL_SQL_MAX_ROWS 10000000       /* rows read_sql reads unless given a limit */
 
 enum sl_coltype { SL_NUMERIC = 0, SL_CATEGORICAL = 1 };
 
@@ -101,9 +102,15 @@ sl_frame *sl_csv_read(const char *path, const sl_csv_opts *opts, sl_read_report 
 ** that reads back to the same double, missing as an empty field, text
 ** quoted when it holds a comma, quote, line break or edge space. */
 int sl_csv_write(const sl_frame *f, const char *path, sl_error *e);
-/* The result of an SQL query on an SQLite file; SQL errors verbatim. */
-sl_frame *sl_sql_read(const char *dbpath, const char *query, sl_read_report *rep,
-                      sl_error *e);
+typedef struct sl_sql_opts {
+  size_t limit;                /* most rows to read; 0: SL_SQL_MAX_ROWS */
+  volatile int *stop;          /* when set and nonzero, the query ends: "interrupted" */
+} sl_sql_opts;
+/* The result of an SQL query on an SQLite file (a regular file, as for
+** sl_csv_read); SQL errors verbatim.  More rows than the limit is an error
+** (an endless recursive query ends there).  opts may be NULL. */
+sl_frame *sl_sql_read(const char *dbpath, const char *query, const sl_sql_opts *opts,
+                      sl_read_report *rep, sl_error *e);
 
 /* ---- fingerprints (SHA-256, libsodium) ---- */
 /* Open a data file for reading; anything but a regular file is an error

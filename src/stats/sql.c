@@ -3,13 +3,18 @@
 ** (Debian's libsqlite3).  The database is opened read-only.  INTEGER and
 ** REAL values are numbers, TEXT values text, NULL missing; a column that
 ** mixes numbers and text is categorical, its numbers written as SQLite
-** writes them.  SQLite's own error messages are passed on verbatim.
+** writes them.  SQLite's own error messages are passed on verbatim.  A
+** query ends at a row limit (an endless recursive query would fill the
+** memory) and, through SQLite's progress handler, when the stop flag is
+** set.
 */
 #include <errno.h>
 #include <stdio.h>
 #include <string.h>
 #include <sqlite3.h>
 #include "frame_build.h"
+
+#define PROGRESS_STEPS 10000   /* virtual machine steps between two polls of the stop flag */
 
 /* Whether nothing but blanks and semicolons follow the first statement. */
 static int only_blanks(const char *s) {
@@ -53,16 +58,32 @@ static int put_cell(sl_build *b, sqlite3_stmt *st, int j, size_t r, sl_error *e)
   return sl_build_number(b, (size_t)j, v, s, n, e);
 }
 
-/* Step through the result: pass 1 fills the builder, pass 2 (after a
-** reset) gives the texts of numbers in early rows of categorical columns. */
+/* SQLite's progress handler: a nonzero return ends the statement with
+** SQLITE_INTERRUPT, so that Ctrl-C stops a query between two rows too. */
+static int poll_stop(void *stop) {
+  return *(volatile int *)stop != 0;
+}
+
+/* The error of a step that gave neither a row nor the end. */
+static int step_error(sqlite3 *db, int rc, sl_error *e) {
+  if (rc == SQLITE_INTERRUPT) return sl_error_set(e, SL_ELIMIT, 0, 0, "interrupted");
+  return sl_error_set(e, SL_EARG, 0, 0, "%s", sqlite3_errmsg(db));
+}
+
+/* Step through the result: pass 1 fills the builder (at most limit rows),
+** pass 2 (after a reset) gives the texts of numbers in early rows of
+** categorical columns. */
 static int step_all(sqlite3 *db, sqlite3_stmt *st, sl_build *b, int pass, size_t upto,
-                    sl_error *e) {
+                    size_t limit, sl_error *e) {
   size_t r = 0;
   for (;;) {
     if (pass == 2 && r >= upto) return SL_OK;
     int rc = sqlite3_step(st);
     if (rc == SQLITE_DONE) return SL_OK;
-    if (rc != SQLITE_ROW) return sl_error_set(e, SL_EARG, 0, 0, "%s", sqlite3_errmsg(db));
+    if (rc != SQLITE_ROW) return step_error(db, rc, e);
+    if (pass == 1 && r == limit)
+      return sl_error_set(e, SL_ELIMIT, 0, 0, "the query returned more than %zu rows; give "
+                          "{limit = ...} to read more", limit);
     if (pass == 1) {
       if (sl_build_row(b, e) != SL_OK) return e->code;
       for (int j = 0; j < (int)b->ncol; j++)
@@ -82,7 +103,8 @@ static int step_all(sqlite3 *db, sqlite3_stmt *st, sl_build *b, int pass, size_t
 }
 
 /* Run the query into a frame. */
-static sl_frame *run_query(sqlite3 *db, const char *query, sl_read_report *rep, sl_error *e) {
+static sl_frame *run_query(sqlite3 *db, const char *query, size_t limit, sl_read_report *rep,
+                           sl_error *e) {
   sqlite3_stmt *st = NULL;
   const char *tail = NULL;
   if (sqlite3_prepare_v2(db, query, -1, &st, &tail) != SQLITE_OK) {
@@ -105,13 +127,13 @@ static sl_frame *run_query(sqlite3 *db, const char *query, sl_read_report *rep, 
   if (!names) { sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
   if (column_names(st, names, n, e) != SL_OK) goto done;
   if (sl_build_init(&b, names, (size_t)n, e) != SL_OK) goto done;
-  if (step_all(db, st, &b, 1, 0, e) != SL_OK) goto done;
+  if (step_all(db, st, &b, 1, 0, limit, e) != SL_OK) goto done;
   if (b.nrow == 0) { sl_error_set(e, SL_EARG, 0, 0, "the query returned no rows"); goto done; }
   sl_build_decide(&b, SL_BUILD_SQL, 0, rep);
   size_t upto = sl_build_refill_rows(&b);
   if (upto > 0) {
     sqlite3_reset(st);
-    if (step_all(db, st, &b, 2, upto, e) != SL_OK) goto done;
+    if (step_all(db, st, &b, 2, upto, limit, e) != SL_OK) goto done;
   }
   f = sl_build_finish(&b, e);
 done:
@@ -121,8 +143,8 @@ done:
   return f;
 }
 
-sl_frame *sl_sql_read(const char *dbpath, const char *query, sl_read_report *rep,
-                      sl_error *e) {
+sl_frame *sl_sql_read(const char *dbpath, const char *query, const sl_sql_opts *opts,
+                      sl_read_report *rep, sl_error *e) {
   sl_read_report own;
   if (!rep) rep = &own;
   memset(rep, 0, sizeof *rep);
@@ -139,7 +161,10 @@ sl_frame *sl_sql_read(const char *dbpath, const char *query, sl_read_report *rep
     sqlite3_close(db);
     return NULL;
   }
-  sl_frame *f = run_query(db, query, rep, e);
+  if (opts && opts->stop) sqlite3_progress_handler(db, PROGRESS_STEPS, poll_stop,
+                                                   (void *)opts->stop);
+  size_t limit = opts && opts->limit ? opts->limit : SL_SQL_MAX_ROWS;
+  sl_frame *f = run_query(db, query, limit, rep, e);
   sqlite3_close(db);
   return f;
 }

@@ -544,7 +544,7 @@ static void test_sql(void **state) {
   make_db(db);
   sl_error e;
   sl_read_report rep;
-  sl_frame *f = sl_sql_read(db, "SELECT * FROM hives ORDER BY id", &rep, &e);
+  sl_frame *f = sl_sql_read(db, "SELECT * FROM hives ORDER BY id", NULL, &rep, &e);
   if (!f) fail_msg("%s", e.msg);
   assert_int_equal(f->nrow, 4);
   assert_int_equal(f->ncol, 5);
@@ -562,28 +562,28 @@ static void test_sql(void **state) {
   assert_true(rep.bytes > 0);
   sl_frame_free(f);
   f = sl_sql_read(db, "SELECT site, avg(weight) AS w FROM hives WHERE site IS NOT NULL "
-                  "GROUP BY site ORDER BY site", &rep, &e);
+                  "GROUP BY site ORDER BY site", NULL, &rep, &e);
   assert_non_null(f);
   assert_true(col(f, "w")->x[0] == 28 && col(f, "w")->x[1] == 31.5);
   sl_frame_free(f);
-  assert_null(sl_sql_read(db, "SELEC * FROM hives", &rep, &e));
+  assert_null(sl_sql_read(db, "SELEC * FROM hives", NULL, &rep, &e));
   assert_string_equal(e.msg, "near \"SELEC\": syntax error");
-  assert_null(sl_sql_read(db, "SELECT * FROM hive", &rep, &e));
+  assert_null(sl_sql_read(db, "SELECT * FROM hive", NULL, &rep, &e));
   assert_string_equal(e.msg, "no such table: hive");
-  assert_null(sl_sql_read(db, "SELECT * FROM hives WHERE id > 10", &rep, &e));
+  assert_null(sl_sql_read(db, "SELECT * FROM hives WHERE id > 10", NULL, &rep, &e));
   assert_string_equal(e.msg, "the query returned no rows");
-  assert_null(sl_sql_read(db, "SELECT id, site AS id FROM hives", &rep, &e));
+  assert_null(sl_sql_read(db, "SELECT id, site AS id FROM hives", NULL, &rep, &e));
   assert_non_null(strstr(e.msg, "columns 1 and 2 of the result are both named 'id'"));
-  assert_null(sl_sql_read(db, "SELECT b FROM blobs", &rep, &e));
+  assert_null(sl_sql_read(db, "SELECT b FROM blobs", NULL, &rep, &e));
   assert_non_null(strstr(e.msg, "row 1, column 1 ('b'): a BLOB value"));
-  assert_null(sl_sql_read(db, "SELECT 1; SELECT 2", &rep, &e));
+  assert_null(sl_sql_read(db, "SELECT 1; SELECT 2", NULL, &rep, &e));
   assert_non_null(strstr(e.msg, "one statement at a time"));
-  assert_null(sl_sql_read(db, "DELETE FROM hives", &rep, &e));
+  assert_null(sl_sql_read(db, "DELETE FROM hives", NULL, &rep, &e));
   assert_non_null(strstr(e.msg, "the statement returns no columns"));
-  assert_null(sl_sql_read(tmp("none.db"), "SELECT 1", &rep, &e));
+  assert_null(sl_sql_read(tmp("none.db"), "SELECT 1", NULL, &rep, &e));
   assert_non_null(strstr(e.msg, "No such file or directory"));
   put_file(tmp("text.db"), "not a database, just text\n", 26);
-  assert_null(sl_sql_read(tmp("text.db"), "SELECT * FROM sqlite_master", &rep, &e));
+  assert_null(sl_sql_read(tmp("text.db"), "SELECT * FROM sqlite_master", NULL, &rep, &e));
   assert_string_equal(e.msg, "file is not a database");
 }
 
@@ -636,6 +636,44 @@ static void test_stop(void **state) {
   sl_frame *f = read_ok(path, &o, NULL);
   assert_int_equal(f->nrow, 100000);
   sl_frame_free(f);
+}
+
+/* An endless recursive query ends at the row limit with an error saying
+** how to read more; the stop flag ends it through SQLite's progress
+** handler.  A result of exactly the limit is read. */
+static void test_sql_limit(void **state) {
+  (void)state;
+  const char *db = tmp("limit.db");
+  make_db(db);
+  const char *endless = "WITH RECURSIVE r(i) AS (SELECT 1 UNION ALL SELECT i + 1 FROM r) "
+                        "SELECT i FROM r";
+  sl_error e;
+  sl_read_report rep;
+  sl_sql_opts o = {1000, NULL};
+  alarm(60);
+  assert_null(sl_sql_read(db, endless, &o, &rep, &e));
+  assert_string_equal(e.msg, "the query returned more than 1000 rows; give {limit = ...} to "
+                      "read more");
+  assert_int_equal(e.code, SL_ELIMIT);
+  o.limit = 4;
+  sl_frame *f = sl_sql_read(db, "SELECT * FROM hives", &o, &rep, &e);
+  assert_non_null(f);
+  assert_int_equal(f->nrow, 4);
+  sl_frame_free(f);
+  o.limit = 3;
+  assert_null(sl_sql_read(db, "SELECT * FROM hives", &o, &rep, &e));
+  assert_string_equal(e.msg, "the query returned more than 3 rows; give {limit = ...} to "
+                      "read more");
+  volatile int stop = 1;
+  sl_sql_opts s = {0, &stop};
+  assert_null(sl_sql_read(db, endless, &s, &rep, &e));
+  assert_string_equal(e.msg, "interrupted");
+  stop = 0;
+  f = sl_sql_read(db, "SELECT * FROM hives", &s, &rep, &e);
+  assert_non_null(f);
+  sl_frame_free(f);
+  alarm(0);
+  assert_int_equal(SL_SQL_MAX_ROWS, 10000000);   /* the documented default */
 }
 
 /* ---- fingerprints ---- */
@@ -726,6 +764,7 @@ int main(void) {
     cmocka_unit_test(test_sha256),
     cmocka_unit_test(test_not_regular),
     cmocka_unit_test(test_stop),
+    cmocka_unit_test(test_sql_limit),
     cmocka_unit_test(test_random_files),
   };
   return cmocka_run_group_tests(tests, setup_tmp, teardown_tmp);

@@ -259,6 +259,21 @@ test("read_sql", function()
   eq(#hex, 64)
   raises(function() read_sql(db, "SELEC * FROM trees") end, 'read_sql: near "SELEC": syntax error')
   raises(function() read_sql(db, "SELECT * FROM tree") end, "read_sql: no such table: tree")
+  -- an endless recursive query ends at the row limit (before, it ran until killed)
+  local endless = "WITH RECURSIVE r(i) AS (SELECT 1 UNION ALL SELECT i + 1 FROM r) SELECT i FROM r"
+  raises(function() read_sql(db, endless, {limit = 100}) end,
+         "read_sql: the query returned more than 100 rows; give {limit = ...} to read more")
+  eq(#read_sql(db, "SELECT * FROM trees", {limit = 3}), 3, "exactly the limit")
+  eq(#read_sql(db, "SELECT * FROM trees", {limit = math.huge}), 3, "no limit")
+  raises(function() read_sql(db, "SELECT * FROM trees", {limit = 2}) end, "more than 2 rows")
+  raises(function() read_sql(db, "SELECT 1", {limit = 0}) end,
+         "read_sql: option limit must be a whole number of rows, 1 or more (math.huge for no limit), got 0")
+  raises(function() read_sql(db, "SELECT 1", {limit = 2.5}) end, "got 2.5")
+  raises(function() read_sql(db, "SELECT 1", {limit = 0/0}) end, "got NaN")
+  raises(function() read_sql(db, "SELECT 1", {limit = "10"}) end,
+         "read_sql: option limit must be a number of rows, got a string")
+  raises(function() read_sql(db, "SELECT 1", {limt = 10}) end,
+         "read_sql: unknown option 'limt'; did you mean 'limit'?")
   os.remove(db)
   raises(function() read_sql(db, "SELECT 1") end, "No such file or directory")
 end)
