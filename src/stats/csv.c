@@ -19,6 +19,7 @@
 
 #define CHUNK (256 * 1024)    /* bytes read at a time */
 #define ROW_NOT_BEGUN 0       /* libcsv's parser state between records */
+#define BLOCK_MIN (64 * 1024) /* least growth of libcsv's cell buffer */
 
 typedef struct reader {
   const char *path;
@@ -217,12 +218,21 @@ static unsigned char detect_delim(const char *s, size_t n) {
 ** the space (otherwise libcsv's own test, space and tab, applies). */
 static int space_only(unsigned char c) { return c == ' '; }
 
+/* libcsv grows the buffer of a cell by a fixed block (128 bytes unless
+** set), so a cell of n bytes cost n / 128 reallocations, each a copy under
+** a sanitizer: quadratic.  A block as large as the buffer makes the growth
+** geometric. */
+static void grow_block(struct csv_parser *p) {
+  csv_set_blk_size(p, p->entry_size > BLOCK_MIN ? p->entry_size : BLOCK_MIN);
+}
+
 /* Feed bytes to libcsv a line at a time, keeping the line count. */
 static void feed(reader *r, struct csv_parser *p, const char *s, size_t n) {
   while (n > 0 && !r->failed && !r->done) {
     const char *nl = memchr(s, '\n', n);
     size_t k = nl ? (size_t)(nl - s) + 1 : n;
     if (r->at_line_start && p->pstate == ROW_NOT_BEGUN) r->pending_line = r->line;
+    grow_block(p);
     size_t used = csv_parse(p, s, k, on_field, on_record, r);
     if (r->failed || r->done) return;
     if (used != k) {

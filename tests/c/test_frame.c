@@ -394,6 +394,32 @@ static void test_large(void **state) {
   read_fails(path, NULL, (int)(2 + 2 * n), 0, "3 fields, the header has 4");
 }
 
+/* A cell of 10 MB comes back whole.  libcsv grew its cell buffer 128
+** bytes at a time, a copy each under ASan: this read took minutes there,
+** which the alarm turns into a failure. */
+static void test_long_cell(void **state) {
+  (void)state;
+  size_t n = 10u << 20;
+  char *cell = malloc(n + 1);
+  assert_non_null(cell);
+  for (size_t i = 0; i < n; i++) cell[i] = (char)('a' + i % 26);
+  cell[n] = '\0';
+  const char *path = tmp("long.csv");
+  FILE *fp = fopen(path, "wb");
+  assert_non_null(fp);
+  fprintf(fp, "id,text\n1,\"%s\"\n2,short\n", cell);
+  fclose(fp);
+  alarm(60);
+  sl_frame *f = read_ok(path, NULL, NULL);
+  alarm(0);
+  const sl_column *t = col(f, "text");
+  assert_int_equal(strlen(level(t, 0)), n);
+  assert_string_equal(level(t, 0), cell);
+  assert_string_equal(level(t, 1), "short");
+  sl_frame_free(f);
+  free(cell);
+}
+
 /* Decimal texts with up to 19 digits, exponents and signs: every value is
 ** the double strtod gives for the same text (the reader's fast path must
 ** agree with it bit for bit). */
@@ -757,6 +783,7 @@ int main(void) {
     cmocka_unit_test(test_coerce),
     cmocka_unit_test(test_error_lines),
     cmocka_unit_test(test_large),
+    cmocka_unit_test(test_long_cell),
     cmocka_unit_test(test_numbers_strtod),
     cmocka_unit_test(test_roundtrip),
     cmocka_unit_test(test_ops),
