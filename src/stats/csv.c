@@ -169,6 +169,11 @@ static void on_field(void *field, size_t n, void *data) {
   const char *s = field ? field : "";
   if (r->field == 0) r->rec_line = r->pending_line;
   size_t j = r->field++;
+  if (r->records == 0 && memchr(s, '\0', n)) {   /* it would cut the name short */
+    fail_at(r, SL_EARG, r->rec_line, (int)j + 1, ": a NUL byte in the header (is this a "
+            "text file?)%s%s", "", "");
+    return;
+  }
   if (r->records == 0) { add_name(r, s, n); return; }
   if (j >= r->nnames) return;           /* ragged: counted, reported at the end */
   if (r->pass == 1) { data_cell(r, j, s, n); return; }

@@ -353,6 +353,12 @@ static void test_error_lines(void **state) {
   const char *t4 = "a,b\n1,x\0y\n";
   put_file(tmp("nul.csv"), t4, 10);
   read_fails(tmp("nul.csv"), NULL, 2, 2, "NUL byte");
+  /* a NUL in a name cut it short without a word: "abcdef\0gh" was "abcdef" */
+  put_file(tmp("nul_name.csv"), "id,abcdef\0gh,z\n1,2,3\n", 21);
+  read_fails(tmp("nul_name.csv"), NULL, 1, 2, "nul_name.csv, row 1, column 2: a NUL byte in "
+             "the header (is this a text file?)");
+  put_file(tmp("nul_first.csv"), "\0\n1\n", 4);
+  read_fails(tmp("nul_first.csv"), NULL, 1, 1, "row 1, column 1: a NUL byte in the header");
   const char *t5 = "\xEF\xBB\xBF";
   put_file(tmp("bom_only.csv"), t5, 3);
   read_fails(tmp("bom_only.csv"), NULL, 0, 0, "is empty");

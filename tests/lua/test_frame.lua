@@ -309,3 +309,13 @@ test("read_csv and read_sql refuse devices, pipes and directories", function()
     os.remove(fifo)
   end
 end)
+
+-- A NUL byte in a name used to cut the name short without a word.
+test("read_csv: a NUL byte in the header is an error naming row and column", function()
+  local path = tmpname(".csv")
+  local h = assert(io.open(path, "wb"))
+  h:write("abcdef\0gh,b\n1,2\n")
+  h:close()
+  raises(function() read_csv(path) end, ", row 1, column 1: a NUL byte in the header (is this a text file?)")
+  os.remove(path)
+end)
