@@ -259,6 +259,30 @@ local function note_picture(path)
   end
 end
 
+-- The position "file:line: " of the innermost caller outside sluice's own
+-- Lua files, or "" when there is none (a tail call from C, say).
+local function user_position()
+  for level = 2, 50 do
+    local info = debug.getinfo(level, "Sl")
+    if not info then break end
+    if info.currentline > 0 and not info.short_src:find("^lua/sluice/") then
+      return info.short_src .. ":" .. info.currentline .. ": "
+    end
+  end
+  return ""
+end
+
+-- Call fn(...) and raise its error at the user's line that called the
+-- public function, not inside this file.
+local function as_caller(fn, ...)
+  local r = table.pack(pcall(fn, ...))
+  if not r[1] then
+    if type(r[2]) ~= "string" then error(r[2], 0) end
+    error(user_position() .. r[2], 0)
+  end
+  return table.unpack(r, 2, r.n)
+end
+
 -- Wrap the functions of the library that write files.
 local function wrap_writers()
   local gm = debug.getregistry()["sluice.graph"]
@@ -266,7 +290,7 @@ local function wrap_writers()
     local draw = gm.__index.draw
     gm.__index.draw = function(g, path, ...)
       if guard then guard(path, "g:draw") end
-      local r = draw(g, path, ...)
+      local r = as_caller(draw, g, path, ...)
       note_picture(path)
       return r
     end
@@ -275,12 +299,18 @@ local function wrap_writers()
   if fm and fm.__index then
     local index = fm.__index
     local function write_csv(f, path, ...)
+      if type(path) ~= "string" then
+        error(user_position() .. "f:write_csv: a file name expected as the path, got "
+              .. type(path), 0)
+      end
       if guard then guard(path, "f:write_csv") end
-      return index(f, "write_csv")(f, path, ...)
+      local r = table.pack(as_caller(index(f, "write_csv"), f, path, ...))
+      return table.unpack(r, 1, r.n)    -- not a tail call: as_caller counts levels
     end
     fm.__index = function(f, k)
       if k == "write_csv" then return write_csv end
-      return index(f, k)
+      local v = as_caller(index, f, k)
+      return v                          -- not a tail call: as_caller counts levels
     end
   end
   for _, name in ipairs({"_forest", "_histograms"}) do
