@@ -127,18 +127,21 @@ static void add_name(reader *r, const char *s, size_t n) {
   r->names[r->nnames++] = t;
 }
 
-/* The header is complete: check its names and start the builder. */
+/* The header is complete: check its names and start the builder.  The
+** first fault from the left is reported: an empty name, or the second use
+** of a name (found by sorting: comparing every pair was quadratic in the
+** number of columns). */
 static void end_header(reader *r) {
-  for (size_t j = 0; j < r->nnames && !r->failed; j++) {
-    if (!r->names[j][0])
-      fail_at(r, SL_EARG, 1, (int)j + 1, ": the header has an empty name%s%s", "", "");
-    for (size_t k = 0; k < j && !r->failed; k++)
-      if (strcmp(r->names[k], r->names[j]) == 0) {
-        char both[SL_MSG_MAX];
-        snprintf(both, sizeof both, "%zu and %zu", k + 1, j + 1);
-        fail_at(r, SL_EARG, 1, (int)j + 1, ": columns %s are both named '%s'", both,
-                r->names[j]);
-      }
+  size_t empty = 0, k = 0, j = 0;
+  while (empty < r->nnames && r->names[empty][0]) empty++;
+  int dup = sl_names_duplicate((const char *const *)r->names, r->nnames, &k, &j, r->e);
+  if (dup < 0) { r->failed = 1; return; }
+  if (empty < r->nnames && (!dup || empty <= j))
+    fail_at(r, SL_EARG, 1, (int)empty + 1, ": the header has an empty name%s%s", "", "");
+  else if (dup) {
+    char both[SL_MSG_MAX];
+    snprintf(both, sizeof both, "%zu and %zu", k + 1, j + 1);
+    fail_at(r, SL_EARG, 1, (int)j + 1, ": columns %s are both named '%s'", both, r->names[j]);
   }
   if (!r->failed && r->pass == 1 &&
       sl_build_init(&r->b, (const char *const *)r->names, r->nnames, r->e) != SL_OK)

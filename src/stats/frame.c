@@ -7,7 +7,8 @@
 #include <string.h>
 #include "frame_build.h"
 
-#define INIT_ROWS 1024   /* first allocation of a builder's columns */
+#define INIT_ROWS 1024      /* first allocation of a builder's columns, in rows */
+#define INIT_CELLS 65536    /* and in cells over all columns, for a wide file */
 
 /* ---- frames ---- */
 
@@ -247,6 +248,38 @@ sl_frame *sl_frame_binarize(const sl_frame *f, int col, double cut, const char *
   return out;
 }
 
+/* A name and its position, to sort names while keeping where they were. */
+typedef struct name_ref { const char *name; size_t at; } name_ref;
+
+/* qsort order: by name, then by position. */
+static int cmp_name_ref(const void *a, const void *b) {
+  const name_ref *x = a, *y = b;
+  int c = strcmp(x->name, y->name);
+  return c ? c : (x->at > y->at) - (x->at < y->at);
+}
+
+int sl_names_duplicate(const char *const *names, size_t n, size_t *first, size_t *second,
+                       sl_error *e) {
+  name_ref *ref = alloc0(n * sizeof *ref);
+  if (!ref) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"), -1;
+  for (size_t k = 0; k < n; k++) ref[k] = (name_ref){names[k], k};
+  qsort(ref, n, sizeof *ref, cmp_name_ref);
+  int found = 0;
+  for (size_t k = 1; k < n; k++) {
+    /* ref[k] is a second use when the name before it is the same and a
+    ** different name (or nothing) comes before that: the group's first two */
+    if (strcmp(ref[k - 1].name, ref[k].name) != 0) continue;
+    if (k >= 2 && strcmp(ref[k - 2].name, ref[k].name) == 0) continue;
+    if (!found || ref[k].at < *second) {
+      *first = ref[k - 1].at;
+      *second = ref[k].at;
+      found = 1;
+    }
+  }
+  free(ref);
+  return found;
+}
+
 /* ---- summaries ---- */
 
 /* qsort order for doubles (no NaN here). */
@@ -406,7 +439,10 @@ void sl_build_free(sl_build *b) {
 
 int sl_build_row(sl_build *b, sl_error *e) {
   if (b->nrow < b->cap) return SL_OK;
-  size_t nc = b->cap ? b->cap * 2 : INIT_ROWS;
+  size_t first = b->ncol ? INIT_CELLS / b->ncol : INIT_ROWS;
+  if (first > INIT_ROWS) first = INIT_ROWS;
+  if (first < 8) first = 8;
+  size_t nc = b->cap ? b->cap * 2 : first;
   for (size_t j = 0; j < b->ncol; j++) {
     sl_bcol *c = &b->col[j];
     double *x = realloc(c->x, nc * sizeof *x);
@@ -554,14 +590,24 @@ static int finish_categorical(sl_frame *f, sl_bcol *c, size_t nrow, sl_error *e)
   free(c->x);
   c->x = NULL;
   intern_free(&c->dict);
-  char *name = c->name;
+  sl_column *out = &f->col[f->ncol++];   /* room made by sl_build_finish */
+  out->name = c->name;
   c->name = NULL;
-  return sl_frame_adopt_categorical(f, name, code, levels, n, e);
+  out->type = SL_CATEGORICAL;
+  out->code = code;
+  out->levels = levels;
+  out->nlevels = n;
+  return SL_OK;
 }
 
 sl_frame *sl_build_finish(sl_build *b, sl_error *e) {
   sl_frame *f = sl_frame_alloc(b->nrow);
   if (!f) { sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); return NULL; }
+  /* room for every column at once (the names are known to be distinct):
+  ** adding them one by one, each checked against the others, was
+  ** quadratic in the number of columns */
+  f->col = calloc(b->ncol ? b->ncol : 1, sizeof *f->col);
+  if (!f->col) { free(f); sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); return NULL; }
   for (size_t j = 0; j < b->ncol; j++) {
     sl_bcol *c = &b->col[j];
     int rc;
@@ -572,10 +618,16 @@ sl_frame *sl_build_finish(sl_build *b, sl_error *e) {
       if (shrunk) x = shrunk;
       free(c->code);
       intern_free(&c->dict);
-      char *name = c->name;
-      c->x = NULL; c->code = NULL; c->name = NULL;
-      rc = x ? sl_frame_adopt_numeric(f, name, x, e)
-             : (free(name), sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"));
+      c->x = NULL; c->code = NULL;
+      if (!x) rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+      else {
+        sl_column *out = &f->col[f->ncol++];
+        out->name = c->name;
+        c->name = NULL;
+        out->type = SL_NUMERIC;
+        out->x = x;
+        rc = SL_OK;
+      }
     }
     if (rc != SL_OK) { sl_frame_free(f); return NULL; }
   }

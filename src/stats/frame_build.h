@@ -72,6 +72,12 @@ int sl_build_refill(sl_build *b, size_t j, size_t r, const char *tok, size_t len
 /* The frame; the builder is emptied (free it all the same). */
 sl_frame *sl_build_finish(sl_build *b, sl_error *e);
 
+/* Whether two of n names are the same (n log n): then 1, and the
+** positions of the first two uses of the name whose second use comes
+** first; 0 when all differ, -1 (e filled) when out of memory. */
+int sl_names_duplicate(const char *const *names, size_t n, size_t *first, size_t *second,
+                       sl_error *e);
+
 /* Add a column taking ownership of its arrays (freed on failure too). */
 int sl_frame_adopt_numeric(sl_frame *f, char *name, double *x, sl_error *e);
 int sl_frame_adopt_categorical(sl_frame *f, char *name, int32_t *code, char **levels,

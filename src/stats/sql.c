@@ -25,17 +25,20 @@ static int only_blanks(const char *s) {
 
 /* The column names of a prepared statement, checked for duplicates. */
 static int column_names(sqlite3_stmt *st, const char **names, int n, sl_error *e) {
-  for (int j = 0; j < n; j++) {
-    names[j] = sqlite3_column_name(st, j);
-    if (!names[j]) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
-    if (!names[j][0])
-      return sl_error_set(e, SL_EARG, 0, j + 1, "column %d of the result has no name; "
-                          "name it with AS", j + 1);
-    for (int k = 0; k < j; k++)
-      if (strcmp(names[k], names[j]) == 0)
-        return sl_error_set(e, SL_EARG, 0, j + 1, "columns %d and %d of the result are both "
-                            "named '%s'; rename one with AS", k + 1, j + 1, names[j]);
+  size_t empty = (size_t)n, k = 0, j = 0;
+  for (int i = 0; i < n; i++) {
+    names[i] = sqlite3_column_name(st, i);
+    if (!names[i]) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+    if (!names[i][0] && empty == (size_t)n) empty = (size_t)i;
   }
+  int dup = sl_names_duplicate(names, (size_t)n, &k, &j, e);
+  if (dup < 0) return e->code;
+  if (empty < (size_t)n && (!dup || empty <= j))   /* the first fault from the left */
+    return sl_error_set(e, SL_EARG, 0, (int)empty + 1, "column %zu of the result has no "
+                        "name; name it with AS", empty + 1);
+  if (dup)
+    return sl_error_set(e, SL_EARG, 0, (int)j + 1, "columns %zu and %zu of the result are "
+                        "both named '%s'; rename one with AS", k + 1, j + 1, names[j]);
   return SL_OK;
 }
 
