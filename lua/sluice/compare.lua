@@ -6,7 +6,7 @@ local E = require "sluice.estimate"
 local C = {}
 local S
 
-local function fail(msg) error("compare: " .. msg, 3) end
+local function fail(msg) E.fail("compare", msg) end
 
 local function key(set)
   local s = {}
@@ -53,7 +53,6 @@ local function candidates(g, x, y, extra)
   local o = g:optimal(x, y)
   if o then add(o, "optimal") end
   for _, s in ipairs(extra or {}) do
-    if type(s) == "string" then s = {s} end
     for _, v in ipairs(s) do
       if hidden[v] then fail("the set " .. set_text(s) .. " names the hidden node '" .. v ..
                              "', which has no data") end
@@ -63,12 +62,14 @@ local function candidates(g, x, y, extra)
   return list
 end
 
+-- Whether v is a number that can be placed on the axis.
+local function finite(v) return type(v) == "number" and v == v and v > -math.huge and v < math.huge end
+
 -- A text forest plot: one line per row, the interval as [---*---], the
 -- truth as |.
 local function forest_text(rows, truth)
   local lo, hi = math.huge, -math.huge
-  local function see(v) if v and v == v and v > -math.huge and v < math.huge then
-    lo = math.min(lo, v); hi = math.max(hi, v) end end
+  local function see(v) if finite(v) then lo = math.min(lo, v); hi = math.max(hi, v) end end
   for _, r in ipairs(rows) do see(r.estimate); see(r.lo); see(r.hi) end
   see(truth)
   if lo == math.huge then return "" end
@@ -81,12 +82,12 @@ local function forest_text(rows, truth)
   for _, r in ipairs(rows) do
     local cells = {}
     for i = 1, width do cells[i] = " " end
-    if truth then cells[col(truth)] = "|" end
-    if r.lo and r.hi then
+    if finite(truth) then cells[col(truth)] = "|" end
+    if finite(r.lo) and finite(r.hi) then
       for i = col(r.lo), col(r.hi) do cells[i] = "-" end
       cells[col(r.lo)] = "["; cells[col(r.hi)] = "]"
     end
-    if r.estimate then cells[col(r.estimate)] = "*" end
+    if finite(r.estimate) then cells[col(r.estimate)] = "*" end
     local label = r.set_text
     if (utf8.len(label) or #label) > labw then label = label:sub(1, labw - 3) .. "..." end
     lines[#lines + 1] = (string.format("  %-" .. labw .. "s  %s", label, table.concat(cells)):gsub("%s+$", ""))
@@ -130,24 +131,86 @@ local allowed = {data = true, graph = true, treatment = true, outcome = true, tr
                  sets = true, method = true, boot = true, seed = true, level = true,
                  plot = true, estimand = true, threads = true}
 
-function C.compare(a)
-  if type(a) ~= "table" then fail("expects a table of named arguments") end
-  for k in pairs(a) do
-    if not allowed[k] then fail("unknown argument '" .. tostring(k) .. "'") end
+-- sets = a name (one set of one node), or a list whose items are names or
+-- lists of names; every name a node of g.
+local function your_sets(g, sets)
+  if sets == nil then return {} end
+  if type(sets) == "string" then sets = {sets} end
+  if type(sets) ~= "table" then
+    fail("sets = must be a node name or a list of sets, e.g. {\"z\", {\"z\", \"w\"}}, got " .. E.show(sets))
   end
+  local nodes, known = g:nodes(), {}
+  for _, v in ipairs(nodes) do known[v] = true end
+  local out = {}
+  for k in pairs(sets) do
+    if math.type(k) ~= "integer" or k < 1 or k > #sets then
+      fail("sets = must be a list of sets, not a table keyed by " .. E.show(k))
+    end
+  end
+  for i, s in ipairs(sets) do
+    if type(s) == "string" then s = {s} end
+    if type(s) ~= "table" then
+      fail(string.format("sets = item %d is %s, not a node name or a list of names", i, E.show(s)))
+    end
+    local set = {}
+    for j, v in ipairs(s) do
+      if type(v) ~= "string" then
+        fail(string.format("sets = item %d holds %s, not a node name", i, E.show(v)))
+      end
+      if not known[v] then
+        local near = E.closest(v, nodes)
+        fail(string.format("sets: no node '%s' in the graph%s", v,
+             near and ("; did you mean '" .. near .. "'?") or ""))
+      end
+      set[j] = v
+    end
+    out[#out + 1] = set
+  end
+  return out
+end
+
+function C.compare(a)
+  if type(a) ~= "table" then fail("expects a table of named arguments, e.g. compare{data = f, ...}") end
+  local names = {}
+  for k in pairs(allowed) do names[#names + 1] = k end
+  table.sort(names)
+  for k in pairs(a) do
+    if not allowed[k] then
+      local near = type(k) == "string" and E.closest(k, names)
+      fail(string.format("unknown argument '%s'%s", tostring(k),
+           near and ("; did you mean '" .. near .. "'?") or ""))
+    end
+  end
+  if not E.is_frame(a.data) then fail("data = must be a data frame (read_csv, read_sql)") end
   local x, y = a.treatment, a.outcome
-  if type(x) ~= "string" or type(y) ~= "string" then fail("treatment = and outcome = name columns") end
+  E.check_column("compare", "treatment", a.data, x)
+  E.check_column("compare", "outcome", a.data, y)
   local m = is_model(a.truth) and a.truth or nil
   local g = a.graph or (m and m:graph())
   if not g then fail("graph = is needed to judge the sets (or truth = a model on a graph)") end
+  if (getmetatable(g) or {}).__name ~= "sluice.graph" then
+    fail("graph = must be a graph (graph[[...]] or read_graph), got " .. E.show(g))
+  end
+  if type(a.truth) == "number" and not (a.truth == a.truth and math.abs(a.truth) < math.huge) then
+    fail("truth = " .. E.show(a.truth) .. " must be a finite number (or a model from sem())")
+  end
+  if a.truth ~= nil and type(a.truth) ~= "number" and not m then
+    fail("truth = must be a number or a model from sem(), got " .. E.show(a.truth))
+  end
+  if a.plot ~= nil and type(a.plot) ~= "string" then
+    fail("plot = must be a file name ending in .svg, .png or .pdf, got " .. E.show(a.plot))
+  end
+  local method = E.choice("compare", "method", a.method, {"standardize", "ipw", "aipw"}, "standardize")
+  E.choice("compare", "estimand", a.estimand, {"ATE", "ATT", "ATC"}, "ATE")
+  E.check_common("compare", a)
+  local extra = your_sets(g, a.sets)
   local truth, truth_se
   if type(a.truth) == "number" then truth = a.truth
   elseif m then
     if m:exact() then truth = m:effect(x, y)
     else truth, truth_se = m:effect(x, y, {draws = 200000, seed = a.seed or 1}) end
-  elseif a.truth ~= nil then fail("truth = must be a number or a model from sem()") end
-  local rows = candidates(g, x, y, a.sets)
-  local method = a.method or "standardize"
+  end
+  local rows = candidates(g, x, y, extra)
   local boot = a.boot
   if boot == nil then boot = method == "standardize" and 200 or 0 end
   local has_limit = m and m:exact()
@@ -157,9 +220,13 @@ function C.compare(a)
     r.valid = ok
     r.valid_text = ok and "yes" or "no"
     if not ok then r.reason = tostring(why[1]) end
-    local est = E.estimate{data = a.data, treatment = x, outcome = y, set = r.set,
-                           method = method, boot = boot, seed = a.seed, level = a.level,
-                           estimand = a.estimand, threads = a.threads}
+    local ok, est = pcall(E.estimate, {data = a.data, treatment = x, outcome = y, set = r.set,
+                                       method = method, boot = boot, seed = a.seed, level = a.level,
+                                       estimand = a.estimand, threads = a.threads})
+    if not ok then
+      local msg = tostring(est):gsub("^[^:\n]*:%d+: ", "", 1):gsub("^estimate: ", "", 1)
+      fail("with the set " .. r.set_text .. ": " .. msg)
+    end
     r.estimate, r.lo, r.hi, r.se = est.estimate, est.lo, est.hi, est.se
     r.interval = r.lo and (E.fmt(r.lo) .. " to " .. E.fmt(r.hi)) or "-"
     if truth and truth ~= 0 then r.error_pct = 100 * (r.estimate - truth) / truth end
@@ -174,8 +241,9 @@ function C.compare(a)
       labels[i] = r.set_text .. (r.valid and "" or " (invalid)")
       est[i], lo[i], hi[i] = r.estimate, r.lo or 0 / 0, r.hi or 0 / 0
     end
-    rows.plot = S._forest(a.plot, "Effect of " .. x .. " on " .. y .. " by adjustment set",
-                          "estimate", labels, est, lo, hi, truth or 0 / 0, truth and "truth" or nil)
+    rows.plot = E.call("compare", S._forest, a.plot, "Effect of " .. x .. " on " .. y ..
+                       " by adjustment set", "estimate", labels, est, lo, hi, truth or 0 / 0,
+                       truth and "truth" or nil)
   end
   return setmetatable(rows, compare_mt)
 end

@@ -11,11 +11,44 @@ E.caution = "An estimate is only as good as the graph and the no-unmeasured-conf
 
 local S   -- the module, set by install
 
+local getinfo = debug and debug.getinfo   -- kept before any sandbox hides it
+
+-- "file:line: " of the line the user wrote: the first caller outside the
+-- files of lua/sluice ("" when that is a C function).
+local function where()
+  if not getinfo then return "" end
+  for level = 3, 60 do
+    local info = getinfo(level, "Sl")
+    if not info then break end
+    if not (info.source or ""):find("^@lua/sluice/") then
+      if (info.currentline or 0) > 0 then return info.short_src .. ":" .. info.currentline .. ": " end
+      break
+    end
+  end
+  return ""
+end
+E.where = where
+
 -- Raise an error for the caller of the public function.
-local function fail(fname, msg) error(fname .. ": " .. msg, 3) end
+local function fail(fname, msg) error(where() .. fname .. ": " .. msg, 0) end
+E.fail = fail
+
+-- A value as the user would write it, for messages: 2.5, nan, "x".
+local function show(v)
+  if type(v) == "string" then return string.format("%q", v) end
+  if type(v) == "number" then
+    if v ~= v then return "nan" end
+    if v == math.huge then return "inf" elseif v == -math.huge then return "-inf" end
+    return tostring(v)
+  end
+  if v == nil then return "nil" end
+  return "a " .. type(v)
+end
+E.show = show
 
 local function closest(word, choices)
   local best, bestd
+  local limit = #word <= 3 and 1 or #word <= 6 and 2 or 3   -- as sl_closest
   for _, c in ipairs(choices) do
     local a, b = word:lower(), c:lower()
     local prev = {}
@@ -28,10 +61,11 @@ local function closest(word, choices)
       end
       prev = cur
     end
-    if prev[#b] <= 3 and (not bestd or prev[#b] < bestd) then best, bestd = c, prev[#b] end
+    if prev[#b] <= limit and (not bestd or prev[#b] < bestd) then best, bestd = c, prev[#b] end
   end
   return best
 end
+E.closest = closest
 
 -- One of the allowed words, or an error that suggests the nearest.
 local function choice(fname, key, value, allowed, default)
@@ -53,6 +87,66 @@ end
 local function is_frame(v)
   local mt = getmetatable(v)
   return type(mt) == "table" and mt.__name == "sluice.frame"
+end
+
+-- v when it is a whole number from lo to hi (integral floats count), as an integer.
+local function whole(v, lo, hi)
+  local i = math.type(v) and math.tointeger(v)
+  if i and i >= lo and i <= hi then return i end
+end
+
+-- The column name at a[key] must name a column of f; the message suggests
+-- the nearest name.
+local function check_column(fname, key, f, name)
+  if type(name) ~= "string" then
+    fail(fname, string.format("%s = must name a column, got %s", key, show(name)))
+  end
+  local names = f:names()
+  for _, n in ipairs(names) do if n == name then return name end end
+  local near = closest(name, names)
+  fail(fname, string.format("%s: no column '%s'%s", key, name,
+       near and ("; did you mean '" .. near .. "'?") or ""))
+end
+E.check_column = check_column
+E.is_frame = is_frame
+E.choice = choice
+
+-- Call a C primitive; its error is re-raised with the public name and the
+-- user's line (not the line of this file, nor the primitive's name).
+local function call(fname, fn, ...)
+  local ok, a, b, c, d = pcall(fn, ...)
+  if ok then return a, b, c, d end
+  local msg = tostring(a):gsub("^[^:\n]*:%d+: ", "", 1)
+  msg = msg:gsub("^bad argument #%d+ to '[^']*' %((.*)%)$", "%1")
+  if msg:sub(1, #fname + 2) == fname .. ": " then msg = msg:sub(#fname + 3) end
+  fail(fname, msg)
+end
+E.call = call
+
+-- The options every estimator shares, checked with their names; returns
+-- boot, seed, threads as integers.
+function E.check_common(fname, a)
+  local boot, seed, threads
+  if a.boot ~= nil then
+    boot = whole(a.boot, 0, 1000000)
+    if not boot then
+      fail(fname, "boot = " .. show(a.boot) .. " must be a whole number of replicates (0 to 1000000)")
+    end
+  end
+  if a.level ~= nil and not (type(a.level) == "number" and a.level > 0 and a.level < 1) then
+    fail(fname, "level = " .. show(a.level) .. " must lie strictly between 0 and 1, e.g. 0.95")
+  end
+  if a.seed ~= nil then
+    seed = whole(a.seed, math.mininteger, math.maxinteger)
+    if not seed then fail(fname, "seed = " .. show(a.seed) .. " must be a whole number") end
+  end
+  if a.threads ~= nil then
+    threads = whole(a.threads, 0, 1024)
+    if not threads then
+      fail(fname, "threads = " .. show(a.threads) .. " must be a whole number from 0 (all cores) to 1024")
+    end
+  end
+  return boot, seed, threads
 end
 
 local known = {
@@ -184,8 +278,13 @@ end
 local function fit(kind, a)
   args(kind, a, known.fit)
   if type(a.y) ~= "string" then fail(kind, "y = must name the response column") end
+  check_column(kind, "y", a.data, a.y)
+  if a.x ~= nil and type(a.x) ~= "string" and type(a.x) ~= "table" then
+    fail(kind, "x = must be a column name or a list of names, got " .. show(a.x))
+  end
   local x = as_list(a.x)
-  local m = S._fit(a.data, a.y, x, kind)
+  for _, name in ipairs(x) do check_column(kind, "x", a.data, name) end
+  local m = call(kind, S._fit, a.data, a.y, x, kind)
   m.kind, m.y, m.x = kind, a.y, x
   m._categorical = {}
   for _, name in ipairs(x) do
@@ -259,39 +358,52 @@ end
 
 local function spec(fname, a)
   args(fname, a, known[fname])
-  if type(a.treatment) ~= "string" then fail(fname, "treatment = must name a column") end
-  if fname == "estimate" and type(a.outcome) ~= "string" then
-    fail(fname, "outcome = must name a column")
+  check_column(fname, "treatment", a.data, a.treatment)
+  if fname == "estimate" or a.outcome ~= nil then check_column(fname, "outcome", a.data, a.outcome) end
+  if a.set ~= nil and type(a.set) ~= "string" and type(a.set) ~= "table" then
+    fail(fname, "set = must be a column name or a list of names, got " .. show(a.set))
+  end
+  if a.graph ~= nil and (getmetatable(a.graph) or {}).__name ~= "sluice.graph" then
+    fail(fname, "graph = must be a graph (graph[[...]] or read_graph), got " .. show(a.graph))
   end
   local set, why = resolve_set(fname, a)
+  for _, name in ipairs(set) do check_column(fname, "set", a.data, name) end
+  local boot, seed, threads = E.check_common(fname, a)
+  for _, k in ipairs({"interactions", "stabilized"}) do
+    if a[k] ~= nil and type(a[k]) ~= "boolean" then
+      fail(fname, k .. " = " .. show(a[k]) .. " must be true or false")
+    end
+  end
+  if a.contrast ~= nil and not (type(a.contrast) == "number" and a.contrast == a.contrast and
+                                 math.abs(a.contrast) < math.huge and a.contrast ~= 0) then
+    fail(fname, "contrast = " .. show(a.contrast) .. " must be a finite number other than 0 " ..
+         "(the change in a continuous treatment, e.g. 1)")
+  end
   local opts = {
     method = choice(fname, "method", a.method, {"standardize", "ipw", "aipw"}, "standardize"),
     estimand = choice(fname, "estimand", a.estimand, {"ATE", "ATT", "ATC"}, "ATE"),
     scale = choice(fname, "scale", a.scale, {"difference", "ratio", "odds ratio"}, "difference"),
     interactions = a.interactions, contrast = a.contrast, stabilized = a.stabilized,
-    boot = a.boot, level = a.level, seed = a.seed, threads = a.threads,
+    boot = boot, level = a.level, seed = seed, threads = threads,
   }
   if a.truncate ~= nil then
-    if type(a.truncate) ~= "table" or #a.truncate ~= 2 then
-      fail(fname, "truncate = {lo, hi}: two percentiles of the weights, e.g. {1, 99}")
+    local t = a.truncate
+    local lo, hi = type(t) == "table" and t[1], type(t) == "table" and t[2]
+    if type(t) ~= "table" or #t ~= 2 or type(lo) ~= "number" or type(hi) ~= "number" or
+       not (lo >= 0 and lo < hi and hi <= 100) then
+      fail(fname, "truncate = {lo, hi}: two percentiles of the weights with 0 <= lo < hi <= 100, " ..
+           "e.g. {1, 99}")
     end
-    opts.trunc_lo, opts.trunc_hi = a.truncate[1], a.truncate[2]
+    opts.trunc_lo, opts.trunc_hi = lo, hi
   end
-  if a.boot ~= nil and (math.type(a.boot) ~= "integer" or a.boot < 0 or a.boot > 1e6) then
-    fail(fname, "boot = must be a whole number of replicates (0 to 1000000)")
-  end
-  if a.level ~= nil and (type(a.level) ~= "number" or a.level <= 0 or a.level >= 1) then
-    fail(fname, "level = must lie between 0 and 1, e.g. 0.95")
-  end
-  if a.seed ~= nil and math.type(a.seed) ~= "integer" then fail(fname, "seed = must be an integer") end
-  opts.progress = (a.boot or 0) >= 200
+  opts.progress = (boot or 0) >= 200
   return set, why, opts
 end
 
 function E.estimate(a)
   local set, why, opts = spec("estimate", a)
   local outcome = a.outcome
-  local r = S._estimate(a.data, a.treatment, outcome, set, opts)
+  local r = call("estimate", S._estimate, a.data, a.treatment, outcome, set, opts)
   r.method, r.estimand, r.scale = opts.method, opts.estimand, opts.scale
   r.treatment, r.outcome, r.level = a.treatment, outcome, a.level or 0.95
   r.contrast = a.contrast
@@ -299,7 +411,7 @@ function E.estimate(a)
   local w = {}
   for line in (r.warnings or ""):gmatch("[^\n]+") do w[#w + 1] = line end
   r.warnings = w
-  r.seed = a.seed or 1
+  r.seed = opts.seed or 1
   return setmetatable(r, estimate_mt)
 end
 
@@ -329,16 +441,37 @@ function balance_mt.__tostring(b)
          "\n  * |SMD| > 0.1 after weighting (common practice; Austin 2009)"
 end
 
+-- A covariate that takes one value among the treated and another among
+-- the controls: the treatment under another name; no weights balance it.
+local function separates(x, t)
+  local v = {}
+  for i = 1, #x do
+    local g = t[i]
+    if v[g] == nil then v[g] = x[i] elseif v[g] ~= x[i] then return false end
+  end
+  return v[0] ~= nil and v[1] ~= nil and v[0] ~= v[1]
+end
+
 function E.balance(a)
   local set, _, opts = spec("balance", a)
+  for _, name in ipairs(set) do
+    if name == a.treatment then
+      fail("balance", "set = holds the treatment '" .. name .. "': a covariate cannot be the treatment")
+    end
+  end
   opts.method = "ipw"
-  local ps, w, t, rows = S._weights(a.data, a.treatment, a.outcome, set, opts)
+  local ps, w, t, rows = call("balance", S._weights, a.data, a.treatment, a.outcome, set, opts)
   local out = {weights = "inverse probability", estimand = opts.estimand}
   local ones = {}
   for i = 1, #w do ones[i] = 1 end
   for _, name in ipairs(set) do
     local c = a.data[name]
     local function add(label, x)
+      if separates(x, t) then
+        fail("balance", string.format("the covariate '%s' takes one value among the treated and " ..
+             "another among the controls: it is the treatment '%s' under another name, and its " ..
+             "SMD is not defined", label, a.treatment))
+      end
       local before, after = smd(x, t, ones), smd(x, t, w)
       out[#out + 1] = {covariate = label, before = before, after = after,
                        flag = math.abs(after) > 0.1 and "*" or ""}
@@ -398,9 +531,16 @@ end
 
 function E.overlap(a)
   local set, _, opts = spec("overlap", a)
-  local ps, _, t = S._weights(a.data, a.treatment, a.outcome, set, opts)
+  local bins = 20
+  if a.bins ~= nil then
+    bins = whole(a.bins, 1, 1000)
+    if not bins then fail("overlap", "bins = " .. show(a.bins) .. " must be a whole number from 1 to 1000") end
+  end
+  if a.plot ~= nil and type(a.plot) ~= "string" then
+    fail("overlap", "plot = must be a file name ending in .svg, .png or .pdf, got " .. show(a.plot))
+  end
+  local ps, _, t = call("overlap", S._weights, a.data, a.treatment, a.outcome, set, opts)
   local g1, g0, extreme = {}, {}, 0
-  local bins = a.bins or 20
   local hist = {}
   for k = 1, bins do hist[k] = {0, 0} end
   for i = 1, #ps do
@@ -414,8 +554,8 @@ function E.overlap(a)
   treated.group, control.group = "treated", "control"
   local o = {groups = {treated, control}, n = #ps, extreme = extreme, hist = hist, ps = ps}
   if a.plot then
-    o.plot = S._histograms(a.plot, "Propensity of " .. a.treatment .. " by group",
-                           "fitted propensity", g1, "treated", g0, "control", 0, 1, bins)
+    o.plot = call("overlap", S._histograms, a.plot, "Propensity of " .. a.treatment .. " by group",
+                  "fitted propensity", g1, "treated", g0, "control", 0, 1, bins)
   end
   return setmetatable(o, overlap_mt)
 end

@@ -194,9 +194,25 @@ static const char *opt_string(lua_State *L, int idx, const char *k, const char *
   lua_pop(L, 1);
   return s;
 }
+/* A finite number at a field (estimate.lua checks first; this keeps NaN
+** and out-of-range casts away from the library whoever calls). */
 static double opt_number(lua_State *L, int idx, const char *k, double def) {
   lua_getfield(L, idx, k);
-  double v = lua_isnil(L, -1) ? def : lua_tonumber(L, -1);
+  int isnum = 1;
+  double v = lua_isnil(L, -1) ? def : lua_tonumberx(L, -1, &isnum);
+  if (!isnum || !isfinite(v)) luaL_error(L, "estimate: %s = must be a finite number", k);
+  lua_pop(L, 1);
+  return v;
+}
+
+/* A whole number from lo to hi at a field, or def. */
+static lua_Integer opt_whole(lua_State *L, int idx, const char *k, lua_Integer def,
+                             lua_Integer lo, lua_Integer hi) {
+  lua_getfield(L, idx, k);
+  int isnum = 1;
+  lua_Integer v = lua_isnil(L, -1) ? def : lua_tointegerx(L, -1, &isnum);
+  if (!isnum || v < lo || v > hi)
+    luaL_error(L, "estimate: %s = must be a whole number from %I to %I", k, lo, hi);
   lua_pop(L, 1);
   return v;
 }
@@ -239,10 +255,10 @@ static void read_spec(lua_State *L, sl_est_spec *s) {
   lua_pop(L, 1);
   s->trunc_lo = opt_number(L, 5, "trunc_lo", 0);
   s->trunc_hi = opt_number(L, 5, "trunc_hi", 100);
-  s->boot = (size_t)opt_number(L, 5, "boot", 0);
+  s->boot = (size_t)opt_whole(L, 5, "boot", 0, 0, 1000000);
   s->level = opt_number(L, 5, "level", 0.95);
-  s->seed = (uint64_t)opt_number(L, 5, "seed", 1);
-  s->threads = (int)opt_number(L, 5, "threads", 0);
+  s->seed = (uint64_t)opt_whole(L, 5, "seed", 1, LUA_MININTEGER, LUA_MAXINTEGER);
+  s->threads = (int)opt_whole(L, 5, "threads", 0, 0, 1024);
   lua_getfield(L, 5, "progress");
   if (lua_toboolean(L, -1) && isatty(2)) s->progress = progress;
   lua_pop(L, 1);

@@ -92,9 +92,11 @@ static int in_target(const sl_est_spec *s, double t) {
   return s->estimand == SL_ATE || (s->estimand == SL_ATT ? t == 1 : t == 0);
 }
 
-/* The contrast of mu1 and mu0 on the chosen scale. */
+/* The contrast of mu1 and mu0 on the chosen scale.  A ratio of means
+** needs mu0 > 0 and mu1 >= 0: otherwise it is undefined or its sign says
+** nothing (NaN, so a bootstrap replicate counts as failed). */
 double sl_est_contrast(int scale, double mu1, double mu0) {
-  if (scale == SL_RATIO) return mu1 / mu0;
+  if (scale == SL_RATIO) return mu0 > 0 && mu1 >= 0 ? mu1 / mu0 : NAN;
   if (scale == SL_ODDS_RATIO) return (mu1 / (1 - mu1)) / (mu0 / (1 - mu0));
   return mu1 - mu0;
 }

@@ -52,7 +52,13 @@ static int check_roles(const sl_est_spec *s, sl_error *e) {
         return sl_error_set(e, SL_EARG, 0, 0, "'%s' is named twice in the adjustment set",
                             f->col[s->set[i]].name);
   }
-  if ((s->method == SL_IPW || s->method == SL_AIPW) && s->contrast != 0 && s->contrast != 1)
+  if (!(s->level > 0 && s->level < 1))
+    return sl_error_set(e, SL_EARG, 0, 0, "level = %g must lie strictly between 0 and 1, e.g. 0.95",
+                        s->level);
+  if (!isfinite(s->contrast) || s->contrast == 0)
+    return sl_error_set(e, SL_EARG, 0, 0, "contrast = %g must be a finite number other than 0",
+                        s->contrast);
+  if ((s->method == SL_IPW || s->method == SL_AIPW) && s->contrast != 1)
     return sl_error_set(e, SL_EARG, 0, 0, "a contrast applies to a continuous treatment with standardize");
   if (s->method == SL_AIPW && s->scale != SL_DIFFERENCE)
     return sl_error_set(e, SL_EARG, 0, 0, "aipw estimates differences only; use standardize or ipw for ratios");
@@ -178,6 +184,13 @@ int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
   sl_point pt;
   rc = sl_est_point(s, &P, ix, P.n, &pt, res->warnings, e);
   if (rc) goto done;
+  if (s->scale == SL_RATIO && !(pt.mu0 > 0 && pt.mu1 >= 0)) {
+    rc = sl_error_set(e, SL_EARG, 0, 0, "scale = \"ratio\" needs positive mean outcomes, and the "
+                      "mean of '%s' is %g under control and %g under treatment: their ratio is "
+                      "not meaningful; use scale = \"difference\"",
+                      s->data->col[s->outcome].name, pt.mu0, pt.mu1);
+    goto done;
+  }
   res->estimate = pt.est; res->se = pt.se; res->has_se = pt.has_se;
   res->mu1 = pt.mu1; res->mu0 = pt.mu0;
   res->n = P.n;
@@ -210,9 +223,10 @@ int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
     res->lo = sl_est_quantile(boot, ok, 50 * (1 - level));
     res->hi = sl_est_quantile(boot, ok, 100 - 50 * (1 - level));
     if (res->boot_failed) {
-      char m[128];
-      snprintf(m, sizeof m, "%zu of %zu bootstrap replicates failed (e.g. one treatment level only) "
-               "and were left out", res->boot_failed, s->boot);
+      char m[192];
+      snprintf(m, sizeof m, "%zu of %zu bootstrap replicates failed (e.g. one treatment level only%s) "
+               "and were left out", res->boot_failed, s->boot,
+               s->scale == SL_RATIO ? ", or a mean outcome at or below 0" : "");
       sl_est_warn(res->warnings, m);
     }
   } else if (!res->has_se) {

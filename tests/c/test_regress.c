@@ -1,5 +1,6 @@
 /*
-** test_regress.c: least squares and logistic regression (src/stats/regress.c).
+** test_regress.c: least squares and logistic regression (src/stats/regress.c),
+** and the refusals of the effect estimator (src/stats/estimate*.c).
 **
 ** References, named beside each check:
 ** - NIST StRD linear least squares datasets (tests/data/nist/NAME.dat, with
@@ -29,6 +30,7 @@
 #include <gsl/gsl_rng.h>
 
 #include "regress.h"
+#include "estimate.h"
 
 void openblas_set_num_threads(int n);   /* OpenBLAS, linked by the Makefile */
 
@@ -841,6 +843,80 @@ static void logit_same_bits_any_threads(void **s) {
   }
 }
 
+/* ---- the estimator's refusals (issue 9) ---- */
+
+/* The orchard trial of tests/lua/test_estimate.lua: y = 2 + 3 t + w exactly;
+** the means of y are 3 (t = 0) and 6 (t = 1), by hand. */
+static sl_frame *orchard(double shift) {
+  static const double t[8] = {0, 0, 0, 1, 1, 1, 0, 1}, w[8] = {0, 1, 2, 0, 1, 2, 1, 1};
+  double y[8];
+  for (int i = 0; i < 8; i++) y[i] = 2 + 3 * t[i] + w[i] + shift;
+  sl_error e;
+  sl_frame *f = sl_frame_alloc(8);
+  assert_non_null(f);
+  assert_int_equal(sl_frame_add_numeric(f, "t", t, &e), SL_OK);
+  assert_int_equal(sl_frame_add_numeric(f, "w", w, &e), SL_OK);
+  assert_int_equal(sl_frame_add_numeric(f, "y", y, &e), SL_OK);
+  return f;
+}
+
+static sl_est_spec ratio_spec(const sl_frame *f) {
+  sl_est_spec s;
+  memset(&s, 0, sizeof s);
+  s.data = f;
+  s.treatment = 0; s.outcome = 2;
+  s.scale = SL_RATIO;
+  s.contrast = 1; s.level = 0.95; s.trunc_hi = 100; s.seed = 1; s.threads = 1;
+  return s;
+}
+
+/* A ratio of means needs positive means: with y - 4 the control mean is -1
+** and the ratio -2 says nothing.  With y it is 6 / 3 = 2 (by hand). */
+static void estimate_ratio_needs_positive_means(void **st) {
+  (void)st;
+  sl_frame *f = orchard(0), *g = orchard(-4);
+  sl_est_spec s = ratio_spec(f);
+  sl_est_result r;
+  sl_error e;
+  assert_int_equal(sl_estimate(&s, &r, &e), SL_OK);
+  assert_close(r.estimate, 2, 1e-12, "ratio of 6 to 3");
+  s = ratio_spec(g);
+  memset(&e, 0, sizeof e);
+  assert_int_equal(sl_estimate(&s, &r, &e), SL_EARG);
+  assert_contains(e.msg, "needs positive mean outcomes");
+  assert_contains(e.msg, "the mean of 'y' is -1 under control and 2 under treatment");
+  sl_frame_free(f);
+  sl_frame_free(g);
+}
+
+/* A level outside (0, 1) and a zero or NaN contrast are refused by the
+** library itself (a NaN level once became "-nan% CI"). */
+static void estimate_refuses_level_and_contrast(void **st) {
+  (void)st;
+  sl_frame *f = orchard(0);
+  sl_est_result r;
+  sl_error e;
+  const double levels[] = {NAN, 0, 1, 95, -0.5, INFINITY};
+  for (size_t i = 0; i < sizeof levels / sizeof *levels; i++) {
+    sl_est_spec s = ratio_spec(f);
+    s.scale = SL_DIFFERENCE;
+    s.level = levels[i];
+    memset(&e, 0, sizeof e);
+    assert_int_equal(sl_estimate(&s, &r, &e), SL_EARG);
+    assert_contains(e.msg, "must lie strictly between 0 and 1");
+  }
+  const double contrasts[] = {0, NAN, INFINITY, -INFINITY};
+  for (size_t i = 0; i < sizeof contrasts / sizeof *contrasts; i++) {
+    sl_est_spec s = ratio_spec(f);
+    s.scale = SL_DIFFERENCE;
+    s.contrast = contrasts[i];
+    memset(&e, 0, sizeof e);
+    assert_int_equal(sl_estimate(&s, &r, &e), SL_EARG);
+    assert_contains(e.msg, "must be a finite number other than 0");
+  }
+  sl_frame_free(f);
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
     cmocka_unit_test(nist_norris),
@@ -866,6 +942,8 @@ int main(void) {
     cmocka_unit_test(same_bits_any_threads),
     cmocka_unit_test(logit_fast_matches_qr),
     cmocka_unit_test(logit_same_bits_any_threads),
+    cmocka_unit_test(estimate_ratio_needs_positive_means),
+    cmocka_unit_test(estimate_refuses_level_and_contrast),
   };
   return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -82,3 +82,78 @@ test("balance and overlap", function()
   eq(svg:find("<svg", 1, true) ~= nil, true, "an SVG picture")
   os.remove(out)
 end)
+
+-- Issue 9: options that were taken silently (level = 0/0 printed "-nan% CI",
+-- contrast = 0 gave 0, threads = 0/0 reached the library) and errors that
+-- cited lua/sluice/estimate.lua and the primitive '_estimate'.
+test("estimate refuses NaN, inf and impossible option values by name", function()
+  local function est(extra)
+    local a = {data = d, treatment = "t", outcome = "y", set = "w"}
+    for k, v in pairs(extra) do a[k] = v end
+    return function() return estimate(a) end
+  end
+  raises(est{level = 0 / 0}, "estimate: level = nan must lie strictly between 0 and 1")
+  raises(est{level = 1}, "estimate: level = 1 must lie strictly between 0 and 1")
+  raises(est{level = 95}, "level = 95")
+  raises(est{contrast = 0}, "estimate: contrast = 0 must be a finite number other than 0")
+  raises(est{contrast = 0 / 0}, "estimate: contrast = nan")
+  raises(est{contrast = 1 / 0}, "estimate: contrast = inf")
+  raises(est{boot = 0 / 0}, "estimate: boot = nan must be a whole number of replicates")
+  raises(est{boot = 2.5}, "estimate: boot = 2.5")
+  raises(est{seed = 0 / 0}, "estimate: seed = nan must be a whole number")
+  raises(est{seed = 1.5}, "estimate: seed = 1.5")
+  raises(est{threads = 0 / 0}, "estimate: threads = nan must be a whole number")
+  raises(est{threads = -1}, "estimate: threads = -1")
+  raises(est{interactions = "no"}, 'estimate: interactions = "no" must be true or false')
+  raises(est{truncate = {0 / 0, 99}, method = "ipw"}, "estimate: truncate = {lo, hi}")
+  raises(est{truncate = {99, 1}, method = "ipw"}, "0 <= lo < hi <= 100")
+  -- whole numbers written as floats are whole numbers
+  local a = estimate{data = d, treatment = "t", outcome = "y", set = "w", boot = 20.0, seed = 3.0}
+  eq(a.boot + a.boot_failed, 20, "boot = 20.0 replicates")
+  local msg = raises(est{level = 0 / 0}, "estimate:")
+  eq(msg:find("lua/sluice", 1, true), nil, "no file of the Lua layer in " .. msg)
+  msg = raises(function()   -- not a tail call, so the caller's line is known
+                 local r = estimate{data = d, treatment = "tt", outcome = "y", set = "w"}
+                 return r
+               end, "estimate: treatment: no column 'tt'; did you mean 't'?")
+  eq(msg:find("'_estimate'", 1, true), nil, "no primitive's name in " .. msg)
+  eq(msg:find("test_estimate.lua", 1, true) ~= nil, true, "the user's line in " .. msg)
+  raises(function() return estimate{data = d, treatment = "t", outcome = "y", set = {"w", "vv"}} end,
+         "estimate: set: no column 'vv'; did you mean 'v'?")
+  raises(function() return ols{data = d, y = "yy", x = "t"} end, "ols: y: no column 'yy'; did you mean 'y'?")
+end)
+
+-- A ratio of means with a control mean at or below zero has no meaning
+-- (its sign flips with the coding of the outcome).  Data by hand: y is 2, 3,
+-- 4, 3 among the controls (mean 3) and 5, 6, 7, 6 among the treated (mean
+-- 6), so y - 4 has means -1 and 2.
+test("a ratio scale with a negative control mean is refused", function()
+  local e = d:with_column("yneg", (function()
+    local v = {}
+    for i = 1, #d do v[i] = d.y[i] - 4 end
+    return v
+  end)())
+  raises(function() return estimate{data = e, treatment = "t", outcome = "yneg", set = {}, scale = "ratio"} end,
+         "estimate: scale = \"ratio\" needs positive mean outcomes", "the mean of 'yneg' is -1 under control and 2 under treatment",
+         "use scale = \"difference\"")
+  -- y itself: means 3 (control) and 6 (treated), ratio 2 by hand
+  local r = estimate{data = d, treatment = "t", outcome = "y", set = {}, scale = "ratio"}
+  eq(math.abs(r.estimate - 2) < 1e-12, true, "ratio of positive means")
+end)
+
+test("balance refuses a covariate that is the treatment", function()
+  raises(function() return balance{data = d, treatment = "t", set = {"w", "t"}} end,
+         "balance: set = holds the treatment 't': a covariate cannot be the treatment")
+  local e = d:with_column("t_copy", d.t:values())
+  raises(function() return balance{data = e, treatment = "t", set = {"w", "t_copy"}} end,
+         "balance: the covariate 't_copy' takes one value among the treated and another among the controls")
+  local f = d:with_column("t_scaled", (function()
+    local v = {}
+    for i = 1, #d do v[i] = 10 * d.t[i] + 5 end
+    return v
+  end)())
+  raises(function() return balance{data = f, treatment = "t", set = {"t_scaled"}} end,
+         "'t_scaled' takes one value among the treated")
+  raises(function() return overlap{data = d, treatment = "t", set = "w", bins = 0 / 0} end,
+         "overlap: bins = nan must be a whole number from 1 to 1000")
+end)

@@ -225,3 +225,42 @@ test("simulate, effect and limit name their options", function()
   raises(function() return m:limit("a", "c", {}, {seed = 1.5}) end, "limit: seed = 1.5 must be a whole number")
   raises(function() return m:limit("a", "c", {}, {draw = 10}) end, "limit: unknown option 'draw'; did you mean 'draws'?")
 end)
+
+-- Issue 9: compare{sets = "z"} was ignored (ipairs over a string) and
+-- compare{truth = 0/0} failed while printing ("table index is NaN").
+test("compare checks every option", function()
+  local g = graph "z -> x -> y; z -> y; w -> y"
+  local m = sem(g, {}, {default = 0.5})
+  local d = m:simulate(400, {seed = 5})
+  local function cmp(extra)
+    local a = {data = d, graph = g, treatment = "x", outcome = "y", boot = 0}
+    for k, v in pairs(extra) do a[k] = v end
+    return compare(a)
+  end
+  local c = cmp{sets = "w"}
+  local byset = {}
+  for _, r in ipairs(c) do byset[r.set_text] = r end
+  eq(byset["{w}"] ~= nil and byset["{w}"].label, "yours", "a single name is one set of one node")
+  eq(byset["{w}"].valid, false, "{w} leaves the back door through z open")
+  c = cmp{sets = {"w", {"w", "z"}}}
+  byset = {}
+  for _, r in ipairs(c) do byset[r.set_text] = r end
+  eq(byset["{w}"].label, "yours"); eq(byset["{w, z}"].label, "all covariates, optimal, yours")  -- O(x, y) = {w, z}: the parents of y but x
+  raises(function() return cmp{sets = "ww"} end, "compare: sets: no node 'ww' in the graph; did you mean 'w'?")
+  raises(function() return cmp{sets = 3} end, "compare: sets = must be a node name or a list of sets")
+  raises(function() return cmp{sets = {{"w", 2}}} end, "compare: sets = item 1 holds 2, not a node name")
+  raises(function() return cmp{truth = 0 / 0} end, "compare: truth = nan must be a finite number")
+  raises(function() return cmp{truth = -1 / 0} end, "compare: truth = -inf")
+  raises(function() return cmp{truth = "0.5"} end, "compare: truth = must be a number or a model")
+  raises(function() return cmp{treatment = "xx"} end, "compare: treatment: no column 'xx'; did you mean 'x'?")
+  raises(function() return cmp{methd = "ipw"} end, "compare: unknown argument 'methd'; did you mean 'method'?")
+  raises(function() return cmp{method = "ipv"} end, "did you mean 'ipw'?")
+  raises(function() return cmp{boot = 2.5} end, "compare: boot = 2.5 must be a whole number")
+  raises(function() return cmp{level = 0 / 0} end, "compare: level = nan")
+  raises(function() return cmp{seed = 0 / 0} end, "compare: seed = nan")
+  raises(function() return cmp{threads = 1.5} end, "compare: threads = 1.5")
+  raises(function() return cmp{graph = 3} end, "compare: graph = must be a graph")
+  raises(function() return cmp{plot = true} end, "compare: plot = must be a file name")
+  raises(function() return cmp{estimand = "ATX"} end, "compare: estimand = \"ATX\" is not one of ATE, ATT, ATC")
+  eq(tostring(cmp{truth = 0.5}):find("truth 0.5000", 1, true) ~= nil, true, "a finite truth prints")
+end)
