@@ -28,7 +28,11 @@ H.entries = {
 (a and b share a hidden common cause), chains `a -> b -> c`, lists
 `a, b -> c`, `hidden u, v` (never measured), a name alone for an isolated
 node, "quoted names" for spaces or any UTF-8. Statements end at a newline
-or `;`; `#` starts a comment. Errors give the line and column with a caret.]],
+or `;`; `#` starts a comment. Errors give the line and column with a caret.
+A bare name may not hold a character that prints as nothing or a blank
+(zero-width space, no-break space, direction marks, a byte-order mark past
+the start): quote it, or write it as \u{200B} inside the quotes, which is
+also how tostring(g) shows it.]],
     example = [=[g = graph [[
   rain -> soil -> yield
   rain -> yield
@@ -111,8 +115,8 @@ alphabetically first such order, so it is the same on every run.]],
 arrowhead into x) or "noncausal". Given a set, open tells whether the trail
 is open; a blocked trail names its first blocking node and why: a
 non-collider in the set, or a collider with neither itself nor a descendant
-in the set. <-> counts as two arrowheads. limit (default 10000) stops the
-listing with a note.]],
+in the set. <-> counts as two arrowheads. limit (a whole number, default
+10000) stops the listing with a note; an unknown option is an error.]],
     example = [[g:trails("mulch", "harvest", {given = {"slope"}})]] },
   { name = "g:count_trails", topic = "adjust",
     brief = "Count the trails without listing them",
@@ -151,8 +155,9 @@ g:admissible.]],
     returns = "list of sets",
     summary = [[Every minimal adjustment set for the effect of x on y, smallest first. Hidden
 nodes are never used; forbid keeps nodes out and require keeps nodes in
-(minimal among the sets that hold them). {} means no adjustment is needed;
-an empty list with .none says why no valid set exists.]],
+(minimal among the sets that hold them); limit (a whole number, default
+10000) stops the listing. {} means no adjustment is needed; an empty list
+with .none says why no valid set exists.]],
     example = [[g:adjust("mulch", "harvest", {forbid = {"tree age"}})]] },
   { name = "g:optimal", topic = "adjust",
     brief = "The optimal adjustment set O(X, Y)",
@@ -169,8 +174,8 @@ from the treatment.]],
     sig = "g:cheapest(x, y, costs)",
     returns = "a set and its total cost, or nil and why",
     summary = [[The adjustment set of least total cost, by a minimum cut; costs is a table of
-node = cost (default 1 each, so the smallest set). Use it when some
-covariates are expensive or unreliable to measure.]],
+node = cost (a number from 0 to 1e15; default 1 each, so the smallest
+set). Use it when some covariates are expensive or unreliable to measure.]],
     example = [[g:cheapest("mulch", "harvest", {slope = 5})]] },
   { name = "ols", topic = "estimate",
     sig = "ols{data=, y=, x={...}}",
@@ -202,10 +207,12 @@ the optimal set of graph, which is printed with the reason). method:
 covariate interactions, linear or logistic), "ipw" (normalised weights;
 stabilized = true, truncate = {1, 99}) or "aipw" (doubly robust, with its
 influence-function SE). estimand "ATE", "ATT" or "ATC"; scale "difference",
-"ratio" or "odds ratio"; contrast = d for a continuous treatment.
-boot = B gives a bootstrap (level = 0.95, seed =), identical for a seed
-whatever the number of threads. The estimate is only as good as the graph
-and the no-unmeasured-confounding assumption behind it.]],
+"ratio" (of means, which must both be positive) or "odds ratio";
+contrast = d (finite, not 0) for a continuous treatment. boot = B gives a
+bootstrap (level strictly between 0 and 1, default 0.95; seed = a whole
+number), identical for a seed whatever the number of threads. The
+estimate is only as good as the graph and the no-unmeasured-confounding
+assumption behind it.]],
     example = [[estimate{data = plots, treatment = "mulch", outcome = "harvest",
          graph = g, method = "aipw", boot = 500, seed = 7}]] },
   { name = "balance", topic = "estimate",
@@ -214,7 +221,9 @@ and the no-unmeasured-confounding assumption behind it.]],
     returns = "a table of standardized mean differences",
     summary = [[The standardized mean difference of each covariate between treated and
 control, before and after inverse probability weighting; |SMD| > 0.1 is
-flagged (common practice; Austin 2009).]],
+flagged (common practice; Austin 2009). A covariate that is the treatment,
+or that takes one value among the treated and another among the controls,
+is an error: its SMD is not defined.]],
     example = [[balance{data = plots, treatment = "mulch", set = {"slope", "tree age"}}]] },
   { name = "overlap", topic = "estimate",
     sig = "overlap{data=, treatment=, set= | graph=, plot=}",
@@ -233,8 +242,9 @@ coefficient, keyed as in the notation (["rain -> soil"] = 0.5; opts.default
 fills the rest). opts: intercept = {node = value}, sd = {node = value} (the
 noise SD, default 1), cov = {["a <-> b"] = value} for each <-> edge (the
 error covariance must be positive definite), binarize = {node = cut},
-binary = {node, ...} (a logistic link). Hidden nodes take part in the model
-and are left out of simulated data.]],
+binary = {node, ...} (a logistic link). Every value must be a finite
+number, and an unknown option is an error. Hidden nodes take part in the
+model and are left out of simulated data.]],
     example = [=[m = sem(g, {["mulch -> harvest"] = 1.5}, {default = 0.4, sd = {harvest = 2}})]=] },
   { name = "m:effect", topic = "model",
     sig = "m:effect(x, y, {draws=, seed=})",
@@ -263,10 +273,11 @@ large-sample bias of each adjustment set, with no sampling at all.]],
     sig = "m:simulate(n, {seed=, binarize=, threads=})",
     brief = "Simulated data from the model",
     returns = "a data frame of the observed nodes",
-    summary = [[n rows drawn with GSL's generators, identical for a seed on any machine and
-any number of threads. binarize = {node = cut} turns the node into 1 above
-the cut and 0 otherwise before its children see it (and the model then
-describes binarized data: m:effect and m:limit need draws =).]],
+    summary = [[n rows (a whole number from 1 to 10^9) drawn with GSL's generators,
+identical for a seed on any machine and any number of threads (threads =
+0 uses every core). binarize = {node = cut} (a finite cut) turns the node
+into 1 above the cut and 0 otherwise before its children see it (and the
+model then describes binarized data: m:effect and m:limit need draws =).]],
     example = [[d = m:simulate(10000, {seed = 42, binarize = {mulch = 0}})]] },
   { name = "m:graph", topic = "model",
     sig = "m:graph()",
@@ -288,9 +299,10 @@ describes binarized data: m:effect and m:limit need draws =).]],
 covariates, every minimal set, the optimal set, and the sets you add. For
 each: whether the graph deems it valid (with the reason when not), the
 estimate and its interval (method as in estimate{}; boot defaults to 200
-for standardize), the error in percent of the truth (a number, or a model
-from sem()), and for a linear model m:limit. plot = "file.svg" draws the
-forest plot with the truth as a reference line.]],
+for standardize), the error in percent of the truth (a finite number, or a
+model from sem()), and for a linear model m:limit. sets = "z" adds one
+set; sets = {"z", {"z", "w"}} adds a set per item. plot = "file.svg"
+draws the forest plot with the truth as a reference line.]],
     example = [[compare{data = d, truth = m, treatment = "mulch", outcome = "harvest", plot = "sets.svg"}]] },
   { name = "g:show", topic = "picture",
     sig = "g:show()",
