@@ -10,8 +10,7 @@ local R = {}
 
 local S = require "sluice.session"
 local P = require "sluice.print"
-local T = package.preload["sluice.logtext"] and require "sluice.logtext"
-  or {parse = S.parse, escape = function(l) return l end, entry_text = S._entry_text}  -- SHIM
+local T = require "sluice.logtext"
 
 -- Captured now, before any replayed code runs: a log that patches the
 -- string library in its own environment cannot reach these.

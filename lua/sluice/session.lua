@@ -9,6 +9,7 @@ local S = {}
 
 local M, hooks            -- the module and the hooks table, set by install
 local P = require "sluice.print"
+local T = require "sluice.logtext"
 
 local stdout = io.stdout
 local file_methods = getmetatable(io.stdout).__index
@@ -96,45 +97,9 @@ local function error_text(e)
   return "(error object is a " .. type(e) .. " value)"
 end
 
--- ---- the log's text ----
+-- ---- the log's text (sluice.logtext) ----
 
-local function header_lines(version, started)
-  return {"--@ sluice " .. version .. " session log", "--@ started " .. started,
-          "--@ " .. _VERSION:lower()}
-end
-
--- Prefix each line of lines, and the error lines, into out.
-local function output_lines(out, e)
-  for _, l in ipairs(e.out) do
-    out[#out + 1] = l == "" and "--|" or "--| " .. l
-  end
-  for _, d in ipairs(e.data) do
-    out[#out + 1] = string.format("--@ data %s %d %s", d.path, d.bytes, d.sha256)
-  end
-  for _, p in ipairs(e.pictures) do out[#out + 1] = "--@ picture " .. p end
-end
-
--- The text of one entry in the log.
-local function entry_text(e)
-  local out = {}
-  if e.skip then
-    out[1] = string.format("--@ in %d skipped: %s", e.n, e.skip)
-    for l in (e.typed .. "\n"):gmatch("(.-)\n") do out[#out + 1] = "--> " .. l end
-  else
-    out[1] = string.format("--@ in %d%s", e.n, e.expr and " show" or "")
-    out[2] = e.code
-  end
-  output_lines(out, e)
-  return table.concat(out, "\n") .. "\n"
-end
-
--- The code written for a typed expression: show(...) around it.
-local function show_code(typed)
-  if typed:find("\n", 1, true) or typed:find("--", 1, true) then
-    return "show(" .. typed .. "\n)"
-  end
-  return "show(" .. typed .. ")"
-end
+local header_lines, entry_text, show_code = T.header_lines, T.entry_text, T.show_code
 
 -- Append text to the log and make it durable.
 local function log_append(text)
@@ -353,86 +318,7 @@ end
 
 -- ---- reading a log ----
 
-local function version_newer(a, b)   -- is version a newer than b?
-  local function parts(v) local t = {} for d in v:gmatch("%d+") do t[#t + 1] = tonumber(d) end return t end
-  local x, y = parts(a), parts(b)
-  for i = 1, math.max(#x, #y) do
-    local p, q = x[i] or 0, y[i] or 0
-    if p ~= q then return p > q end
-  end
-  return false
-end
-
--- Parse the text of a log: {head = {lines}, version=, entries = {...}} or
--- nil and a message.
-function S.parse(text, name)
-  local lines = {}
-  for l in text:gmatch("([^\n]*)\n") do lines[#lines + 1] = l end
-  local tail = text:match("[^\n]+$")
-  local res = {head = {}, entries = {}, truncated = tail ~= nil}
-  if tail then lines[#lines + 1] = tail end
-  local v = (lines[1] or ""):match("^%-%-@ sluice (%S+) session log$")
-  if not v then
-    return nil, name .. ":1: not a sluice session log (the first line should be "
-                .. "'--@ sluice VERSION session log')"
-  end
-  res.version = v
-  local i = 1
-  while lines[i] and not lines[i]:match("^%-%-@ in %d+") do
-    res.head[#res.head + 1] = lines[i]; i = i + 1
-  end
-  -- a log appended to by a later session holds its header again: drop it
-  local kept, nums, fresh_at = {}, {}, {}
-  for j, l in ipairs(lines) do
-    local again = l:match("^%-%-@ sluice (%S+) session log$")
-    if j < i or not (again or l:match("^%-%-@ started ") or l:match("^%-%-@ lua ")) then
-      kept[#kept + 1] = l
-      nums[#kept] = j
-    else
-      if again and version_newer(again, res.version) then res.version = again end
-      if again then fresh_at[#kept + 1] = true end
-    end
-  end
-  lines = kept
-  while lines[i] do
-    local n, rest = lines[i]:match("^%-%-@ in (%d+)(.*)$")
-    local e = {n = tonumber(n), line = nums[i], new_session = fresh_at[i], body = {}, out = {}, data = {}, pictures = {}}
-    e.expr = rest == " show"
-    e.skip = rest:match("^ skipped: (.*)$")
-    i = i + 1
-    while lines[i] and not lines[i]:match("^%-%-@ in %d+") do
-      e.body[#e.body + 1] = lines[i]; i = i + 1
-    end
-    -- the metadata is the run of "--|" and "--@ " lines at the end
-    local k = #e.body
-    while k >= 1 and (e.body[k]:match("^%-%-|") or e.body[k]:match("^%-%-@ ")) do k = k - 1 end
-    local code = {}
-    for j = 1, k do code[#code + 1] = e.body[j] end
-    for j = k + 1, #e.body do
-      local l = e.body[j]
-      if l:match("^%-%-|") then
-        e.out[#e.out + 1] = l:match("^%-%-| ?(.*)$")
-      else
-        local p, b, h = l:match("^%-%-@ data (.+) (%d+) (%x+)$")
-        if p then e.data[#e.data + 1] = {path = p, bytes = tonumber(b), sha256 = h} end
-        local pic = l:match("^%-%-@ picture (.+)$")
-        if pic then e.pictures[#e.pictures + 1] = pic end
-      end
-    end
-    e.code = table.concat(code, "\n")
-    if e.skip then
-      local typed = {}
-      for _, l in ipairs(code) do typed[#typed + 1] = l:match("^%-%-> ?(.*)$") or l end
-      e.typed = table.concat(typed, "\n")
-    elseif e.expr then
-      e.typed = e.code:match("^show%((.*)\n%)$") or e.code:match("^show%((.*)%)$") or e.code
-    else
-      e.typed = e.code
-    end
-    res.entries[#res.entries + 1] = e
-  end
-  return res
-end
+S.parse = T.parse
 
 -- ---- report ----
 

@@ -83,7 +83,7 @@ def run(exe, data, tmp):
     if s.wait_exit("the session ends") != 0:
         fail("Ctrl-D leaves", "non-zero status")
     text = open(logpath, encoding="utf-8").read()
-    for want in ("--@ sluice ", "--@ started ", "--@ in 1\nx = 41\n", "show(x + 1)\n--| 42\n",
+    for want in ("--@ sluice ", "--@ started ", "--@ in 1 (1 line)\nx = 41\n", "show(x + 1)\n--| 42\n",
                  "--| rows\t42\n", "--@ data plots.csv 177 ", "--| error: ",
                  "--| row 1\n--| row 2\n"):
         if want not in text:
@@ -148,7 +148,7 @@ def kill_test(exe, env, tmp):
     os.kill(s.pid, signal.SIGKILL)
     os.waitpid(s.pid, 0)
     text = open(os.path.join(tmp, log), encoding="utf-8").read()
-    for want in ("--@ in 1\na = 6\n", "show(a * 7)\n--| 42\n", "--| orchard 6\n",
+    for want in ("--@ in 1 (1 line)\na = 6\n", "show(a * 7)\n--| 42\n", "--| orchard 6\n",
                  "for k = 1, 3 do\nprint(k)\nend\n--| 1\n--| 2\n--| 3\n"):
         if want not in text:
             fail("the killed session's log holds every finished command",
