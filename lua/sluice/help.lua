@@ -367,7 +367,8 @@ libcmark, pictures inlined). In a replay the path must be inside --out.]],
     sig = "exercise{graph=, model=, treatment=, outcome=, n=, seed=, dir=, scenario=}",
     brief = "A teaching kit: data, graph, handout and answer key",
     returns = "a table of the files written",
-    summary = [[For teaching: writes into dir (made when missing) data.csv simulated from the
+    summary = [[For teaching: writes into dir (made, with any missing folders above it)
+data.csv simulated from the
 model (m:simulate(n, {seed = seed})), graph.svg, handout.md (the scenario,
 the graph in notation, questions on which sets are valid and what each
 candidate set estimates) and key.md (the answers computed by sluice: the

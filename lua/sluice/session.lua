@@ -467,9 +467,17 @@ function S.exercise(o)
   local order = g:order()
   local x, y = o.treatment or order[1], o.outcome or order[#order]
   if guard then guard(dir .. "/handout.md", "exercise") end
-  if hooks.mkdir then
-    local ok, err = hooks.mkdir(dir)
-    if not ok then error("exercise: " .. err, 2) end
+  if hooks.mkdir then   -- the folder and any missing folders above it
+    local at = 1
+    repeat
+      local slash = dir:find("/", at + 1, true)
+      local part = slash and dir:sub(1, slash - 1) or dir
+      if part ~= "" and part ~= "." then
+        local ok, err = hooks.mkdir(part)
+        if not ok then error("exercise: " .. err, 2) end
+      end
+      at = slash
+    until not slash
   end
   local d = m:simulate(n, {seed = seed})
   d:write_csv(dir .. "/data.csv")

@@ -162,4 +162,43 @@ printf 'x\n' | "$exe" -q -i --log two.lua > /dev/null 2>&1
 "$exe" --replay two.lua > out.txt 2>&1 || fail "a log of two sessions replays, each afresh"
 has "3 commands: 3 matched, 0 differed" "both sessions' commands match"
 ok "a log appended to by a second session replays each session afresh"
+# ---- writers in the sandbox: a new folder beneath --out, log(), tmpname ----
+rm -rf out2; mkdir out2
+cat > writers.lua <<LOG
+$head3
+--@ in 1
+g = graph "rain -> yield"; m = sem(g, {["rain -> yield"] = 1})
+--@ in 2
+kit = exercise{graph = g, model = m, dir = "out2/new/kit", n = 20}
+--@ in 3 show
+show(log("out2/inside-log.lua") ~= nil)
+--| true
+--@ in 4
+log("outside-log.lua")
+--@ in 5
+os.tmpname()
+LOG
+"$exe" --replay writers.lua --out out2 > out.txt 2>&1
+[ -f out2/new/kit/key.md ] || fail "exercise may make new folders beneath --out"
+[ -f out2/inside-log.lua ] || fail "log(path) beneath --out starts a log there"
+[ -e outside-log.lua ] && fail "log(path) outside --out writes nothing"
+has "in 2: ok" "exercise beneath --out is not blocked"
+has "blocked: in 4: log(\"outside-log.lua\") writes outside --out out2" "log() outside is named"
+has "blocked: in 5: os.tmpname" "os.tmpname is blocked"
+ok "exercise into a new folder beneath --out; log() and os.tmpname in the sandbox"
+
+# ---- logs that are not plain files, and a log saved with CRLF ----
+"$exe" --replay . > out.txt 2>&1
+[ $? = 1 ] || fail "a folder as the log exits 1"
+has "cannot read the log: .: a directory, not a file" "a folder is named as such"
+"$exe" --replay /dev/zero > out.txt 2>&1
+[ $? = 1 ] || fail "a device as the log exits 1"
+has "/dev/zero: not a regular file" "a device is refused at once"
+mkfifo fifo.lua
+timeout 20 "$exe" --replay fifo.lua > out.txt 2>&1
+[ $? = 1 ] || fail "a FIFO as the log is refused, not waited on"
+sed 's/$/\r/' script.lua > crlf.lua
+"$exe" --replay crlf.lua > out.txt 2>&1 || fail "a log saved with CRLF line ends replays"
+has "2 commands: 2 matched, 0 differed" "the CRLF log matches"
+ok "a folder, a device or a FIFO as the log is refused; a CRLF log replays"
 echo "$n passed, 0 failed"
