@@ -51,6 +51,13 @@ if [ "${SECTION:-}" = model ]; then
   echo "bench: done"
   exit $fail
 fi
+# SECTION=log: only the session-log and replay figures (10).
+if [ "${SECTION:-}" = log ]; then
+  row "figure" "sluice" "baseline" "ratio" "what" ""
+  eval "$(sed -n '/^# ---- 10: the session log/,/^# ---- end of 10/p' bench/run.sh)"
+  echo "bench: done"
+  exit $fail
+fi
 # SECTION=estimate: only the estimator benchmarks (section 8, at the end).
 if [ "${SECTION:-}" = estimate ]; then
   row "figure" "sluice" "target" "vs target" "reference" "vs ref"
@@ -428,7 +435,8 @@ if [ -x "$B/sluice" ]; then
 fi
 # ---- 10: the session log ----
 # Per-command overhead of the log at the prompt (target: under 1 ms plus the
-# fsync), and the replay of a 1 000-command log.
+# fsync), the replay of a 1 000-command log beside the same log run as a
+# script, the fixed cost of the confined child, and the log parser.
 if [ -x "$B/sluice" ]; then
   lg_dir=$(mktemp -d)
   i=0; : > "$lg_dir/in.lua"
@@ -437,9 +445,37 @@ if [ -x "$B/sluice" ]; then
   "$B/sluice" -q -i --log "$lg_dir/s.lua" < "$lg_dir/in.lua" > /dev/null 2>&1; lg_t2=$(date +%s.%N)
   lg_per=$(awk -v a="$lg_t0" -v b="$lg_t1" -v c="$lg_t2" 'BEGIN { print ((c - b) - (b - a)) / 1000 }')
   row "log overhead per command" "$(tms "$lg_per")" "1 ms" "$(ratio "$lg_per" 0.001)" "(includes the fsync)" ""
+  # replay: sandboxed, trusted, and the same log run as a plain script (the
+  # baseline: the same Lua work with no capture, no child, no sandbox)
+  el() { awk -v a="$1" -v b="$2" 'BEGIN { print b - a }'; }
   lg_t3=$(date +%s.%N); "$B/sluice" --replay "$lg_dir/s.lua" > /dev/null 2>&1 || failed "replay of the 1000-command log"
-  lg_t4=$(date +%s.%N)
-  row "replay of a 1000-command log" "$(secs "$(awk -v a="$lg_t3" -v b="$lg_t4" 'BEGIN { print b - a }')")" "-" "-" "-" "-"
+  lg_t4=$(date +%s.%N); "$B/sluice" --replay "$lg_dir/s.lua" --trust > /dev/null 2>&1 || failed "trusted replay"
+  lg_t5=$(date +%s.%N); "$B/sluice" "$lg_dir/s.lua" > /dev/null 2>&1 || failed "the log as a script"
+  lg_t6=$(date +%s.%N)
+  lg_sb=$(el "$lg_t3" "$lg_t4"); lg_tr=$(el "$lg_t4" "$lg_t5"); lg_sc=$(el "$lg_t5" "$lg_t6")
+  row "replay of a 1000-command log" "$(secs "$lg_sb")" "$(secs "$lg_sc")" "$(ratio "$lg_sb" "$lg_sc")" "baseline: sluice LOG (no checks)" ""
+  row "  the same, --trust (no sandbox)" "$(secs "$lg_tr")" "$(secs "$lg_sb")" "$(ratio "$lg_tr" "$lg_sb")" "baseline: the sandboxed replay" ""
+  # the fixed cost of the child and its confinement, on a one-command log
+  printf -- '--@ sluice 0.1.0 session log\n--@ started 2026-01-01T00:00:00Z\n--@ lua 5.4\n--@ in 1 show (1 line)\nshow(1)\n--| 1\n' > "$lg_dir/one.lua"
+  lg_t7=$(date +%s.%N); for k in 1 2 3 4 5 6 7 8 9 10; do "$B/sluice" --replay "$lg_dir/one.lua" > /dev/null 2>&1; done
+  lg_t8=$(date +%s.%N); for k in 1 2 3 4 5 6 7 8 9 10; do "$B/sluice" -e 'print(1)' > /dev/null 2>&1; done
+  lg_t9=$(date +%s.%N)
+  lg_one=$(awk -v a="$lg_t7" -v b="$lg_t8" 'BEGIN { print (b - a) / 10 }')
+  lg_st=$(awk -v a="$lg_t8" -v b="$lg_t9" 'BEGIN { print (b - a) / 10 }')
+  row "replay of a one-command log" "$(tms "$lg_one")" "$(tms "$lg_st")" "$(ratio "$lg_one" "$lg_st")" "baseline: sluice -e (start-up)" ""
+  # the log parser is linear: 100 000 entries, and a 40 KB last line
+  lg_pp=$(SLUICE_NOW=1 "$B/sluice" -e '
+    local T = require "sluice.logtext"
+    local t = {"--@ sluice 0.1.0 session log", "--@ started 2026-01-01T00:00:00Z", "--@ lua 5.4"}
+    for i = 1, 100000 do t[#t + 1] = "--@ in " .. i .. " (1 line)"; t[#t + 1] = "x = " .. i; t[#t + 1] = "--| " .. i end
+    local text = table.concat(t, "\n") .. "\n"
+    local c0 = os.clock(); assert(T.parse(text, "b")); local c1 = os.clock()
+    local tail = table.concat(t, "\n", 1, 6) .. "\n--| " .. string.rep("y", 40000)
+    assert(T.parse(tail, "b")); local c2 = os.clock()
+    print(string.format("%.6f %.6f %d", c1 - c0, c2 - c1, #text))') || failed "log parser"
+  set -- $lg_pp
+  row "parse a 100 000-entry log" "$(secs "$1")" "-" "-" "$(awk -v b="$3" -v t="$1" 'BEGIN { printf "%.0f MB/s", b / t / 1e6 }')" "linear"
+  row "parse a log with a 40 KB last line" "$(tms "$2")" "-" "-" "-" "(was 32 s: quadratic)"
   rm -rf "$lg_dir"
 fi
 # ---- end of 10 ----
