@@ -352,11 +352,11 @@ function R.replay(o)
   local text, log_id = read_log(o.log)
   if not text then return 1 end
   local parsed, perr = T.parse(text, o.log)
-  if not parsed then say("sluice: ", perr, "\n") return 1 end
+  if not parsed then say("sluice: ", T.escape(perr), "\n") return 1 end
   if version_newer(parsed.version, M.version) then
     say(format("sluice: %s was written by sluice %s, newer than this sluice %s; "
-               .. "replay it with sluice %s or later\n", o.log, parsed.version,
-               M.version, parsed.version))
+               .. "replay it with sluice %s or later\n", o.log, T.escape(parsed.version),
+               M.version, T.escape(parsed.version)))
     return 1
   end
   if o.out and hooks.file_kind(o.out) ~= "directory" then
@@ -428,7 +428,7 @@ function R.replay(o)
       if at and not shown then
         shown = true
         say(format("  line %d of its output:\n    expected: %s\n    got:      %s\n", at,
-                   e.out[at] or "(nothing)", got[at] or "(nothing)"))
+                   e.out[at] and T.escape(e.out[at]) or "(nothing)", got[at] or "(nothing)"))
       end
       for _, b in ipairs(r.blocked) do
         blocked_all = blocked_all + 1
