@@ -10,6 +10,7 @@
 ** Type inference is described in frame.h.
 */
 #include <errno.h>
+#include <limits.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -395,11 +396,13 @@ done:
 
 /* ---- writing ---- */
 
-/* Write text as a CSV field, quoted when it must be. */
+/* Write text as a CSV field, quoted when it must be: a delimiter, quote or
+** line end inside, a space libcsv would trim at an edge, or a byte-order
+** mark at the start, which the reader drops at the start of a file. */
 static void put_text(FILE *fp, const char *s) {
   size_t n = strlen(s);
   int quote = n > 0 && (s[0] == ' ' || s[0] == '\t' || s[n - 1] == ' ' || s[n - 1] == '\t');
-  if (!quote) quote = strpbrk(s, ",;\t\"\r\n") != NULL;
+  if (!quote) quote = strpbrk(s, ",;\t\"\r\n") != NULL || strncmp(s, "\xEF\xBB\xBF", 3) == 0;
   if (!quote) { fputs(s, fp); return; }
   fputc('"', fp);
   for (; *s; s++) {
@@ -419,7 +422,40 @@ static void put_number(FILE *fp, double x) {
   fputs(buf, fp);
 }
 
+/* Whether the reader takes text s for a missing value: an empty cell, a
+** missing-value token, or a spelling of NaN that strtod reads. */
+static int reads_missing(const char *s) {
+  reader none;
+  memset(&none, 0, sizeof none);
+  size_t n = strlen(s);
+  double v;
+  return is_missing(&none, s, n) || (parse_number(s, n, &v) && isnan(v));
+}
+
+/* A text that would come back as a missing value cannot be written: the
+** error names its column and first row. */
+static int check_texts(const sl_frame *f, sl_error *e) {
+  for (size_t j = 0; j < f->ncol; j++) {
+    const sl_column *c = &f->col[j];
+    size_t bad = 0;
+    for (size_t k = 0; c->type == SL_CATEGORICAL && k < c->nlevels; k++)
+      bad += reads_missing(c->levels[k]) != 0;
+    for (size_t i = 0; bad > 0 && i < f->nrow; i++) {   /* the first row using one */
+      if (c->code[i] < 0 || !reads_missing(c->levels[c->code[i]])) continue;
+      char cell[64];
+      const char *t = c->levels[c->code[i]];
+      sl_cell_excerpt(t, strlen(t), cell, sizeof cell);
+      return sl_error_set(e, SL_EARG, (int)(i + 1 < INT_MAX ? i + 1 : 0), (int)j + 1,
+                          "column '%s', row %zu: the text '%s' would read back as a missing "
+                          "value (empty, NA, NaN and . are missing in a CSV file)", c->name,
+                          i + 1, cell);
+    }
+  }
+  return SL_OK;
+}
+
 int sl_csv_write(const sl_frame *f, const char *path, sl_error *e) {
+  if (check_texts(f, e) != SL_OK) return e->code;
   FILE *fp = fopen(path, "wb");
   if (!fp) return sl_error_set(e, SL_EIO, 0, 0, "cannot write '%s': %s", path, strerror(errno));
   for (size_t j = 0; j < f->ncol; j++) {
@@ -431,9 +467,10 @@ int sl_csv_write(const sl_frame *f, const char *path, sl_error *e) {
     for (size_t j = 0; j < f->ncol; j++) {
       const sl_column *c = &f->col[j];
       if (j) fputc(',', fp);
-      if (c->type == SL_NUMERIC) {
-        if (!isnan(c->x[i])) put_number(fp, c->x[i]);
-      } else if (c->code[i] >= 0) put_text(fp, c->levels[c->code[i]]);
+      if (c->type == SL_NUMERIC && !isnan(c->x[i])) put_number(fp, c->x[i]);
+      else if (c->type == SL_CATEGORICAL && c->code[i] >= 0)
+        put_text(fp, c->levels[c->code[i]]);
+      else if (f->ncol == 1) fputs("\"\"", fp);   /* a blank line would be skipped */
     }
     fputc('\n', fp);
   }

@@ -99,8 +99,14 @@ typedef struct sl_read_report {
 sl_frame *sl_csv_read(const char *path, const sl_csv_opts *opts, sl_read_report *rep,
                       sl_error *e);
 /* Write f with a header row: numbers in the shortest "%.15g".."%.17g" form
-** that reads back to the same double, missing as an empty field, text
-** quoted when it holds a comma, quote, line break or edge space. */
+** that reads back to the same double, missing as an empty field ("" when f
+** has one column, so that no line is blank), text quoted when it holds a
+** delimiter, quote, line break or edge space or starts with a byte-order
+** mark.  sl_csv_read gives back the same frame, but for levels no row uses
+** and a categorical column whose texts all read as numbers (it comes back
+** numeric, as any file of numbers does).  A text that would read back as
+** missing (empty, NA, NaN, "." or a spelling of NaN) is an error naming
+** its column and row, and nothing is written. */
 int sl_csv_write(const sl_frame *f, const char *path, sl_error *e);
 typedef struct sl_sql_opts {
   size_t limit;                /* most rows to read; 0: SL_SQL_MAX_ROWS */

@@ -319,3 +319,22 @@ test("read_csv: a NUL byte in the header is an error naming row and column", fun
   raises(function() read_csv(path) end, ", row 1, column 1: a NUL byte in the header (is this a text file?)")
   os.remove(path)
 end)
+
+-- A one-column frame {1, nil, 3, nil, 5} was written with blank lines and
+-- read back as 3 rows (found by make fuzz).
+test("write_csv then read_csv keeps every row of a one-column frame", function()
+  local f = read_csv(D .. "orchard.csv"):with_column("v", {1, false, 3, false, 5, 6, false, 8})
+  local one = f:select{"v"}
+  local path = tmpname(".csv")
+  one:write_csv(path)
+  local g = read_csv(path)
+  eq(#g, 8, "rows")
+  same_values(g.v:values(), {1, false, 3, false, 5, 6, false, 8})
+  local t = f:with_column("w", {"a,b", false, 'say "hi"', false, "x\ny", false, false, "z"}):select{"w"}
+  t:write_csv(path)
+  same_values(read_csv(path).w:values(), {"a,b", false, 'say "hi"', false, "x\ny", false, false, "z"})
+  local na = f:with_column("grade", {"A", "B", "NA", "A", "B", "A", "A", "B"})
+  raises(function() na:write_csv(path) end,
+         "write_csv: column 'grade', row 3: the text 'NA' would read back as a missing value")
+  os.remove(path)
+end)
