@@ -637,33 +637,17 @@ static void push_or_nil(lua_State *L, double x) {
 }
 
 /* One statistic of a numeric column: the moments and extremes in one pass
-** (Welford's update for the variance), the median through
+** (sl_column_moments, as f:summary() has them), the median through
 ** sl_column_summary, which sorts. */
 static int col_stat(lua_State *L, const char *what) {
   size_t n;
   const sl_column *c = check_numeric(L, what, &n);
-  if (strcmp(what, "median") != 0) {
-    double mean = 0, m2 = 0, lo = INFINITY, hi = -INFINITY;
-    size_t k = 0;
-    for (size_t i = 0; i < n; i++) {
-      double x = c->x[i];
-      if (isnan(x)) continue;
-      k++;
-      double d = x - mean;
-      mean += d / (double)k;
-      m2 += d * (x - mean);
-      if (x < lo) lo = x;
-      if (x > hi) hi = x;
-    }
-    double v = k == 0 ? NAN : strcmp(what, "mean") == 0 ? mean
-             : strcmp(what, "sd") == 0 ? (k > 1 ? sqrt(m2 / (double)(k - 1)) : NAN)
-             : strcmp(what, "min") == 0 ? lo : hi;
-    push_or_nil(L, v);
-    return 1;
-  }
   sl_summary s;
-  sl_error e;
-  if (sl_column_summary(c, n, &s, &e) != SL_OK) return raise_err(L, what, &e);
+  if (strcmp(what, "median") != 0) sl_column_moments(c, n, &s);
+  else {
+    sl_error e;
+    if (sl_column_summary(c, n, &s, &e) != SL_OK) return raise_err(L, what, &e);
+  }
   double v = strcmp(what, "mean") == 0 ? s.mean : strcmp(what, "sd") == 0 ? s.sd
            : strcmp(what, "min") == 0 ? s.min : strcmp(what, "max") == 0 ? s.max : s.median;
   push_or_nil(L, v);
@@ -682,7 +666,7 @@ static int c_sum(lua_State *L) {
   double s = 0;
   for (size_t i = 0; i < n; i++)
     if (!isnan(c->x[i])) s += c->x[i];
-  lua_pushnumber(L, s);
+  push_or_nil(L, s);   /* nil for inf + -inf, as the mean */
   return 1;
 }
 

@@ -94,7 +94,20 @@ static int fast_decimal(const char *s, size_t n, double *v) {
   return 1;
 }
 
-/* Whether a cell (NUL-terminated, n bytes) reads fully as a number. */
+/* Whether a cell (NUL-terminated, n bytes) is a number beyond the range of
+** a double ("1e400"), which strtod would turn into an infinity. */
+static int too_large(const char *s, size_t n) {
+  char c = s[0] == '-' || s[0] == '+' ? s[1] : s[0];
+  if (!((c >= '0' && c <= '9') || c == '.') || memchr(s, 'x', n) || memchr(s, 'X', n))
+    return 0;
+  char *end;
+  double v = strtod(s, &end);
+  return end == s + n && isinf(v);
+}
+
+/* Whether a cell (NUL-terminated, n bytes) reads fully as a number within
+** the range of a double: "inf" is a number, "1e400" is not (a text, so
+** that it is kept as written or named in an error, never read as inf). */
 static int parse_number(const char *s, size_t n, double *v) {
   if (fast_decimal(s, n, v)) return 1;
   char c = s[0] == '-' || s[0] == '+' ? s[1] : s[0];
@@ -103,7 +116,7 @@ static int parse_number(const char *s, size_t n, double *v) {
   if (memchr(s, 'x', n) || memchr(s, 'X', n)) return 0;   /* no hexadecimal */
   char *end;
   *v = strtod(s, &end);
-  return end == s + n;
+  return end == s + n && !(isinf(*v) && c != 'i' && c != 'I');
 }
 
 /* Add a header name. */
@@ -339,8 +352,13 @@ static int read_pass(reader *r, unsigned char sha[32], uint64_t *bytes) {
 /* The error for a column of numbers with a few texts among them. */
 static void type_error(reader *r, size_t j) {
   const sl_bcol *c = &r->b.col[j];
-  fail_at(r, SL_EARG, c->first_line, (int)j + 1, " ('%s'): expected a number, found '%s' "
-          "(use {coerce = true} to read it as missing)", c->name, c->first_text);
+  if (too_large(c->first_text, strlen(c->first_text)))
+    fail_at(r, SL_EARG, c->first_line, (int)j + 1, " ('%s'): '%s' is beyond the range of a "
+            "number (about 1.8e308; write inf for an infinity, or use {coerce = true} to read "
+            "it as missing)", c->name, c->first_text);
+  else
+    fail_at(r, SL_EARG, c->first_line, (int)j + 1, " ('%s'): expected a number, found '%s' "
+            "(use {coerce = true} to read it as missing)", c->name, c->first_text);
 }
 
 /* Free what the reader holds. */

@@ -289,45 +289,101 @@ static int cmp_double(const void *a, const void *b) {
 }
 
 /* Quantile p of sorted v[0..n-1] by the type-7 rule: v[h] interpolated at
-** h = (n - 1) p (Hyndman and Fan 1996; R's default). */
+** h = (n - 1) p (Hyndman and Fan 1996; R's default).  An exact position
+** gives its value; next to an infinity the quantile is that infinity; the
+** span from -inf to inf has none (NaN). */
 static double quantile7(const double *v, size_t n, double p) {
   double h = (double)(n - 1) * p;
   size_t lo = (size_t)floor(h);
   if (lo + 1 >= n) return v[n - 1];
-  return v[lo] + (h - (double)lo) * (v[lo + 1] - v[lo]);
+  double a = v[lo], b = v[lo + 1], f = h - (double)lo;
+  if (f == 0 || a == b) return a;
+  if (isinf(a) && isinf(b)) return NAN;
+  if (isinf(a)) return a;
+  if (isinf(b)) return b;
+  double d = b - a;
+  return isfinite(d) ? a + f * d : (1 - f) * a + f * b;   /* d overflows near DBL_MAX */
 }
 
-int sl_column_summary(const sl_column *c, size_t nrow, sl_summary *s, sl_error *e) {
+/* Mean and sd (n - 1) of the n values of x that are not NaN, each times
+** scale: a sum, then a second pass that corrects its rounding. */
+static void scaled_moments(const double *x, size_t nx, size_t n, double scale, double *mean,
+                           double *sd) {
+  double sum = 0, dev = 0, ss = 0;
+  for (size_t i = 0; i < nx; i++)
+    if (!isnan(x[i])) sum += x[i] * scale;
+  double m = sum / (double)n;
+  for (size_t i = 0; i < nx; i++)
+    if (!isnan(x[i])) dev += x[i] * scale - m;
+  m += dev / (double)n;
+  for (size_t i = 0; i < nx; i++)
+    if (!isnan(x[i])) ss += (x[i] * scale - m) * (x[i] * scale - m);
+  *mean = m;
+  *sd = n > 1 ? sqrt(ss / (double)(n - 1)) : NAN;
+}
+
+/* Mean and sd of the values of x (NaN: missing).  Infinities are values:
+** the mean is the infinity when all are of one sign and NaN when both
+** occur; the sd is NaN.  Finite values near DBL_MAX whose sums overflow
+** are scaled by a power of two first (exact). */
+static void moments(const double *x, size_t nx, size_t n, double *mean, double *sd) {
+  size_t pos = 0, neg = 0;
+  double big = 0;
+  for (size_t i = 0; i < nx; i++) {
+    if (x[i] == INFINITY) pos++;
+    else if (x[i] == -INFINITY) neg++;
+    else if (fabs(x[i]) > big) big = fabs(x[i]);
+  }
+  *mean = *sd = NAN;
+  if (n == 0) return;
+  if (pos || neg) {
+    *mean = pos && neg ? NAN : pos ? INFINITY : -INFINITY;
+    return;
+  }
+  scaled_moments(x, nx, n, 1.0, mean, sd);
+  if (isfinite(*mean) && (n < 2 || isfinite(*sd))) return;
+  int ex;
+  frexp(big, &ex);
+  scaled_moments(x, nx, n, ldexp(1.0, -ex), mean, sd);
+  *mean = ldexp(*mean, ex);
+  if (n > 1) *sd = ldexp(*sd, ex);
+}
+
+void sl_column_moments(const sl_column *c, size_t nrow, sl_summary *s) {
   memset(s, 0, sizeof *s);
   s->mean = s->sd = s->min = s->q1 = s->median = s->q3 = s->max = NAN;
   if (c->type == SL_CATEGORICAL) {
     for (size_t i = 0; i < nrow; i++) s->missing += c->code[i] < 0;
     s->n = nrow - s->missing;
-    return SL_OK;
+    return;
   }
-  double *v = alloc0(nrow * sizeof *v);
+  double lo = INFINITY, hi = -INFINITY;
+  for (size_t i = 0; i < nrow; i++) {
+    double x = c->x[i];
+    if (isnan(x)) continue;
+    s->n++;
+    if (x < lo) lo = x;
+    if (x > hi) hi = x;
+  }
+  s->missing = nrow - s->n;
+  if (s->n == 0) return;
+  s->min = lo;
+  s->max = hi;
+  moments(c->x, nrow, s->n, &s->mean, &s->sd);
+}
+
+int sl_column_summary(const sl_column *c, size_t nrow, sl_summary *s, sl_error *e) {
+  sl_column_moments(c, nrow, s);
+  if (c->type == SL_CATEGORICAL || s->n == 0) return SL_OK;
+  double *v = alloc0(s->n * sizeof *v);
   if (!v) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
   size_t n = 0;
   for (size_t i = 0; i < nrow; i++)
     if (!isnan(c->x[i])) v[n++] = c->x[i];
-  s->n = n;
-  s->missing = nrow - n;
-  if (n > 0) {
-    double sum = 0;
-    for (size_t i = 0; i < n; i++) sum += v[i];
-    double mean = sum / (double)n, dev = 0, ss = 0;
-    for (size_t i = 0; i < n; i++) dev += v[i] - mean;
-    mean += dev / (double)n;                /* second pass corrects rounding */
-    for (size_t i = 0; i < n; i++) ss += (v[i] - mean) * (v[i] - mean);
-    s->mean = mean;
-    if (n > 1) s->sd = sqrt(ss / (double)(n - 1));
-    qsort(v, n, sizeof *v, cmp_double);
-    s->min = v[0];
-    s->max = v[n - 1];
-    s->q1 = quantile7(v, n, 0.25);
-    s->median = quantile7(v, n, 0.5);
-    s->q3 = quantile7(v, n, 0.75);
-  }
+  qsort(v, n, sizeof *v, cmp_double);
+  s->q1 = quantile7(v, n, 0.25);
+  s->median = quantile7(v, n, 0.5);
+  s->q3 = quantile7(v, n, 0.75);
   free(v);
   return SL_OK;
 }

@@ -57,12 +57,19 @@ sl_frame *sl_frame_binarize(const sl_frame *f, int col, double cut, const char *
 
 /* Per-column summary over the non-missing values.  A categorical column
 ** gets n and missing; its other fields are NaN.  sd divides by n - 1 (NaN
-** below 2 values); with no values every statistic is NaN. */
+** below 2 values); with no values every statistic is NaN.  Infinities are
+** values: the mean is inf (or -inf) when those of the column are all of
+** one sign and NaN when both signs occur; sd is then NaN; min, max and the
+** quartiles are what the sorted values give (next to an infinity a
+** quartile is that infinity). */
 typedef struct sl_summary {
   size_t n, missing;
   double mean, sd, min, q1, median, q3, max;   /* quartiles: type 7 (R's default) */
 } sl_summary;
 int sl_column_summary(const sl_column *c, size_t nrow, sl_summary *s, sl_error *e);
+/* The same n, missing, mean, sd, min and max in one pass over the column,
+** without sorting (the quartiles are NaN). */
+void sl_column_moments(const sl_column *c, size_t nrow, sl_summary *s);
 
 /* ---- reading and writing ---- */
 typedef struct sl_csv_opts {
@@ -75,7 +82,8 @@ typedef struct sl_csv_opts {
 
 /* Type inference, per column, over its non-missing cells (missing: empty,
 ** NA, NaN, "." and opts->na; a cell is a number when strtod reads all of
-** it, hexadecimal excepted):
+** it, hexadecimal excepted, and it is within the range of a double: "inf"
+** is a number, "1e400" a text, as pandas reads them):
 **   - every cell a number: numeric;
 **   - at most 10% of them text (a typo such as "1,5" or "n/a" in a
 **     measurement): an error naming the file, row, column and cell, or with

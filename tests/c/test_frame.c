@@ -199,6 +199,90 @@ static void test_summary_hand(void **state) {
   sl_frame_free(f);
 }
 
+/* Infinities are values.  Expected values from pandas 1.5.3 (Series.mean,
+** std, min, quantile, max) except where a comment says "by hand": numpy
+** interpolates a + (b - a) t, which gives NaN next to an infinity even at
+** t = 0, where the type-7 rule gives the infinity (or the exact value). */
+static void test_summary_inf(void **state) {
+  (void)state;
+  sl_error e;
+  sl_summary s;
+  sl_frame *f = sl_frame_alloc(4);
+  double a[] = {1, 2, INFINITY, 3};
+  assert_int_equal(sl_frame_add_numeric(f, "a", a, &e), SL_OK);
+  assert_int_equal(sl_column_summary(&f->col[0], 4, &s, &e), SL_OK);
+  /* pandas: mean inf, std NaN, min 1, 25% 1.75, 50% 2.5, 75% inf, max inf */
+  assert_true(s.mean == INFINITY && isnan(s.sd) && s.min == 1 && s.q1 == 1.75 &&
+              s.median == 2.5 && s.q3 == INFINITY && s.max == INFINITY);
+  double b[] = {-INFINITY, 1, 2, NAN};
+  assert_int_equal(sl_frame_add_numeric(f, "b", b, &e), SL_OK);
+  assert_int_equal(sl_column_summary(&f->col[1], 4, &s, &e), SL_OK);
+  /* pandas: mean -inf, std NaN, min -inf, 25% -inf, 50% 1, 75% 1.5, max 2 */
+  assert_true(s.n == 3 && s.mean == -INFINITY && isnan(s.sd) && s.min == -INFINITY &&
+              s.q1 == -INFINITY && s.median == 1 && s.q3 == 1.5 && s.max == 2);
+  double c[] = {INFINITY, -INFINITY, 1, NAN};
+  assert_int_equal(sl_frame_add_numeric(f, "c", c, &e), SL_OK);
+  assert_int_equal(sl_column_summary(&f->col[2], 4, &s, &e), SL_OK);
+  /* pandas: mean NaN, std NaN, 25% -inf, 50% 1; 75% inf by hand (1 to inf) */
+  assert_true(isnan(s.mean) && isnan(s.sd) && s.q1 == -INFINITY && s.median == 1 &&
+              s.q3 == INFINITY);
+  double d[] = {1, INFINITY, INFINITY, INFINITY};
+  assert_int_equal(sl_frame_add_numeric(f, "d", d, &e), SL_OK);
+  assert_int_equal(sl_column_summary(&f->col[3], 4, &s, &e), SL_OK);
+  /* by hand: sorted 1 inf inf inf; q1 (h = 0.75) lies between 1 and inf:
+  ** inf; the median (h = 1.5) between two infinities: inf */
+  assert_true(s.mean == INFINITY && s.q1 == INFINITY && s.median == INFINITY);
+  double big[] = {1e308, 1e308, 1e308, NAN};
+  assert_int_equal(sl_frame_add_numeric(f, "big", big, &e), SL_OK);
+  assert_int_equal(sl_column_summary(&f->col[4], 4, &s, &e), SL_OK);
+  /* by hand: the mean of three 1e308 is 1e308 and their sd 0 (pandas gives
+  ** inf: its sum overflows) */
+  assert_true(s.mean == 1e308 && s.sd == 0);
+  double span[] = {1e308, -1e308, NAN, NAN};
+  assert_int_equal(sl_frame_add_numeric(f, "span", span, &e), SL_OK);
+  assert_int_equal(sl_column_summary(&f->col[5], 4, &s, &e), SL_OK);
+  /* by hand: mean 0, sd sqrt(2) 1e308, median halfway: 0 */
+  assert_true(s.mean == 0 && s.median == 0);
+  assert_close(s.sd, sqrt(2.0) * 1e308, 1e-15);
+  /* the one-pass moments agree with the summary */
+  sl_summary m;
+  sl_column_moments(&f->col[0], 4, &m);
+  assert_true(m.mean == INFINITY && isnan(m.sd) && m.min == 1 && m.max == INFINITY &&
+              isnan(m.median));
+  sl_frame_free(f);
+}
+
+/* A number beyond the range of a double was read as inf without a word.
+** It is a text (pandas 1.5.3 reads "1e400" as a string too): named in the
+** error of a column of numbers, missing with coerce, kept as written in a
+** column of texts.  "inf", "-inf" and "Infinity" are numbers. */
+static void test_too_large(void **state) {
+  (void)state;
+  const char *path = tmp("huge.csv");
+  FILE *fp = fopen(path, "wb");
+  assert_non_null(fp);
+  fputs("id,x,y,z\n", fp);
+  for (int i = 1; i <= 20; i++)
+    fprintf(fp, "%d,%s,%s,%s\n", i, i == 7 ? "-1e400" : "2.5", i % 2 ? "1e400" : "word",
+            i == 3 ? "inf" : i == 4 ? "-Infinity" : "1");
+  fclose(fp);
+  read_fails(path, NULL, 8, 2, "huge.csv, row 8, column 2 ('x'): '-1e400' is beyond the "
+             "range of a number (about 1.8e308; write inf for an infinity, or use "
+             "{coerce = true} to read it as missing)");
+  sl_csv_opts o = {0, NULL, 0, 1, NULL};
+  sl_read_report rep;
+  sl_frame *f = read_ok(path, &o, &rep);
+  assert_true(isnan(col(f, "x")->x[6]) && col(f, "x")->x[5] == 2.5);
+  assert_int_equal(rep.coerced, 1);
+  assert_string_equal(rep.first_cell, "-1e400");
+  assert_string_equal(level(col(f, "y"), 0), "1e400");
+  assert_string_equal(level(col(f, "y"), 1), "word");
+  const sl_column *z = col(f, "z");
+  assert_int_equal(z->type, SL_NUMERIC);
+  assert_true(z->x[2] == INFINITY && z->x[3] == -INFINITY && z->x[4] == 1);
+  sl_frame_free(f);
+}
+
 /* classroom.csv: semicolons, detected; spaces around " 2.5 " trimmed (as
 ** pandas with skipinitialspace).  "-" in score: one text cell of five is
 ** more than 10%, so the column is categorical; with na = {"-"} it is
@@ -980,6 +1064,8 @@ int main(void) {
     cmocka_unit_test(test_orchard),
     cmocka_unit_test(test_summary_pandas),
     cmocka_unit_test(test_summary_hand),
+    cmocka_unit_test(test_summary_inf),
+    cmocka_unit_test(test_too_large),
     cmocka_unit_test(test_semicolon),
     cmocka_unit_test(test_tab),
     cmocka_unit_test(test_quoted),

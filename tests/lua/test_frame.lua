@@ -338,3 +338,36 @@ test("write_csv then read_csv keeps every row of a one-column frame", function()
          "write_csv: column 'grade', row 3: the text 'NA' would read back as a missing value")
   os.remove(path)
 end)
+
+-- Infinities are values: the mean of {1, 2, inf, 3} is inf (pandas 1.5.3
+-- Series.mean), its sd is nil (pandas: NaN); it was nil for the mean too.
+-- "1e400" was read as inf without a word; it is now a text, named in the
+-- error of a column of numbers.
+test("inf in a column, and numbers beyond the range of a double", function()
+  local path = tmpname(".csv")
+  local h = assert(io.open(path, "w"))
+  h:write("id,x\n1,1\n2,2\n3,inf\n4,3\n")
+  h:close()
+  local f = read_csv(path)
+  eq(f.x:mean(), math.huge)
+  eq(f.x:sd(), nil)
+  eq(f.x:max(), math.huge)
+  eq(f.x:median(), 2.5)
+  local s = f:summary()[2]
+  eq(s.mean, math.huge)
+  eq(s.sd, nil)
+  eq(s.q1, 1.75)
+  eq(s.q3, math.huge)
+  h = assert(io.open(path, "w"))
+  h:write("id,x\n1,-inf\n2,inf\n3,1\n")
+  h:close()
+  eq(read_csv(path).x:mean(), nil, "inf and -inf: no mean")
+  eq(read_csv(path).x:sum(), nil, "inf and -inf: no sum")
+  h = assert(io.open(path, "w"))
+  h:write("id,x\n")
+  for i = 1, 20 do h:write(i, ",", i == 5 and "1e400" or i, "\n") end
+  h:close()
+  raises(function() read_csv(path) end, ", row 6, column 2 ('x'): '1e400' is beyond the range " ..
+         "of a number (about 1.8e308; write inf for an infinity, or use {coerce = true} to read it as missing)")
+  os.remove(path)
+end)
