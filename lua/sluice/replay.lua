@@ -232,6 +232,11 @@ end
 local function child_main(parsed, o)
   local send, leave = hooks.replay_send, hooks.replay_exit
   S._wrap_output()   -- before the environment copies print and io.write
+  if not o.trust then   -- no native code in this process, whatever the log finds
+    package.loadlib = nil
+    package.cpath = ""
+    for i = #package.searchers, 3, -1 do package.searchers[i] = nil end
+  end
   local blocked_here = {}
   local function note(name) blocked_here[#blocked_here + 1] = name end
   local env

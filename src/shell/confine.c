@@ -99,8 +99,14 @@ static int fail(char *why, size_t n, const char *step) {
   return -1;
 }
 
+/* Lower a limit to v (never raise it: a user's own lower limit stands). */
 static int set_limit(int resource, rlim_t v) {
-  struct rlimit r = { v, v };
+  struct rlimit r;
+  if (getrlimit(resource, &r) != 0)
+    return -1;
+  if (r.rlim_max != RLIM_INFINITY && r.rlim_max < v)
+    v = r.rlim_max;
+  r.rlim_cur = r.rlim_max = v;
   return setrlimit(resource, &r);
 }
 

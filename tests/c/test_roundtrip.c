@@ -164,8 +164,11 @@ static void random_model(model *m) {
 
 /* ---- writing names, independently of write.c ---- */
 
+/* The no-break space (U+00A0, UTF-8 C2 A0) is the one invisible character
+** among utf8_bits: the notation refuses it in a bare name and writes it
+** inside quotes as \u{00A0}; DEL is written as \u{007F} (docs/notation.md). */
 static int needs_quotes(const char *s) {
-  if (!*s || strcmp(s, "hidden") == 0) return 1;
+  if (!*s || strcmp(s, "hidden") == 0 || strstr(s, "\xC2\xA0")) return 1;
   for (const unsigned char *p = (const unsigned char *)s; *p; p++)
     if (!((*p >= 'a' && *p <= 'z') || (*p >= 'A' && *p <= 'Z') ||
           (*p >= '0' && *p <= '9') || *p == '_' || *p == '.' || *p >= 0x80))
@@ -177,6 +180,8 @@ static void put_name(str *b, const char *s, int force_quotes) {
   if (!force_quotes && !needs_quotes(s)) { puts_(b, s); return; }
   put(b, "\"", 1);
   for (const char *p = s; *p; p++) {
+    if (p[0] == '\xC2' && p[1] == '\xA0') { puts_(b, "\\u{00A0}"); p++; continue; }
+    if (*p == '\x7f') { puts_(b, "\\u{007F}"); continue; }
     if (*p == '"' || *p == '\\') put(b, "\\", 1);
     put(b, p, 1);
   }
