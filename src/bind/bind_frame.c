@@ -146,7 +146,7 @@ static const char **check_na(lua_State *L, int idx, size_t *n) {
   const char **v = lua_newuserdatauv(L, (size_t)(len > 0 ? len : 1) * sizeof *v, 0);
   for (lua_Integer k = 1; k <= len; k++) {
     if (lua_geti(L, idx, k) != LUA_TSTRING)
-      luaL_error(L, "read_csv: option na: item %d is a %s, not a string", (int)k,
+      luaL_error(L, "read_csv: option na: item %I is a %s, not a string", k,
                  luaL_typename(L, -1));
     v[k - 1] = lua_tostring(L, -1);   /* kept alive by the option table */
     lua_pop(L, 1);
@@ -245,8 +245,8 @@ static int l_read_csv(lua_State *L) {
   set_fingerprint(L, path, &rep);
   if (rep.coerced > 0) {
     const sl_column *c = &b->f->col[rep.first_col - 1];
-    lua_pushfstring(L, "%s: %d cell%s that %s not a number read as missing (the first: "
-                    "row %d, column %d ('%s'): '%s')", path, (int)rep.coerced,
+    lua_pushfstring(L, "%s: %I cell%s that %s not a number read as missing (the first: "
+                    "row %d, column %d ('%s'): '%s')", path, (lua_Integer)rep.coerced,
                     rep.coerced == 1 ? "" : "s", rep.coerced == 1 ? "is" : "are",
                     (int)rep.first_row, (int)rep.first_col, c->name, rep.first_cell);
     lua_insert(L, -2);
@@ -354,12 +354,36 @@ static int f_summary(lua_State *L) {
   return 1;
 }
 
+/* The number at arg as the user would write it (NaN as "NaN", not the
+** "-nan" of printf). */
+static const char *num_text(lua_State *L, int arg) {
+  lua_Number x = lua_tonumber(L, arg);
+  if (x != x) return lua_pushliteral(L, "NaN");
+  return luaL_tolstring(L, arg, NULL);
+}
+
+/* Argument arg as a whole number (a float too, however large), or an
+** argument error saying what it counts and what was given: luaL_checkinteger
+** said "number has no integer representation" and wrapped 1e18 around. */
+static lua_Number check_whole(lua_State *L, int arg, const char *what) {
+  int ok;
+  lua_Number x = lua_tonumberx(L, arg, &ok);
+  if (!ok) luaL_typeerror(L, arg, "number");
+  if (x != floor(x))   /* NaN too */
+    luaL_argerror(L, arg, lua_pushfstring(L, "%s must be a whole number, got %s", what,
+                                          num_text(L, arg)));
+  return x;
+}
+
 static int f_head(lua_State *L) {
   sl_frame *f = sl_bind_checkframe(L, 1);
-  lua_Integer n = luaL_optinteger(L, 2, 6);
-  luaL_argcheck(L, n >= 0, 2, "the number of rows must be 0 or more");
+  lua_Number n = lua_isnoneornil(L, 2) ? 6 : check_whole(L, 2, "the number of rows");
+  if (n < 0)
+    luaL_argerror(L, 2, lua_pushfstring(L, "the number of rows must be 0 or more, got %s",
+                                        num_text(L, 2)));
+  size_t k = n >= (lua_Number)f->nrow ? f->nrow : (size_t)n;   /* math.huge: every row */
   sl_error e;
-  return push_result(L, sl_frame_head(f, (size_t)n, &e), "head", &e);
+  return push_result(L, sl_frame_head(f, k, &e), "head", &e);
 }
 
 static int f_binarize(lua_State *L) {
@@ -388,7 +412,7 @@ static int f_select(lua_State *L) {
     if (table) lua_geti(L, 2, k + 1);
     else lua_pushvalue(L, (int)k + 2);
     if (lua_type(L, -1) != LUA_TSTRING)
-      luaL_argerror(L, 2, lua_pushfstring(L, "item %d is a %s, not a column name", (int)k + 1,
+      luaL_argerror(L, 2, lua_pushfstring(L, "item %I is a %s, not a column name", k + 1,
                                           luaL_typename(L, -1)));
     sl_error e;
     cols[k] = sl_frame_lookup(f, lua_tostring(L, -1), &e);
@@ -422,9 +446,10 @@ static int f_filter(lua_State *L) {
 
 static int f_row(lua_State *L) {
   sl_frame *f = sl_bind_checkframe(L, 1);
-  lua_Integer i = luaL_checkinteger(L, 2);
-  luaL_argcheck(L, i >= 1 && (size_t)i <= f->nrow, 2,
-                lua_pushfstring(L, "row %d is outside 1..%d", (int)i, (int)f->nrow));
+  lua_Number i = check_whole(L, 2, "the row");
+  if (!(i >= 1 && i <= (lua_Number)f->nrow))
+    luaL_argerror(L, 2, lua_pushfstring(L, "row %s is outside 1..%I, the rows of the frame",
+                                        num_text(L, 2), (lua_Integer)f->nrow));
   push_row(L, f, (size_t)i - 1);
   return 1;
 }
@@ -451,8 +476,8 @@ static void column_values(lua_State *L, const sl_frame *f) {
   luaL_argexpected(L, lua_istable(L, 3), 3, "list or function");
   lua_Integer n = luaL_len(L, 3);
   if ((size_t)n != f->nrow)
-    luaL_argerror(L, 3, lua_pushfstring(L, "%d values for a frame of %d rows", (int)n,
-                                        (int)f->nrow));
+    luaL_argerror(L, 3, lua_pushfstring(L, "%I values for a frame of %I rows", n,
+                                        (lua_Integer)f->nrow));
   lua_pushvalue(L, 3);
 }
 
@@ -604,7 +629,7 @@ static int f_gc(lua_State *L) {
 static int f_tostring(lua_State *L) {
   sl_frame *f = sl_bind_checkframe(L, 1);
   if (hook_text(L, "frame_text", 1)) return 1;
-  lua_pushfstring(L, "frame: %d rows, %d columns", (int)f->nrow, (int)f->ncol);
+  lua_pushfstring(L, "frame: %I rows, %I columns", (lua_Integer)f->nrow, (lua_Integer)f->ncol);
   return 1;
 }
 
@@ -748,8 +773,8 @@ static int c_tostring(lua_State *L) {
   sl_frame *f;
   const sl_column *c = check_col(L, 1, &f);
   if (hook_text(L, "column_text", 1)) return 1;
-  lua_pushfstring(L, "column %s (%s, %d rows)", c->name,
-                  c->type == SL_NUMERIC ? "number" : "category", (int)f->nrow);
+  lua_pushfstring(L, "column %s (%s, %I rows)", c->name,
+                  c->type == SL_NUMERIC ? "number" : "category", (lua_Integer)f->nrow);
   return 1;
 }
 
@@ -757,7 +782,7 @@ static int c_tostring(lua_State *L) {
 
 static int s_tostring(lua_State *L) {
   if (hook_text(L, "summary_text", 1)) return 1;
-  lua_pushfstring(L, "summary of %d columns", (int)luaL_len(L, 1));
+  lua_pushfstring(L, "summary of %I columns", luaL_len(L, 1));
   return 1;
 }
 
