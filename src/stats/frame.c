@@ -9,6 +9,7 @@
 
 #define INIT_ROWS 1024      /* first allocation of a builder's columns, in rows */
 #define INIT_CELLS 65536    /* and in cells over all columns, for a wide file */
+#define LIST_MAX 240        /* bytes of column names listed in a message */
 
 /* ---- frames ---- */
 
@@ -126,6 +127,22 @@ int sl_frame_find(const sl_frame *f, const char *name) {
   return -1;
 }
 
+/* The names of the columns for a message, as many as fit in LIST_MAX
+** bytes, then "... (N in all)". */
+static void list_names(const sl_frame *f, char out[LIST_MAX]) {
+  size_t len = 0;
+  out[0] = '\0';
+  for (size_t j = 0; j < f->ncol; j++) {
+    const char *nm = f->col[j].name;
+    if (len + strlen(nm) + 2 > LIST_MAX - 32) {
+      snprintf(out + len, LIST_MAX - len, "%s... (%zu in all)", j ? ", " : "", f->ncol);
+      return;
+    }
+    len += (size_t)snprintf(out + len, LIST_MAX - len, "%s%s", j ? ", " : "", nm);
+  }
+  if (f->ncol == 0) snprintf(out, LIST_MAX, "none");
+}
+
 int sl_frame_lookup(const sl_frame *f, const char *name, sl_error *e) {
   int j = sl_frame_find(f, name);
   if (j >= 0) return j;
@@ -136,7 +153,11 @@ int sl_frame_lookup(const sl_frame *f, const char *name, sl_error *e) {
     best = sl_closest(name, names, f->ncol);
   }
   if (best) sl_error_set(e, SL_ENAME, 0, 0, "no column '%s'; did you mean '%s'?", name, best);
-  else sl_error_set(e, SL_ENAME, 0, 0, "no column '%s'", name);
+  else {
+    char list[LIST_MAX];
+    list_names(f, list);
+    sl_error_set(e, SL_ENAME, 0, 0, "no column '%s' (the columns: %s)", name, list);
+  }
   free(names);
   return -1;
 }

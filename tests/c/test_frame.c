@@ -512,6 +512,10 @@ static void test_wide(void **state) {
     assert_true(f->col[j].x[0] == (double)j && f->col[j].x[1] == 2.0 * (double)j);
   }
   assert_int_equal(sl_frame_find(f, "c39999"), 39999);
+  sl_error e;
+  assert_int_equal(sl_frame_lookup(f, "nope", &e), -1);   /* a long list is cut */
+  assert_non_null(strstr(e.msg, "no column 'nope' (the columns: c0, c1, c2, "));
+  assert_non_null(strstr(e.msg, ", ... (40000 in all))"));
   sl_frame_free(f);
   fp = fopen(path, "wb");
   for (size_t j = 0; j < n; j++) fprintf(fp, "%sc%zu", j ? "," : "", j == n - 1 ? 7 : j);
@@ -791,7 +795,9 @@ static void test_ops(void **state) {
   assert_int_equal(sl_frame_lookup(f, "yeild", &e), -1);
   assert_string_equal(e.msg, "no column 'yeild'; did you mean 'yield'?");
   assert_int_equal(sl_frame_lookup(f, "zzzzzzzz", &e), -1);
-  assert_string_equal(e.msg, "no column 'zzzzzzzz'");
+  /* nothing near: the columns are listed (before, only "no column 'zzzzzzzz'") */
+  assert_string_equal(e.msg, "no column 'zzzzzzzz' (the columns: plot, variety, rain, yield, "
+                      "pests)");
   int cols[] = {3, 1};
   sl_frame *s = sl_frame_select(f, cols, 2, &e);
   assert_non_null(s);

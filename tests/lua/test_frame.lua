@@ -159,6 +159,8 @@ test("frames are read-only; unknown columns suggest a name", function()
   raises(function() return f.yeild end, "no column 'yeild'; did you mean 'yield'?")
   raises(function() return f[1] end, "indexed by column name")
   raises(function() f:column("rian") end, "did you mean 'rain'?")
+  -- nothing near: the columns are listed (before: only "no column 'nope'")
+  raises(function() return f["nope"] end, "no column 'nope' (the columns: plot, variety, rain, yield, pests)")
 end)
 
 test("head, select, filter, row", function()
