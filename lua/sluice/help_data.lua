@@ -15,15 +15,22 @@ when more than 10% of them are text. A column of numbers with a few texts
 (at most 10%, such as "1,5" or "n/a") is an error naming the file, row and
 column; with coerce = true those cells become missing and a warning says
 how many (also in f:warnings()). Rows are lines of the file, the header
-being row 1.]],
+being row 1. inf and -inf are numbers (a mean over them is inf, or nil
+when both occur; the sd is nil); a number beyond the range of a double,
+such as 1e400, is text, never read as inf. Only regular files are read: a
+device, pipe or folder is refused by name. Ctrl-C stops a read. Limits:
+65536 columns, 256 MiB in one cell, 2^31 - 1 lines.]],
     example = [[plots = read_csv("orchard.csv", {na = {"-999"}, coerce = true})]] },
   { name = "read_sql", topic = "data",
-    sig = "read_sql(dbfile, query)",
+    sig = "read_sql(dbfile, query, {limit=})",
     brief = "Read the result of an SQL query on an SQLite file",
     returns = "a data frame",
     summary = [[Run one query on an SQLite database, opened read-only. INTEGER and REAL values
 are numbers, TEXT values categories, NULL missing; a column mixing numbers
 and text is categorical. SQLite's error messages are shown as they are.
+At most limit rows are read (10000000 unless given; math.huge for no
+limit): a query that returns more, such as an endless recursive one, is an
+error saying so. Ctrl-C stops a query. dbfile must be a regular file.
 f:fingerprint() gives the SHA-256 of the database file.]],
     example = [[trees = read_sql("survey.db", "SELECT id, kind, height FROM trees")]] },
   { name = "f:names", topic = "data",
@@ -98,8 +105,12 @@ column of that name is replaced in place.]],
     brief = "Write a frame as CSV",
     returns = "path",
     summary = [[Write f with a header row. Numbers are written in the shortest form that reads
-back to the same double, missing values as empty cells, texts quoted when
-needed.]],
+back to the same double, missing values as empty cells ("" when f has one
+column), texts quoted when needed, so that read_csv gives back the same
+frame (but for levels no row uses, and a column of texts that all read as
+numbers, which comes back as numbers). A text that would read back as
+missing (empty, NA, NaN or ".") is an error naming its column and row.
+A frame with no rows writes only the header, which read_csv refuses.]],
     example = [[plots:write_csv("plots_clean.csv")]] },
   { name = "f:fingerprint", topic = "data",
     sig = "f:fingerprint()",
