@@ -109,7 +109,7 @@ fuzz: $(B)/gen/lua_embedded.c
 	  $(shell pkg-config --cflags --libs libgvc) -o $(B)/fuzz/fuzz_notation
 	clang -std=c11 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -g -O1 \
 	  -fsanitize=fuzzer,address,undefined -Isrc/graph -Isrc/stats \
-	  tests/fuzz/fuzz_csv.c src/graph/error.c src/stats/frame.c src/stats/csv.c \
+	  tests/fuzz/fuzz_csv.c src/graph/error.c src/graph/invisible.c src/stats/frame.c src/stats/csv.c \
 	  src/stats/sql.c src/stats/fingerprint.c \
 	  $(shell pkg-config --cflags --libs sqlite3 libsodium) -lcsv -lm -o $(B)/fuzz/fuzz_csv
 	clang -std=c11 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -g -O1 \
