@@ -23,6 +23,12 @@
 -- (markers "--@ in N", "--@ in N show", "--@ in N skipped: REASON") are read
 -- by the older rule: an entry runs to the next marker, and its metadata is
 -- the run of "--|" and "--@ " lines at its end.
+--
+-- The parser refuses what would make `sluice LOG` run something that replay
+-- never sees: a line outside every entry that is not blank or a short
+-- comment, a long comment there, a carriage return inside any comment line
+-- (Lua ends a comment at CR as at LF), and a line of a skipped entry that
+-- is not a "-->" comment.
 local T = {}
 
 local byte, char, find, format = string.byte, string.char, string.find, string.format
@@ -120,7 +126,7 @@ function T.entry_text(e)
                     lines_word(count_lines(e.code)))
     out[2] = e.code
   end
-  for _, l in ipairs(e.out) do
+  for _, l in ipairs(e.out or {}) do
     out[#out + 1] = l == "" and "--|" or "--| " .. T.escape(l)
   end
   for _, d in ipairs(e.data or {}) do

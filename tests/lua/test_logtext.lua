@@ -338,6 +338,13 @@ test("what is not a log, or would run unchecked code, is refused with its line",
           "bad.lua:6: line 2 of skipped entry 1", "code in a skipped entry, older format")
   refused(HEAD .. "--@ in 1 skipped (1 line): x\n--> a\rb\n", "bad.lua:5: a carriage return",
           "a CR in a skipped line")
+  refused(HEAD .. "--@ in 1\ros.exit()\nx = 1\n", "bad.lua:4: a carriage return", "a CR in a marker")
+  refused(HEAD .. "--@ in 1 skipped (1 line): r\rx()\n--> a\n", "bad.lua:4: a carriage return",
+          "a CR in a skip reason")
+  refused(HEAD .. "--@ in 1 (1 line)\nx = 1\n--@ started now\ros.exit()\n--@ in 2 (1 line)\ny\n",
+          "bad.lua:6: a carriage return", "a CR in a later session's header")
+  refused(HEAD .. "--@ in 1\nx = 1\n--@ lua 5.4\ros.exit()\n", "bad.lua:6: a carriage return",
+          "a CR in a later session's header, older format")
   refused(HEAD .. "--@ in 1234567890123456 (1 line)\nx\n", "bad.lua:4: an entry number", "a huge number")
   refused(HEAD .. "--@ in 1 (1234567890123456 lines)\nx\n", "bad.lua:4: a line count", "a huge count")
   refused(HEAD .. "--@ in 1 (1 line)\nx\n--@ data p 1234567890123456 ab\n", "bad.lua:6: the size",
