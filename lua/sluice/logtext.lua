@@ -122,9 +122,12 @@ function T.entry_text(e)
     table.insert(out, 1, format("--@ in %d skipped (%s): %s", e.n, lines_word(#out),
                                 T.escape(e.skip)))
   else
+    -- a statement that opens with "(" would continue the entry before it
+    -- when the log runs as one script: x = a <entry> (g)() is x = a(g)()
+    local code = find(e.code, "^%s*%(") and ";" .. e.code or e.code
     out[1] = format("--@ in %d%s (%s)", e.n, e.expr and " show" or "",
-                    lines_word(count_lines(e.code)))
-    out[2] = e.code
+                    lines_word(count_lines(code)))
+    out[2] = code
   end
   for _, l in ipairs(e.out or {}) do
     out[#out + 1] = l == "" and "--|" or "--| " .. T.escape(l)

@@ -488,6 +488,9 @@ function R.rewrite(path, old_text, parsed)
   b:close()
   local out = {concat(parsed.head, "\n")}
   for _, e in ipairs(parsed.entries) do
+    if e.new_session then   -- a later session starts afresh on the next replay too
+      out[#out + 1] = concat(T.header_lines(parsed.version, "(a later session)"), "\n")
+    end
     local n = {n = e.n, typed = e.typed, expr = e.expr, skip = e.skip, code = e.code,
                out = e.new_out or e.out, data = e.new_data or e.data,
                pictures = e.new_pictures or e.pictures}

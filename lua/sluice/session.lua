@@ -368,9 +368,11 @@ local function report_markdown(inline)
     md[#md + 1] = "## Command " .. e.n .. (e.skip and (" (" .. e.skip .. ")") or "")
     md[#md + 1] = ""
     md[#md + 1] = fence(e.typed, "lua")
-    if #e.out > 0 then
+    if #e.out > 0 then   -- control characters shown, never sent to a terminal
+      local shown = {}
+      for i, l in ipairs(e.out) do shown[i] = T.escape(l) end
       md[#md + 1] = ""
-      md[#md + 1] = fence(table.concat(e.out, "\n"))
+      md[#md + 1] = fence(table.concat(shown, "\n"))
     end
     for _, p in ipairs(e.pictures) do
       md[#md + 1] = ""

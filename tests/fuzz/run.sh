@@ -26,7 +26,7 @@ took=$(sed -n 's/^Done [0-9]* runs in \([0-9]*\) second.*/\1/p' "$log" | tail -n
 [ -n "$took" ] || took=$secs
 if [ "$rc" -ne 0 ]; then
   echo "fuzz: CRASH after ${execs:-?} executions (exit $rc); log $log"
-  grep -E '^(==[0-9]+==|SUMMARY|fuzz_notation:|canonical text)' "$log" | head -n 5
+  grep -E '^(==[0-9]+==|SUMMARY|fuzz_[a-z]*:|canonical text)' "$log" | head -n 5
   ls "$scratch"/crash-* "$scratch"/leak-* "$scratch"/timeout-* 2>/dev/null | head -n 3
   exit 1
 fi

@@ -425,3 +425,18 @@ test("header lines and show_code as the session writes them", function()
   eq(p.version, "0.1.0")
   eq(#p.entries, 0)
 end)
+
+test("an entry that opens with '(' does not continue the one before it when the log runs as a script", function()
+  local head = table.concat(T.header_lines("0.1.0", "2026-01-01T00:00:00Z"), "\n") .. "\n"
+  local a = T.entry_text{n = 1, code = "x = tostring", typed = "x = tostring", out = {}}
+  local b = T.entry_text{n = 2, code = "(print)('hi')", typed = "(print)('hi')", out = {"hi"}}
+  eq(b:find("\n;(print)('hi')\n", 1, true) ~= nil, true, "a ';' opens the statement")
+  local printed = {}
+  local env = {tostring = tostring, print = function(s) printed[#printed + 1] = s end}
+  local chunk = assert(load(head .. a .. b, "=log", "t", env))
+  chunk()   -- without the ';' this is x = tostring(print)('hi'): a call of a string
+  eq(env.x, tostring, "entry 1 ran alone")
+  eq(printed[1], "hi", "entry 2 ran alone")
+  local p = assert(T.parse(head .. a .. b, "log"))
+  eq(#p.entries, 2)
+end)

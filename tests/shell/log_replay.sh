@@ -161,7 +161,11 @@ printf 'x\n' | "$exe" -q -i --log two.lua > /dev/null 2>&1
 [ "$(grep -c -- '--@ sluice' two.lua)" = 2 ] || fail "the second session appends its header"
 "$exe" --replay two.lua > out.txt 2>&1 || fail "a log of two sessions replays, each afresh"
 has "3 commands: 3 matched, 0 differed" "both sessions' commands match"
-ok "a log appended to by a second session replays each session afresh"
+"$exe" --replay two.lua --update > out.txt 2>&1 || fail "--update of a two-session log"
+[ "$(grep -c -- '--@ sluice' two.lua)" = 2 ] || fail "--update keeps the second session's header"
+"$exe" --replay two.lua > out.txt 2>&1 || fail "the updated two-session log replays"
+has "3 commands: 3 matched, 0 differed" "each session still starts afresh"
+ok "a log appended to by a second session replays each session afresh, also after --update"
 # ---- writers in the sandbox: a new folder beneath --out, log(), tmpname ----
 rm -rf out2; mkdir out2
 cat > writers.lua <<LOG
