@@ -268,13 +268,10 @@ static void read_spec(lua_State *L, sl_est_spec *s) {
 
 #define SETNUM(k, v) (lua_pushnumber(L, (v)), lua_setfield(L, -2, (k)))
 
-/* sluice._estimate(frame, treatment, outcome, {set}, opts) */
-static int l_estimate(lua_State *L) {
-  sl_est_spec s;
-  read_spec(L, &s);
-  sl_est_result r;
-  sl_error e;
-  if (sl_estimate(&s, &r, &e)) return sl_bind_raise(L, &e, "estimate", NULL, 0);
+/* The result table of an estimate. */
+static void push_result(lua_State *L, const sl_est_spec *sp, const sl_est_result *rp) {
+  const sl_est_spec s = *sp;
+  const sl_est_result r = *rp;
   lua_createtable(L, 0, 24);
   SETNUM("estimate", r.estimate);
   if (r.has_se) { SETNUM("se", r.se); SETNUM("lo", r.lo); SETNUM("hi", r.hi);
@@ -286,13 +283,74 @@ static int l_estimate(lua_State *L) {
     lua_pushinteger(L, (lua_Integer)r.boot_done); lua_setfield(L, -2, "boot");
     lua_pushinteger(L, (lua_Integer)r.boot_failed); lua_setfield(L, -2, "boot_failed");
   }
-  if (s.method != SL_STANDARDIZE) {
+  if (s.method == SL_IPW || s.method == SL_AIPW) {
     SETNUM("ess", r.ess); SETNUM("ess_treated", r.ess1); SETNUM("ess_control", r.ess0);
     SETNUM("ps_min", r.ps_min); SETNUM("ps_max", r.ps_max);
   }
   lua_pushboolean(L, r.binary_outcome); lua_setfield(L, -2, "binary_outcome");
   lua_pushboolean(L, r.binary_treatment); lua_setfield(L, -2, "binary_treatment");
   lua_pushstring(L, r.warnings); lua_setfield(L, -2, "warnings");
+}
+
+/* sluice._estimate(frame, treatment, outcome, {set}, opts) */
+static int l_estimate(lua_State *L) {
+  sl_est_spec s;
+  read_spec(L, &s);
+  sl_est_result r;
+  sl_error e;
+  if (sl_estimate(&s, &r, &e)) return sl_bind_raise(L, &e, "estimate", NULL, 0);
+  push_result(L, &s, &r);
+  return 1;
+}
+
+/* A list of k numbers at field name of the table on top. */
+static void set_list(lua_State *L, const char *name, const double *v, size_t k) {
+  lua_createtable(L, (int)k, 0);
+  for (size_t j = 0; j < k; j++) { lua_pushnumber(L, v[j]); lua_rawseti(L, -2, (lua_Integer)j + 1); }
+  lua_setfield(L, -2, name);
+}
+
+/* sluice._estimate_route(frame, treatment, outcome, {set}, opts, {aux})
+** for method = "frontdoor" (aux: the mediators, earliest first) and
+** "iv" (aux: the excluded instruments). */
+static int l_estimate_route(lua_State *L) {
+  sl_est_spec s;
+  read_spec(L, &s);
+  const char *m = opt_string(L, 5, "method", "");
+  if (strcmp(m, "frontdoor") == 0) s.method = SL_FRONTDOOR;
+  else if (strcmp(m, "iv") == 0) s.method = SL_IV;
+  else return luaL_error(L, "estimate: method = \"%s\" is not a route (frontdoor, iv)", m);
+  luaL_checktype(L, 6, LUA_TTABLE);
+  size_t na;
+  s.aux = columns(L, s.data, 6, &na);
+  s.naux = na;
+  sl_est_result r;
+  sl_error e;
+  if (sl_estimate(&s, &r, &e)) return sl_bind_raise(L, &e, "estimate", NULL, 0);
+  push_result(L, &s, &r);
+  const sl_route_info *ri = &r.route;
+  if (s.method == SL_FRONTDOOR) {
+    set_list(L, "mediator_coef", ri->a, ri->k);
+    set_list(L, "outcome_coef", ri->b, ri->k);
+    lua_createtable(L, (int)ri->k, 0);
+    for (size_t j = 0; j < ri->k; j++) { lua_pushboolean(L, ri->binary[j]); lua_rawseti(L, -2, (lua_Integer)j + 1); }
+    lua_setfield(L, -2, "mediator_binary");
+    lua_pushboolean(L, ri->product); lua_setfield(L, -2, "product");
+    if (!isnan(ri->se_delta)) SETNUM("se_delta", ri->se_delta);
+  } else {
+    set_list(L, "first_coef", ri->a, ri->k);
+    if (r.has_se || !isnan(ri->se_classical)) {
+      SETNUM("se_classical", ri->se_classical); SETNUM("se_hc0", ri->se_hc0);
+      SETNUM("se_hc1", ri->se_hc1);
+    }
+    SETNUM("first_f", ri->first_f); SETNUM("first_df1", ri->first_df1);
+    SETNUM("first_df2", ri->first_df2); SETNUM("first_p", ri->first_p);
+    SETNUM("first_r2_partial", ri->first_r2_partial);
+    if (ri->has_wald) {
+      SETNUM("wald", ri->wald); SETNUM("wald_itt", ri->wald_itt);
+      SETNUM("wald_uptake", ri->wald_uptake);
+    }
+  }
   return 1;
 }
 
@@ -363,7 +421,8 @@ static int l_forest(lua_State *L) {
 }
 
 static const luaL_Reg funcs[] = {
-  {"_fit", l_fit}, {"_estimate", l_estimate}, {"_weights", l_weights},
+  {"_fit", l_fit}, {"_estimate", l_estimate}, {"_estimate_route", l_estimate_route},
+  {"_weights", l_weights},
   {"_histograms", l_histograms}, {"_forest", l_forest},
   {NULL, NULL}
 };

@@ -339,7 +339,7 @@ int sl_est_point(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_
                  sl_point *out, char *warn, sl_error *e) {
   memset(out, 0, sizeof *out);
   /* a resample may lose one arm: no estimate from it */
-  if (P->bin_t) {
+  if (P->bin_t && s->method != SL_IV) {
     size_t n1 = 0;
     for (size_t k = 0; k < n; k++) n1 += P->t[ix[k]] == 1;
     if (n1 == 0 || n1 == n)
@@ -348,6 +348,8 @@ int sl_est_point(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_
   switch (s->method) {
     case SL_IPW: return ipw(s, P, ix, n, out, warn, e);
     case SL_AIPW: return aipw(s, P, ix, n, out, warn, e);
+    case SL_FRONTDOOR: return sl_est_frontdoor(s, P, ix, n, out, warn, e);
+    case SL_IV: return sl_est_iv(s, P, ix, n, out, warn, e);
     default: return standardize(s, P, ix, n, out, warn, e);
   }
 }

@@ -7,7 +7,11 @@
 **     If (2020), ch. 13;
 **   IPW with normalised (Hajek) weights: ibid. ch. 12;
 **   augmented IPW: Robins, Rotnitzky and Zhao 1994; Bang and Robins 2005;
-**     influence-function standard error (Tsiatis 2006, ch. 13).
+**     influence-function standard error (Tsiatis 2006, ch. 13);
+**   the front-door formula with regression working models: Pearl 1995,
+**     Causality 2009, 3.3.2 (frontdoor_est.c);
+**   two-stage least squares: Wooldridge 2010, Econometric Analysis of Cross
+**     Section and Panel Data, ch. 5 (iv.c).
 */
 #ifndef SL_ESTIMATE_H
 #define SL_ESTIMATE_H
@@ -16,7 +20,13 @@
 #include <stdint.h>
 #include "frame.h"
 
-enum sl_method { SL_STANDARDIZE = 0, SL_IPW = 1, SL_AIPW = 2 };
+enum sl_method { SL_STANDARDIZE = 0, SL_IPW = 1, SL_AIPW = 2, SL_FRONTDOOR = 3, SL_IV = 4 };
+
+/* Mediators of a front-door estimate, or excluded instruments of an IV
+** estimate, at most; and the binary mediators whose values the front-door
+** estimate sums over (2^k terms per row). */
+#define SL_ROUTE_MAX 16
+#define SL_ROUTE_BINARY_MAX 10
 enum sl_estimand { SL_ATE = 0, SL_ATT = 1, SL_ATC = 2 };
 enum sl_scale { SL_DIFFERENCE = 0, SL_RATIO = 1, SL_ODDS_RATIO = 2 };
 
@@ -28,6 +38,9 @@ typedef struct sl_est_spec {
   int treatment, outcome;        /* column indices */
   const int *set;                /* covariate column indices */
   size_t nset;
+  const int *aux;                /* frontdoor: the mediators, earliest first;
+                                    iv: the excluded instruments */
+  size_t naux;
   int method, estimand, scale;
   int interactions;              /* standardize: treatment x covariate terms */
   double contrast;               /* continuous treatment: effect of +contrast (default 1) */
@@ -45,6 +58,26 @@ typedef struct sl_est_spec {
 
 #define SL_WARN_MAX 1024
 
+/* What the front-door and IV routes report beside the estimate. */
+typedef struct sl_route_info {
+  size_t k;                      /* mediators or instruments */
+  int binary[SL_ROUTE_MAX];      /* frontdoor: the mediator is 0/1 (logistic model) */
+  double a[SL_ROUTE_MAX];        /* frontdoor: the treatment's coefficient in each
+                                    mediator model; iv: each instrument's in the
+                                    first stage */
+  double b[SL_ROUTE_MAX];        /* frontdoor: each mediator's coefficient in the
+                                    outcome model */
+  int product;                   /* frontdoor: every model linear, no interaction:
+                                    the estimate is a sum of products a b */
+  double se_delta;               /* frontdoor: delta-method SE (NaN when none) */
+  double se_classical, se_hc0, se_hc1;   /* iv: 2SLS standard errors */
+  double first_f, first_df1, first_df2, first_p;   /* iv: first-stage F of the
+                                    excluded instruments */
+  double first_r2_partial;       /* iv: their partial R^2 */
+  int has_wald;                  /* iv: one 0/1 instrument, 0/1 treatment, no set */
+  double wald, wald_itt, wald_uptake;
+} sl_route_info;
+
 typedef struct sl_est_result {
   double estimate, se;
   double lo, hi;                 /* percentile bootstrap; or normal when no bootstrap */
@@ -57,6 +90,7 @@ typedef struct sl_est_result {
   size_t ps_extreme;             /* propensities outside [0.01, 0.99] */
   int binary_outcome, binary_treatment;
   int has_se;                    /* 0 when no standard error is available */
+  sl_route_info route;           /* frontdoor and iv */
   char warnings[SL_WARN_MAX];    /* lines separated by '\n' */
 } sl_est_result;
 

@@ -18,6 +18,10 @@ typedef struct sl_prep {
   const char **pnames;   /* propensity-model term names: (intercept), C */
   char *namebuf;
   int bin_t, bin_y;
+  size_t k;              /* mediators (frontdoor) or instruments (iv) */
+  double *A;             /* n x k, row-major */
+  const char *anames[SL_ROUTE_MAX];
+  int abin[SL_ROUTE_MAX];   /* column j takes only 0 and 1 */
 } sl_prep;
 
 /* One point estimate on a sample of the complete rows. */
@@ -26,6 +30,7 @@ typedef struct sl_point {
   int has_se;
   double ess, ess1, ess0, ps_min, ps_max;
   size_t ps_extreme;
+  sl_route_info route;
 } sl_point;
 
 int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *e);
@@ -39,6 +44,13 @@ int sl_est_ipw_weights(const sl_est_spec *s, const sl_prep *P, const size_t *ix,
 double sl_est_contrast(int scale, double mu1, double mu0);
 double sl_est_quantile(double *v, size_t n, double q);
 void sl_est_warn(char *buf, const char *msg);
+
+/* The front-door estimate (frontdoor_est.c) and two-stage least squares
+** (iv.c) on a sample of the complete rows. */
+int sl_est_frontdoor(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
+                     sl_point *out, char *warn, sl_error *e);
+int sl_est_iv(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
+              sl_point *out, char *warn, sl_error *e);
 
 /* The bootstrap: replicate estimates into est[0..B) (NaN when a replicate
 ** failed). */

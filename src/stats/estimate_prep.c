@@ -10,7 +10,7 @@
 #include "estimate_internal.h"
 
 void sl_est_prep_free(sl_prep *P) {
-  free(P->rows); free(P->t); free(P->y); free(P->C);
+  free(P->rows); free(P->t); free(P->y); free(P->C); free(P->A);
   free(P->cnames); free(P->onames); free(P->pnames); free(P->namebuf);
   memset(P, 0, sizeof *P);
 }
@@ -23,6 +23,59 @@ static int is_binary(const double *v, size_t n) {
 /* Whether cell (row r, column c) is missing. */
 static int missing(const sl_column *c, size_t r) {
   return c->type == SL_NUMERIC ? isnan(c->x[r]) : c->code[r] < 0;
+}
+
+/* The word for the aux columns of the method, for messages. */
+static const char *aux_word(const sl_est_spec *s) {
+  return s->method == SL_FRONTDOOR ? "mediator" : "instrument";
+}
+
+/* Check the mediators (frontdoor) or instruments (iv): present for those
+** methods only, numeric, and none the treatment, the outcome, a covariate
+** or named twice. */
+static int check_aux(const sl_est_spec *s, sl_error *e) {
+  const sl_frame *f = s->data;
+  int route = s->method == SL_FRONTDOOR || s->method == SL_IV;
+  if (!route) return s->naux ? sl_error_set(e, SL_EARG, 0, 0, "mediators and instruments apply "
+                                            "to method = \"frontdoor\" and \"iv\"") : SL_OK;
+  if (s->naux == 0)
+    return sl_error_set(e, SL_EARG, 0, 0, s->method == SL_FRONTDOOR
+                        ? "method = \"frontdoor\" needs via = {mediators}"
+                        : "method = \"iv\" needs instrument = a column");
+  if (s->naux > SL_ROUTE_MAX)
+    return sl_error_set(e, SL_ELIMIT, 0, 0, "%zu %ss: at most %d", s->naux, aux_word(s),
+                        SL_ROUTE_MAX);
+  if (s->method == SL_FRONTDOOR && s->nset)
+    return sl_error_set(e, SL_EARG, 0, 0, "method = \"frontdoor\" takes no adjustment set");
+  for (size_t i = 0; i < s->naux; i++) {
+    int c = s->aux[i];
+    if (c < 0 || (size_t)c >= f->ncol) return sl_error_set(e, SL_EARG, 0, 0, "no such %s column", aux_word(s));
+    const char *nm = f->col[c].name;
+    if (c == s->treatment)
+      return sl_error_set(e, SL_EARG, 0, 0, "the treatment '%s' cannot be its own %s", nm, aux_word(s));
+    if (c == s->outcome)
+      return sl_error_set(e, SL_EARG, 0, 0, "the outcome '%s' cannot be a %s", nm, aux_word(s));
+    for (size_t j = 0; j < s->nset; j++)
+      if (s->set[j] == c)
+        return sl_error_set(e, SL_EARG, 0, 0, "'%s' is both a %s and in the set", nm, aux_word(s));
+    for (size_t j = 0; j < i; j++)
+      if (s->aux[j] == c) return sl_error_set(e, SL_EARG, 0, 0, "the %s '%s' is named twice", aux_word(s), nm);
+    if (f->col[c].type != SL_NUMERIC)
+      return sl_error_set(e, SL_EARG, 0, 0, "the %s '%s' has text values: code it as a number "
+                          "(f:binarize)", aux_word(s), nm);
+  }
+  if (s->estimand != SL_ATE)
+    return sl_error_set(e, SL_EARG, 0, 0, s->method == SL_FRONTDOOR
+                        ? "method = \"frontdoor\" estimates the average effect in the whole "
+                          "population (ATE); ATT and ATC are not available"
+                        : "method = \"iv\" has an estimand of its own (a local effect for "
+                          "compliers); estimand = applies to standardize, ipw and aipw");
+  if (s->method == SL_IV && s->scale != SL_DIFFERENCE)
+    return sl_error_set(e, SL_EARG, 0, 0, "method = \"iv\" estimates a difference (a coefficient): "
+                        "scale = \"difference\" only");
+  if (s->contrast != 1)
+    return sl_error_set(e, SL_EARG, 0, 0, "a contrast applies to a continuous treatment with standardize");
+  return SL_OK;
 }
 
 /* Check the roles of the columns. */
@@ -52,6 +105,8 @@ static int check_roles(const sl_est_spec *s, sl_error *e) {
         return sl_error_set(e, SL_EARG, 0, 0, "'%s' is named twice in the adjustment set",
                             f->col[s->set[i]].name);
   }
+  int rc = check_aux(s, e);
+  if (rc) return rc;
   if (!(s->level > 0 && s->level < 1))
     return sl_error_set(e, SL_EARG, 0, 0, "level = %g must lie strictly between 0 and 1, e.g. 0.95",
                         s->level);
@@ -69,6 +124,44 @@ static int check_roles(const sl_est_spec *s, sl_error *e) {
   return SL_OK;
 }
 
+/* The mediator or instrument columns of the complete rows, and which take
+** only 0 and 1; P is freed on an error. */
+static int fill_aux(const sl_est_spec *s, sl_prep *P, sl_error *e) {
+  size_t n = P->n, k = s->naux;
+  P->k = k;
+  if (k == 0) return SL_OK;
+  P->A = malloc(n * k * sizeof *P->A);
+  if (!P->A) { sl_est_prep_free(P); return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); }
+  size_t nbin = 0;
+  for (size_t j = 0; j < k; j++) {
+    const sl_column *c = &s->data->col[s->aux[j]];
+    P->anames[j] = c->name;
+    int bin = 1;
+    double v0 = c->x[P->rows[0]];
+    int one = 1;
+    for (size_t m = 0; m < n; m++) {
+      double v = c->x[P->rows[m]];
+      P->A[m * k + j] = v;
+      if (v != 0 && v != 1) bin = 0;
+      if (v != v0) one = 0;
+    }
+    P->abin[j] = bin;
+    nbin += (size_t)bin;
+    if (one) {
+      int rc = sl_error_set(e, SL_EARG, 0, 0, "the %s '%s' takes the single value %g in the "
+                            "%zu complete rows", aux_word(s), c->name, v0, n);
+      sl_est_prep_free(P);
+      return rc;
+    }
+  }
+  if (s->method == SL_FRONTDOOR && nbin > SL_ROUTE_BINARY_MAX) {
+    sl_est_prep_free(P);
+    return sl_error_set(e, SL_ELIMIT, 0, 0, "%zu binary mediators: at most %d (the estimate sums "
+                        "over their 2^k combinations)", nbin, SL_ROUTE_BINARY_MAX);
+  }
+  return SL_OK;
+}
+
 int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *e) {
   memset(P, 0, sizeof *P);
   int rc = check_roles(s, e);
@@ -82,6 +175,7 @@ int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *
     int ok = !missing(&f->col[s->treatment], r) &&
              (s->outcome < 0 || !missing(&f->col[s->outcome], r));
     for (size_t i = 0; ok && i < s->nset; i++) ok = !missing(&f->col[s->set[i]], r);
+    for (size_t i = 0; ok && i < s->naux; i++) ok = !missing(&f->col[s->aux[i]], r);
     keep[r] = (unsigned char)ok;
     n += (size_t)ok;
   }
@@ -89,7 +183,8 @@ int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *
   if (n == 0) {
     free(keep);
     return sl_error_set(e, SL_EARG, 0, 0, "no rows are left after dropping the %zu with missing "
-                        "values in the treatment, outcome or set", nr);
+                        "values in the treatment, outcome or set%s", nr,
+                        s->naux ? (s->method == SL_FRONTDOOR ? " or mediators" : " or instruments") : "");
   }
   /* covariate design columns: numbers as they are, categories as dummies
   ** for every level but the first seen in the complete rows */
@@ -146,6 +241,7 @@ int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *
   }
   P->bin_t = is_binary(P->t, n);
   P->bin_y = is_binary(P->y, n);
+  if ((rc = fill_aux(s, P, e))) return rc;
   double t0 = P->t[0];
   int one = 1;
   for (size_t m = 1; m < n && one; m++) one = P->t[m] == t0;
@@ -154,7 +250,12 @@ int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *
     return sl_error_set(e, SL_EARG, 0, 0, "the treatment '%s' takes the single value %g in the "
                         "%zu complete rows", tname, t0, n);
   }
-  if (!P->bin_t && s->method != SL_STANDARDIZE) {
+  if (!P->bin_t && s->method == SL_FRONTDOOR) {
+    sl_est_prep_free(P);
+    return sl_error_set(e, SL_EARG, 0, 0, "method = \"frontdoor\" needs a 0/1 treatment, and '%s' "
+                        "takes other values: use f:binarize", tname);
+  }
+  if (!P->bin_t && s->method != SL_STANDARDIZE && s->method != SL_IV) {
     sl_est_prep_free(P);
     return sl_error_set(e, SL_EARG, 0, 0, "%s needs a 0/1 treatment, and '%s' takes other values: "
                         "use f:binarize, or method = \"standardize\" for a continuous treatment",
@@ -197,6 +298,7 @@ int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
   res->ess = pt.ess; res->ess1 = pt.ess1; res->ess0 = pt.ess0;
   res->ps_min = pt.ps_min; res->ps_max = pt.ps_max; res->ps_extreme = pt.ps_extreme;
   res->binary_outcome = P.bin_y; res->binary_treatment = P.bin_t;
+  res->route = pt.route;
   double level = s->level > 0 && s->level < 1 ? s->level : 0.95;
   double z = gsl_cdf_ugaussian_Pinv(0.5 + level / 2);
   if (s->method != SL_STANDARDIZE && pt.ps_extreme) {
@@ -232,6 +334,13 @@ int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
   } else if (!res->has_se) {
     sl_est_warn(res->warnings, s->method == SL_STANDARDIZE
                 ? "no standard error without a bootstrap: give boot = 200 or more"
+                : s->method == SL_FRONTDOOR
+                ? "no analytic standard error for this front-door estimate (it has one only when "
+                  "every model is linear without interactions, on the difference scale): give "
+                  "boot = 200 or more"
+                : s->method == SL_IV
+                ? "no standard error: the outcome is an exact linear function of the fitted "
+                  "treatment and the set; give boot = 200 or more"
                 : "no standard error on a ratio scale without a bootstrap: give boot = 200 or more");
   } else if (s->method == SL_IPW) {
     sl_est_warn(res->warnings, "the IPW standard error treats the propensities as known "
