@@ -154,9 +154,11 @@ local known = {
   estimate = {data = true, treatment = true, outcome = true, set = true, graph = true,
               method = true, estimand = true, scale = true, interactions = true,
               contrast = true, stabilized = true, truncate = true, boot = true,
-              level = true, seed = true, threads = true},
+              level = true, seed = true, threads = true, via = true, instrument = true},
 }
-known.balance = known.estimate
+known.balance = {}
+for k in pairs(known.estimate) do known.balance[k] = true end
+known.balance.via, known.balance.instrument = nil, nil
 known.overlap = {data = true, treatment = true, outcome = true, set = true, graph = true,
                  plot = true, bins = true}
 
@@ -299,9 +301,114 @@ local estimate_mt = {__name = "sluice.estimate"}
 
 local method_names = {standardize = "standardization (g-formula)",
                       ipw = "inverse probability weighting (normalised weights)",
-                      aipw = "augmented IPW (doubly robust)"}
+                      aipw = "augmented IPW (doubly robust)",
+                      frontdoor = "front-door formula (regression models)",
+                      iv = "instrumental variables (two-stage least squares)"}
+
+E.route_caution = "An estimate is only as good as the graph and the assumptions of its route;\n" ..
+                  "  it is no substitute for qualified epidemiological or clinical judgement."
+
+-- {"a", "b"} as the user would write the list in Lua.
+local function lua_list(list)
+  local q = {}
+  for i, v in ipairs(list) do q[i] = string.format("%q", v) end
+  return "{" .. table.concat(q, ", ") .. "}"
+end
+E.lua_list = lua_list
+
+local function set_text(list)
+  local names = {}
+  for i, v in ipairs(list) do names[i] = P.name(v) end
+  return "{" .. table.concat(names, ", ") .. "}"
+end
+
+-- The printed form of a front-door or IV estimate.
+local function route_text(r)
+  local lines = {}
+  local function add(k, v) lines[#lines + 1] = string.format("  %-11s %s", k, v) end
+  if r.method == "frontdoor" then
+    lines[1] = string.format("%s: %s of %s on %s, %s scale", method_names.frontdoor, "ATE",
+                             r.treatment, r.outcome, r.scale)
+  else
+    lines[1] = string.format("%s: effect of %s on %s (per unit of %s)", method_names.iv,
+                             r.treatment, r.outcome, r.treatment)
+  end
+  add("estimate", fmt(r.estimate))
+  if r.se and r.se == r.se then
+    local how
+    if r.boot then how = string.format("bootstrap, %d replicates", r.boot)
+    elseif r.method == "frontdoor" then how = "delta method on the product of coefficients"
+    else how = "HC1 robust" end
+    if r.method == "iv" and r.se_classical then
+      how = how .. "; classical " .. fmt(r.se_classical) .. ", HC0 " .. fmt(r.se_hc0) ..
+            (r.boot and (", HC1 " .. fmt(r.se_hc1)) or "")
+    end
+    if r.method == "frontdoor" and r.boot and r.se_delta then
+      how = how .. "; delta method " .. fmt(r.se_delta)
+    end
+    add("SE", fmt(r.se) .. "   (" .. how .. ")")
+    add(string.format("%g%% CI", r.level * 100),
+        fmt(r.lo) .. " to " .. fmt(r.hi) ..
+        (r.boot and ("   (percentile; normal " .. fmt(r.lo_normal) .. " to " ..
+                     fmt(r.hi_normal) .. ")") or "   (normal)"))
+  else
+    add("SE", "none: give boot = 200 or more")
+  end
+  add("n", string.format("%d used, %d dropped for missing values", r.n, r.dropped))
+  if r.method == "frontdoor" then
+    add("via", set_text(r.via) .. "   (" .. r.set_reason .. ")")
+    local models = {}
+    for j, m in ipairs(r.via) do
+      local rhs = {r.treatment}
+      for l = 1, j - 1 do rhs[#rhs + 1] = r.via[l] end
+      models[j] = string.format("%s ~ %s (%s): %s %s", P.name(m), table.concat(rhs, " + "),
+                                r.mediator_binary[j] and "logistic" or "linear", r.treatment,
+                                fmt(r.mediator_coef[j]))
+    end
+    for j, t in ipairs(models) do add(j == 1 and "models" or "", t) end
+    local coefs = {}
+    for j, m in ipairs(r.via) do coefs[j] = P.name(m) .. " " .. fmt(r.outcome_coef[j]) end
+    add("", string.format("%s ~ %s + %s%s (%s): %s", r.outcome, r.treatment,
+                          table.concat(r.via, " + "), r.interactions and " + interactions" or "",
+                          r.binary_outcome and "logistic" or "linear", table.concat(coefs, ", ")))
+    if r.product and #r.via == 1 then
+      add("product", string.format("%s x %s = %s", fmt(r.mediator_coef[1]), fmt(r.outcome_coef[1]),
+                                   fmt(r.mediator_coef[1] * r.outcome_coef[1])))
+    end
+    add("means", string.format("%s under treatment, %s under control (E[%s | do(%s)])",
+                               fmt(r.mu1), fmt(r.mu0), r.outcome, r.treatment))
+  else
+    add("instrument", set_text(r.instrument) .. " given " .. set_text(r.set) ..
+        "   (" .. r.set_reason .. ")")
+    local coefs = {}
+    for j, z in ipairs(r.instrument) do coefs[j] = P.name(z) .. " " .. fmt(r.first_coef[j]) end
+    add("first stage", string.format("F = %s on %d and %d df (p %s), partial R^2 %s; %s",
+                                     fmt(r.first_f), r.first_df1, r.first_df2, fmt(r.first_p),
+                                     fmt(r.first_r2_partial), table.concat(coefs, ", ")))
+    if r.wald then
+      add("Wald", string.format("%s / %s = %s   (difference in %s over difference in %s " ..
+                                "between the instrument's arms)", fmt(r.wald_itt),
+                                fmt(r.wald_uptake), fmt(r.wald), r.outcome, r.treatment))
+    end
+  end
+  for _, w in ipairs(r.warnings) do add("warning", w) end
+  if r.method == "iv" and r.binary_treatment then
+    lines[#lines + 1] = "  caution: when the effect differs between units, 2SLS estimates a local effect:\n" ..
+      "  the average effect among compliers (those whose treatment the instrument\n" ..
+      "  moves), assuming no one does the opposite of what it encourages (Imbens and\n" ..
+      "  Angrist 1994); not the effect in everyone."
+  elseif r.method == "iv" then
+    lines[#lines + 1] = "  caution: when the effect differs between units, 2SLS estimates a weighted\n" ..
+      "  average of the effects of unit changes among those whose treatment the\n" ..
+      "  instrument moves (Angrist, Graddy and Imbens 2000; for a 0/1 treatment, the\n" ..
+      "  effect among compliers, Imbens and Angrist 1994); not the effect in everyone."
+  end
+  lines[#lines + 1] = "  " .. E.route_caution
+  return table.concat(lines, "\n")
+end
 
 function estimate_mt.__tostring(r)
+  if r.method == "frontdoor" or r.method == "iv" then return route_text(r) end
   local lines = {string.format("%s: %s of %s on %s, %s scale", method_names[r.method],
                                r.estimand, r.treatment, r.outcome, r.scale)}
   local function add(k, v) lines[#lines + 1] = string.format("  %-10s %s", k, v) end
@@ -337,6 +444,120 @@ function estimate_mt.__tostring(r)
   return table.concat(lines, "\n")
 end
 
+-- ---- routes in the graph ----
+
+-- The method name of the graph g, when g has it (g:frontdoor, g:instruments
+-- and g:identify come from other parts of sluice; each is used when there).
+local function graph_method(g, name)
+  local ok, f = pcall(function() return g[name] end)
+  if ok and type(f) == "function" then return f end
+end
+E.graph_method = graph_method
+
+-- The first reason of a list of reasons (or a reason, or a string) as text.
+local function reason_text(why)
+  if type(why) == "table" then
+    local w = why[1]
+    if w == nil then return "?" end
+    if type(w) == "table" and w.text then return tostring(w.text) end
+    return tostring(w)
+  end
+  return why == nil and "?" or tostring(why)
+end
+E.reason_text = reason_text
+
+-- The list in causal order: by place in g:order(), names not in it last.
+local function causal_order(g, list)
+  local at = {}
+  for i, v in ipairs(g:order()) do at[v] = i end
+  local out = as_list(list)
+  local pos = {}
+  for i, v in ipairs(out) do pos[v] = i end
+  table.sort(out, function(a, b)
+    local pa, pb = at[a] or math.huge, at[b] or math.huge
+    if pa ~= pb then return pa < pb end
+    return pos[a] < pos[b]
+  end)
+  return out
+end
+
+-- The graph's front-door set with the fewest nodes (the first listed of
+-- those), in causal order, and how many sets there are; nil when none.
+function E.pick_frontdoor(g, x, y)
+  local f = graph_method(g, "frontdoor")
+  if not f then return nil, 0, "this sluice has no g:frontdoor" end
+  local ok, sets = pcall(f, g, x, y)
+  if not ok then return nil, 0, tostring(sets):gsub("^[^:\n]*:%d+: ", "", 1) end
+  if type(sets) ~= "table" or #sets == 0 then return nil, 0 end
+  local best
+  for i, v in ipairs(sets) do if not best or #v < #sets[best] then best = i end end
+  return causal_order(g, sets[best]), #sets
+end
+
+-- The graph's instrument with the smallest conditioning set (the first
+-- listed of those: the list is sorted by instrument), and how many.
+function E.pick_instrument(g, x, y)
+  local f = graph_method(g, "instruments")
+  if not f then return nil, 0, "this sluice has no g:instruments" end
+  local ok, list = pcall(f, g, x, y)
+  if not ok then return nil, 0, tostring(list):gsub("^[^:\n]*:%d+: ", "", 1) end
+  if type(list) ~= "table" or #list == 0 then return nil, 0 end
+  local best
+  for i, v in ipairs(list) do
+    if not best or #as_list(v.given) < #as_list(list[best].given) then best = i end
+  end
+  return {z = list[best].z, given = as_list(list[best].given)}, #list
+end
+
+-- The calls that estimate the effect by another route than adjustment,
+-- one line each: a front-door set, an instrument, or (neither there) the
+-- general identification formula.
+function E.route_calls(g, x, y)
+  local out = {}
+  local head = string.format("estimate{data = ..., treatment = %q, outcome = %q, ", x, y)
+  local via, nfd = E.pick_frontdoor(g, x, y)
+  if via then
+    out[#out + 1] = string.format("a front-door set %s%s: %smethod = \"frontdoor\", via = %s}",
+                                  set_text(via), nfd > 1 and string.format(" (1 of %d)", nfd) or "",
+                                  head, lua_list(via))
+  end
+  local inst, niv = E.pick_instrument(g, x, y)
+  if inst then
+    out[#out + 1] = string.format("an instrument %s given %s%s: %smethod = \"iv\", instrument = %q, set = %s}",
+                                  P.name(inst.z), set_text(inst.given),
+                                  niv > 1 and string.format(" (1 of %d)", niv) or "", head,
+                                  inst.z, lua_list(inst.given))
+  end
+  local identify = graph_method(g, "identify")
+  if #out == 0 and identify then
+    local ok, r = pcall(identify, g, x, y)
+    if ok and type(r) == "table" then
+      if r.identified then
+        out[#out + 1] = string.format("the general formula %s: for discrete data, " ..
+                                      "g:identify(%q, %q):evaluate(data, {at = {%s = 1}})",
+                                      tostring(r.formula), x, y, string.format("[%q]", x))
+      else
+        out[#out + 1] = "none: the effect is not identified from this graph (" ..
+                        reason_text(r.why) .. "); no estimator recovers it from these data"
+      end
+    end
+  end
+  return out
+end
+
+-- The message for a graph with no adjustment set: why, and the routes.
+local function no_set_message(g, x, y, sets)
+  local msg = string.format("the graph admits no valid adjustment set for %s -> %s: %s", x, y,
+                            reason_text(sets.none))
+  local calls = E.route_calls(g, x, y)
+  if #calls == 0 then
+    return msg .. "\n  and the graph shows no other route (g:frontdoor, g:instruments, g:identify)"
+  end
+  if #calls == 1 and calls[1]:find("^none: ") then return msg .. "\n  " .. calls[1] end
+  return msg .. "\n  " .. (#calls > 1 and "other routes exist:" or "another route exists:") ..
+         "\n    " .. table.concat(calls, "\n    ")
+end
+
 -- The covariates: set = as given, or graph = chosen from the graph.
 local function resolve_set(fname, a)
   if a.set ~= nil and a.graph ~= nil then fail(fname, "give set = or graph =, not both") end
@@ -348,12 +569,9 @@ local function resolve_set(fname, a)
   local o, why = g:optimal(a.treatment, a.outcome)
   if o then return as_list(o), "the optimal set O(X, Y) of the graph" end
   local sets = g:adjust(a.treatment, a.outcome)
-  if #sets == 0 then
-    fail(fname, "the graph admits no valid adjustment set: " ..
-         tostring(sets.none and sets.none[1] or "?"))
-  end
+  if #sets == 0 then fail(fname, no_set_message(g, a.treatment, a.outcome, sets)) end
   return as_list(sets[1]), "the smallest minimal set of the graph; no optimal set: " ..
-                           (why and why[1] and why[1].text or "?")
+                           reason_text(why)
 end
 
 local function spec(fname, a)
@@ -380,7 +598,9 @@ local function spec(fname, a)
          "(the change in a continuous treatment, e.g. 1)")
   end
   local opts = {
-    method = choice(fname, "method", a.method, {"standardize", "ipw", "aipw"}, "standardize"),
+    method = choice(fname, "method", a.method, fname == "estimate" and
+                    {"standardize", "ipw", "aipw", "frontdoor", "iv"} or {"standardize", "ipw", "aipw"},
+                    "standardize"),
     estimand = choice(fname, "estimand", a.estimand, {"ATE", "ATT", "ATC"}, "ATE"),
     scale = choice(fname, "scale", a.scale, {"difference", "ratio", "odds ratio"}, "difference"),
     interactions = a.interactions, contrast = a.contrast, stabilized = a.stabilized,
@@ -400,7 +620,201 @@ local function spec(fname, a)
   return set, why, opts
 end
 
+-- A name or a list of names at option key: a list of distinct strings.
+local function names_option(fname, key, v, what)
+  if type(v) == "string" then v = {v} end
+  if type(v) ~= "table" or #v == 0 then
+    fail(fname, string.format("%s = must name %s (a column name or a list of names), got %s",
+                              key, what, show(v)))
+  end
+  local out, seen = {}, {}
+  for i, name in ipairs(v) do
+    if type(name) ~= "string" then
+      fail(fname, string.format("%s = item %d is %s, not a column name", key, i, show(name)))
+    end
+    if seen[name] then fail(fname, string.format("%s = names '%s' twice", key, name)) end
+    seen[name] = true
+    out[i] = name
+  end
+  return out
+end
+
+-- A set = list checked as names.
+local function set_option(fname, v)
+  if v == nil then return {} end
+  if type(v) ~= "string" and type(v) ~= "table" then
+    fail(fname, "set = must be a column name or a list of names, got " .. show(v))
+  end
+  return as_list(v)
+end
+
+-- None of the names is the treatment, the outcome, or hidden in g.
+local function check_roles(fname, key, names, a, word)
+  local hidden = {}
+  if a.graph then for _, h in ipairs(a.graph:hidden()) do hidden[h] = true end end
+  for _, v in ipairs(names) do
+    if v == a.treatment then
+      fail(fname, string.format("%s = holds the treatment '%s': %s", key, v, word.treatment))
+    end
+    if v == a.outcome then
+      fail(fname, string.format("%s = holds the outcome '%s': %s", key, v, word.outcome))
+    end
+    if hidden[v] then
+      fail(fname, string.format("%s = names '%s', hidden in the graph: it has no data", key, v))
+    end
+  end
+end
+
+-- The mediators of a front-door estimate, in causal order, and why.
+local function frontdoor_via(fname, a)
+  local g, x, y = a.graph, a.treatment, a.outcome
+  if a.instrument ~= nil then fail(fname, 'instrument = applies to method = "iv", not "frontdoor"') end
+  if a.set ~= nil then
+    fail(fname, 'set = does not apply to method = "frontdoor": the front-door route adjusts for ' ..
+         "no covariates (via = names the mediators)")
+  end
+  if a.via == nil then
+    if not g then fail(fname, 'method = "frontdoor" needs via = {mediators}, or graph = g to choose them') end
+    local via, count, err = E.pick_frontdoor(g, x, y)
+    if not via then
+      local msg = string.format("graph = admits no front-door set for %s -> %s%s", x, y,
+                                err and (" (" .. err .. ")") or "")
+      local calls = E.route_calls(g, x, y)
+      if #calls > 0 then msg = msg .. "\n  routes the graph has:\n    " .. table.concat(calls, "\n    ") end
+      fail(fname, msg)
+    end
+    return via, count == 1 and "the front-door set of the graph"
+                or string.format("the smallest of the graph's %d front-door sets", count)
+  end
+  local via = names_option(fname, "via", a.via, "the mediators")
+  check_roles(fname, "via", via, a, {
+    treatment = "the mediators lie on the paths from the treatment to the outcome",
+    outcome = "the mediators lie on the paths from the treatment to the outcome"})
+  if not g then return via, "as given, earliest first" end
+  local check = graph_method(g, "frontdoor")
+  if check then
+    local ok, why = check(g, x, y, via)
+    if not ok then
+      fail(fname, string.format("via = %s is not a front-door set for %s -> %s in the graph: %s",
+                                set_text(via), x, y, reason_text(why)))
+    end
+  end
+  return causal_order(g, via), "as given; a front-door set of the graph"
+end
+
+-- The instruments of an IV estimate, the set, and why.
+local function iv_instrument(fname, a)
+  local g, x, y = a.graph, a.treatment, a.outcome
+  if a.via ~= nil then fail(fname, 'via = applies to method = "frontdoor", not "iv"') end
+  if a.interactions ~= nil then fail(fname, 'interactions = does not apply to method = "iv"') end
+  local inst, set, why
+  if a.instrument == nil then
+    if not g then
+      fail(fname, 'method = "iv" needs instrument = a column (and set = the covariates it needs), ' ..
+           "or graph = g to choose both")
+    end
+    if a.set ~= nil then fail(fname, "give instrument = with set =, or graph = alone to choose both") end
+    local pick, count, err = E.pick_instrument(g, x, y)
+    if not pick then
+      local msg = string.format("graph = shows no instrument for %s -> %s%s", x, y,
+                                err and (" (" .. err .. ")") or "")
+      local calls = E.route_calls(g, x, y)
+      if #calls > 0 then msg = msg .. "\n  routes the graph has:\n    " .. table.concat(calls, "\n    ") end
+      fail(fname, msg)
+    end
+    return {pick.z}, pick.given, count == 1 and "the instrument of the graph"
+           or string.format("the first of the graph's %d instruments with the smallest set", count)
+  end
+  inst = names_option(fname, "instrument", a.instrument, "the instrument")
+  check_roles(fname, "instrument", inst, a, {
+    treatment = "an instrument is another variable, one that moves the treatment",
+    outcome = "an instrument must affect the outcome only through the treatment"})
+  set, why = set_option(fname, a.set), "as given"
+  if g and a.set == nil and #inst == 1 then   -- the set the graph lists with it
+    local list = graph_method(g, "instruments") and g:instruments(x, y) or {}
+    for _, v in ipairs(list) do
+      if v.z == inst[1] then set, why = as_list(v.given), "the set the graph gives with it"; break end
+    end
+  end
+  local check = g and graph_method(g, "instruments")
+  if check then
+    for _, z in ipairs(inst) do
+      local ok, reasons = check(g, x, y, z, set)
+      if not ok then
+        fail(fname, string.format("instrument = '%s' given %s is not an instrument for %s -> %s " ..
+                                  "in the graph: %s", z, set_text(set), x, y, reason_text(reasons)))
+      end
+    end
+  end
+  for _, z in ipairs(inst) do
+    for _, w in ipairs(set) do
+      if z == w then fail(fname, string.format("instrument = '%s' is also in set =", z)) end
+    end
+  end
+  return inst, set, why
+end
+
+-- estimate{method = "frontdoor" | "iv"}: the mediators or instruments, the
+-- checks, the primitive.
+local function route_estimate(a)
+  local fname = "estimate"
+  args(fname, a, known.estimate)
+  check_column(fname, "treatment", a.data, a.treatment)
+  check_column(fname, "outcome", a.data, a.outcome)
+  if a.graph ~= nil and (getmetatable(a.graph) or {}).__name ~= "sluice.graph" then
+    fail(fname, "graph = must be a graph (graph[[...]] or read_graph), got " .. show(a.graph))
+  end
+  local method = a.method
+  local aux, set, why
+  if method == "frontdoor" then
+    aux, why = frontdoor_via(fname, a)
+    set = {}
+    for _, v in ipairs(aux) do check_column(fname, "via", a.data, v) end
+  else
+    aux, set, why = iv_instrument(fname, a)
+    for _, v in ipairs(aux) do check_column(fname, "instrument", a.data, v) end
+    for _, v in ipairs(set) do check_column(fname, "set", a.data, v) end
+  end
+  local boot, seed, threads = E.check_common(fname, a)
+  for _, k in ipairs({"stabilized", "truncate"}) do
+    if a[k] ~= nil then fail(fname, k .. ' = applies to method = "ipw", not "' .. method .. '"') end
+  end
+  if a.contrast ~= nil then
+    fail(fname, 'contrast = applies to method = "standardize"; method = "' .. method ..
+         (method == "iv" and '" estimates the effect per unit of the treatment' or '" needs a 0/1 treatment'))
+  end
+  if a.interactions ~= nil and type(a.interactions) ~= "boolean" then
+    fail(fname, "interactions = " .. show(a.interactions) .. " must be true or false")
+  end
+  local opts = {
+    method = method,
+    estimand = choice(fname, "estimand", a.estimand, {"ATE", "ATT", "ATC"}, "ATE"),
+    scale = choice(fname, "scale", a.scale, {"difference", "ratio", "odds ratio"}, "difference"),
+    interactions = a.interactions == true, boot = boot, level = a.level, seed = seed,
+    threads = threads, progress = (boot or 0) >= 200,
+  }
+  local r = call(fname, S._estimate_route, a.data, a.treatment, a.outcome, set, opts, aux)
+  r.method, r.estimand, r.scale = method, opts.estimand, opts.scale
+  r.treatment, r.outcome, r.level = a.treatment, a.outcome, a.level or 0.95
+  r.set, r.set_reason, r.interactions = set, why, opts.interactions
+  if method == "frontdoor" then r.via = aux else r.instrument = aux end
+  local w = {}
+  for line in (r.warnings or ""):gmatch("[^\n]+") do w[#w + 1] = line end
+  r.warnings = w
+  r.seed = opts.seed or 1
+  return setmetatable(r, estimate_mt)
+end
+
 function E.estimate(a)
+  if type(a) == "table" and (a.method == "frontdoor" or a.method == "iv") then
+    return route_estimate(a)
+  end
+  if type(a) == "table" and a.via ~= nil then
+    fail("estimate", 'via = applies to method = "frontdoor" (the mediators of the front-door route)')
+  end
+  if type(a) == "table" and a.instrument ~= nil then
+    fail("estimate", 'instrument = applies to method = "iv"')
+  end
   local set, why, opts = spec("estimate", a)
   local outcome = a.outcome
   local r = call("estimate", S._estimate, a.data, a.treatment, outcome, set, opts)

@@ -252,8 +252,8 @@ int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *
   }
   if (!P->bin_t && s->method == SL_FRONTDOOR) {
     sl_est_prep_free(P);
-    return sl_error_set(e, SL_EARG, 0, 0, "method = \"frontdoor\" needs a 0/1 treatment, and '%s' "
-                        "takes other values: use f:binarize", tname);
+    return sl_error_set(e, SL_EARG, 0, 0, "treatment = '%s' takes values other than 0 and 1, and "
+                        "method = \"frontdoor\" needs a 0/1 treatment: use f:binarize", tname);
   }
   if (!P->bin_t && s->method != SL_STANDARDIZE && s->method != SL_IV) {
     sl_est_prep_free(P);
