@@ -44,7 +44,14 @@ enum sl_reason_kind {
   SL_WHY_DESC_TREATMENT,   /* back-door only: a descendant of a treatment */
   SL_WHY_OPEN,             /* a non-causal trail left open: path */
   SL_WHY_NO_CAUSAL_PATH,   /* optimal: no outcome descends from a treatment */
-  SL_WHY_BIDIRECTED        /* optimal: <-> edges put it outside the theory */
+  SL_WHY_BIDIRECTED,       /* optimal: <-> edges put it outside the theory */
+  SL_WHY_FD_MISSED = 20,   /* front-door: path is a directed x-y path the set misses */
+  SL_WHY_FD_FROM_X,        /* front-door: path is an open back-door trail x .. node */
+  SL_WHY_FD_TO_Y,          /* front-door: path, node .. y, is open given x */
+  SL_WHY_FD_NONE,          /* front-door: no allowed node intercepts path */
+  SL_WHY_IV_IRRELEVANT,    /* instrument: node is d-separated from x given the set */
+  SL_WHY_IV_OPEN,          /* instrument: path, node .. y, open given the set */
+  SL_WHY_IV_FORBIDDEN      /* instrument: node descends from via (y or a mediator) */
 };
 
 typedef struct sl_reason {
