@@ -50,6 +50,13 @@ local function why_open(g, set, trail)
   return table.concat(parts, "; ")
 end
 
+-- A set in braces, for the optimal set's reasons.
+local function set_words(s)
+  local names = {}
+  for i, v in ipairs(s) do names[i] = P.name(v) end
+  return "{" .. table.concat(names, ", ") .. "}"
+end
+
 local words = {
   hidden = function(r) return q(r.node) .. " is hidden: it was never measured, so it cannot be adjusted for" end,
   treatment = function(r) return q(r.node) .. " is a treatment" end,
@@ -74,6 +81,22 @@ local words = {
   ["no causal path"] = function()
     return "no outcome descends from the treatment: the effect is zero and O(X, Y) is not defined"
   end,
+  ["no valid set"] = function()
+    return "no valid adjustment set exists, so there is no optimal one " ..
+           "(g:adjust shows the trail no set can block; g:identify looks for other routes)"
+  end,
+  ["not joint"] = function()
+    return "the covariates that sharpen the outcome cannot be adjusted for all at once " ..
+           "(the trail below opens), so which subset is best depends on the coefficients"
+  end,
+  ["trade-off"] = function(r, set)
+    local rival = r.rival and set_words(r.rival) or "some valid set"
+    return q(r.node) .. " sharpens the outcome (it is tied to " .. q(r.via or "?") ..
+           " by a collider path) but also carries information on the treatment along " ..
+           (r.trail and r.trail.text or "?") .. ", a trail the valid set " .. rival ..
+           " leaves open without it: " .. set_words(set or {}) .. " and " .. rival ..
+           " each have the smaller variance in some linear models, so no set is best in every model"
+  end,
   bidirected = function()
     return "the graph has hidden common causes (<->); O(X, Y) is guaranteed valid only " ..
            "without them (Henckel, Perkovic and Maathuis 2022): use g:adjust"
@@ -91,7 +114,7 @@ function E.explain(g, set, reasons, none)
                  why_open(g, set, r.trail)
       end
     else
-      r.text = (words[r.kind] or function() return r.kind end)(r)
+      r.text = (words[r.kind] or function() return r.kind end)(r, set)
     end
   end
 end

@@ -503,8 +503,11 @@ static int32_t **push_ids_box(lua_State *L) {
   return p;
 }
 
-/* g:optimal(x, y) */
+/* g:optimal(x, y).  The reasons of optimal.c's own kinds are built here
+** (a trade-off carries its rival set); the others go through
+** push_reasons one at a time, so the order of rs is kept. */
 static int l_optimal(lua_State *L) {
+  static const char *const own[] = {"no valid set", "not joint", "trade-off"};
   sl_graph *g = sl_bind_checkgraph(L, 1);
   int32_t *x, *y;
   size_t nx, ny, no = 0;
@@ -522,7 +525,40 @@ static int l_optimal(lua_State *L) {
   unsigned char *an = ancestors_of(L, g, z, *o, no);
   lua_pushnil(L);
   int at = lua_gettop(L);
-  push_reasons(L, g, rs, z, an);
+  lua_createtable(L, (int)rs->n, 0);
+  int list = lua_gettop(L), k = 0;
+  for (size_t i = 0; i < rs->n; i++) {
+    const sl_reason *r = &rs->r[i];
+    if (r->kind < SL_WHY_NO_VALID_SET) {
+      sl_reasons one = {(sl_reason *)r, 1, 1};
+      push_reasons(L, g, &one, z, an);
+      lua_rawgeti(L, -1, 1);
+      lua_remove(L, -2);
+    } else if (r->kind == SL_WHY_RIVAL) {
+      continue;   /* read with its trade-off */
+    } else {
+      lua_createtable(L, 0, 5);
+      lua_pushstring(L, own[r->kind - SL_WHY_NO_VALID_SET]);
+      lua_setfield(L, -2, "kind");
+      if (r->node >= 0) { lua_pushstring(L, sl_graph_name(g, r->node)); lua_setfield(L, -2, "node"); }
+      if (r->via >= 0) { lua_pushstring(L, sl_graph_name(g, r->via)); lua_setfield(L, -2, "via"); }
+      if (r->kind == SL_WHY_TRADEOFF && i + 1 < rs->n && rs->r[i + 1].kind == SL_WHY_RIVAL) {
+        const sl_reason *rv = &rs->r[i + 1];
+        unsigned char *rz = scratch(L, g);
+        for (size_t j = 0; j < rv->npath; j++) rz[rv->path[j]] = 1;
+        unsigned char *ran = ancestors_of(L, g, rz, rv->path, rv->npath);
+        sl_trail t = {r->path, r->steps, r->npath - 1};
+        push_trail(L, g, &t, rz, ran);
+        lua_setfield(L, -4, "trail");
+        lua_pop(L, 2);
+        push_set(L, g, rv->path, rv->npath);
+        lua_setfield(L, -2, "rival");
+      }
+      luaL_setmetatable(L, "sluice.reason");
+    }
+    lua_rawseti(L, list, ++k);
+  }
+  luaL_setmetatable(L, "sluice.reasons");
   push_set(L, g, *o, no);
   explain(L, 1, at + 2, at + 1);
   lua_pop(L, 1);

@@ -8,8 +8,9 @@
 **   minimal sets: the minimal X-Y separators of the augmented proper
 **     back-door graph, listed from the one closest to X by the neighbourhood
 **     step of Kloks and Kratsch 1998 (SIAM J. Computing 27);
-**   the optimal set O(X, Y) = pa(cn(X, Y)) \ forb(X, Y): Henckel, Perkovic
-**     and Maathuis 2022 (JRSS B 84);
+**   the optimal set: O(X, Y) = pa(cn(X, Y)) \ forb(X, Y) of Henckel,
+**     Perkovic and Maathuis 2022 (JRSS B 84) grown by the collider walk of
+**     Runge 2021 (NeurIPS) for hidden nodes and <-> edges (optimal.c);
 **   the cheapest set: a minimum vertex cut (van der Zander et al. 2019).
 */
 #ifndef SL_ADJUST_H
@@ -51,7 +52,14 @@ enum sl_reason_kind {
   SL_WHY_FD_NONE,          /* front-door: no allowed node intercepts path */
   SL_WHY_IV_IRRELEVANT,    /* instrument: node is d-separated from x given the set */
   SL_WHY_IV_OPEN,          /* instrument: path, node .. y, open given the set */
-  SL_WHY_IV_FORBIDDEN      /* instrument: node descends from via (y or a mediator) */
+  SL_WHY_IV_FORBIDDEN,     /* instrument: node descends from via (y or a mediator) */
+  SL_WHY_NO_VALID_SET = 40, /* optimal: no valid set, so no optimal one */
+  SL_WHY_NOT_JOINT,        /* optimal: the gathered set is not valid as a whole */
+  SL_WHY_TRADEOFF,         /* optimal: node sharpens the outcome (through via)
+                              but informs the treatment along path, which a
+                              valid set without it leaves open */
+  SL_WHY_RIVAL             /* optimal: follows SL_WHY_TRADEOFF; path holds
+                              that valid set (npath members, no steps) */
 };
 
 typedef struct sl_reason {
@@ -86,8 +94,11 @@ int sl_adjust_each(const sl_effect *q, sl_mark forbid, sl_mark require,
                    sl_set_fn fn, void *ctx, int *none, sl_reasons *reason,
                    volatile int *stop, sl_error *e);
 
-/* O(X, Y).  *ok is 0 when it does not exist or is not valid here, with
-** the reasons in rs (a hidden member, hidden confounding, no valid set). */
+/* The optimal adjustment set (optimal.c).  *ok is 0 when none exists,
+** with the reasons in rs: no causal path, no valid set (after the hidden
+** parents of cn), or the members whose precision on the outcome trades
+** against information on the treatment, each with a rival valid set.
+** *set is the set the reasons speak of. */
 int sl_optimal(const sl_effect *q, int32_t **set, size_t *n, int *ok,
                sl_reasons *rs, sl_error *e);
 
