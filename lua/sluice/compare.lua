@@ -99,8 +99,8 @@ end
 
 local compare_mt = {__name = "sluice.comparison"}
 function compare_mt.__tostring(c)
-  local head = string.format("%s of %s on %s under each candidate set (%s)", c.estimand,
-                             c.treatment, c.outcome, c.method)
+  local head = string.format("%s of %s on %s under each candidate set%s (%s)", c.estimand,
+                             c.treatment, c.outcome, c.routes and " and route" or "", c.method)
   if c.truth then
     head = head .. string.format("; truth %s%s", E.fmt(c.truth),
                                  c.truth_se and (" (Monte Carlo, SE " .. E.fmt(c.truth_se) .. ")") or "")
@@ -123,13 +123,53 @@ function compare_mt.__tostring(c)
     lines[#lines + 1] = "  limit: the value the least-squares coefficient converges to with that set"
   end
   if c.plot then lines[#lines + 1] = "  picture: " .. c.plot end
+  for _, note in ipairs(c.notes or {}) do lines[#lines + 1] = "  " .. note end
+  if c.routes then
+    lines[#lines + 1] = "  routes: the front-door row uses the front-door formula, the instrument row" ..
+                        "\n  two-stage least squares (a local effect when effects vary); see estimate{}"
+  end
   lines[#lines + 1] = "  " .. E.caution
   return table.concat(lines, "\n")
 end
 
 local allowed = {data = true, graph = true, treatment = true, outcome = true, truth = true,
                  sets = true, method = true, boot = true, seed = true, level = true,
-                 plot = true, estimand = true, threads = true}
+                 plot = true, estimand = true, threads = true, routes = true}
+
+-- The rows of the front-door and IV routes the graph has: each estimated
+-- with its own method; a route the data cannot take (e.g. a treatment not
+-- 0/1 for the front-door) is left out with a note.
+local function route_rows(a, g, x, y, rows, notes)
+  local common = {data = a.data, treatment = x, outcome = y, seed = a.seed, level = a.level,
+                  threads = a.threads, boot = a.boot}
+  local function run(extra, label, text)
+    local args = {}
+    for k, v in pairs(common) do args[k] = v end
+    for k, v in pairs(extra) do args[k] = v end
+    local ok, est = pcall(E.estimate, args)
+    if ok and not (est.se and est.se == est.se) and a.boot == nil then
+      args.boot = 200   -- no analytic SE for this one: the bootstrap
+      ok, est = pcall(E.estimate, args)
+    end
+    if not ok then
+      local msg = tostring(est):gsub("^[^:\n]*:%d+: ", "", 1):gsub("^estimate: ", "", 1)
+      notes[#notes + 1] = label .. " route left out: " .. msg
+      return
+    end
+    rows[#rows + 1] = {set = {}, set_text = text, label = label, valid = true, valid_text = "yes",
+                       estimate = est.estimate, lo = est.lo, hi = est.hi, se = est.se,
+                       route = est}
+  end
+  local via = E.pick_frontdoor(g, x, y)
+  if via then
+    run({method = "frontdoor", via = via}, "front-door", "front-door via " .. set_text(via))
+  end
+  local inst = E.pick_instrument(g, x, y)
+  if inst then
+    run({method = "iv", instrument = inst.z, set = inst.given}, "instrument",
+        "instrument " .. P.name(inst.z) .. " | " .. set_text(inst.given))
+  end
+end
 
 -- sets = a name (one set of one node), or a list whose items are names or
 -- lists of names; every name a node of g.
@@ -200,6 +240,9 @@ function C.compare(a)
   if a.plot ~= nil and type(a.plot) ~= "string" then
     fail("plot = must be a file name ending in .svg, .png or .pdf, got " .. E.show(a.plot))
   end
+  if a.routes ~= nil and type(a.routes) ~= "boolean" then
+    fail("routes = " .. E.show(a.routes) .. " must be true or false")
+  end
   local method = E.choice("compare", "method", a.method, {"standardize", "ipw", "aipw"}, "standardize")
   E.choice("compare", "estimand", a.estimand, {"ATE", "ATT", "ATC"}, "ATE")
   E.check_common("compare", a)
@@ -232,6 +275,24 @@ function C.compare(a)
     if truth and truth ~= 0 then r.error_pct = 100 * (r.estimate - truth) / truth end
     if has_limit then r.limit = m:limit(x, y, r.set) end
   end
+  local routes = a.routes
+  if routes == nil then routes = #g:adjust(x, y, {limit = 1}) == 0 end
+  local notes = {}
+  if routes then
+    local n0 = #rows
+    route_rows(a, g, x, y, rows, notes)
+    for i = n0 + 1, #rows do
+      local r = rows[i]
+      r.interval = r.lo and (E.fmt(r.lo) .. " to " .. E.fmt(r.hi)) or "-"
+      if truth and truth ~= 0 then r.error_pct = 100 * (r.estimate - truth) / truth end
+    end
+    if #rows == n0 and #notes == 0 then
+      notes[1] = "routes: the graph shows no front-door set and no instrument" ..
+                 ((E.graph_method(g, "frontdoor") and E.graph_method(g, "instruments")) and ""
+                  or " (g:frontdoor or g:instruments is not available in this build)")
+    end
+  end
+  rows.routes, rows.notes = routes, notes
   rows.treatment, rows.outcome, rows.method = x, y, method
   rows.estimand = a.estimand or "ATE"
   rows.truth, rows.truth_se, rows.has_limit = truth, truth_se, has_limit
@@ -242,7 +303,8 @@ function C.compare(a)
       est[i], lo[i], hi[i] = r.estimate, r.lo or 0 / 0, r.hi or 0 / 0
     end
     rows.plot = E.call("compare", S._forest, a.plot, "Effect of " .. x .. " on " .. y ..
-                       " by adjustment set", "estimate", labels, est, lo, hi, truth or 0 / 0,
+                       (routes and " by adjustment set and route" or " by adjustment set"),
+                       "estimate", labels, est, lo, hi, truth or 0 / 0,
                        truth and "truth" or nil)
   end
   return setmetatable(rows, compare_mt)

@@ -551,7 +551,11 @@ local function no_set_message(g, x, y, sets)
                             reason_text(sets.none))
   local calls = E.route_calls(g, x, y)
   if #calls == 0 then
-    return msg .. "\n  and the graph shows no other route (g:frontdoor, g:instruments, g:identify)"
+    local have = graph_method(g, "frontdoor") or graph_method(g, "instruments") or
+                 graph_method(g, "identify")
+    return msg .. (have and "\n  and the graph shows no front-door set and no instrument"
+                   or "\n  (g:frontdoor, g:instruments and g:identify, which look for another " ..
+                      "route, are not available in this build)")
   end
   if #calls == 1 and calls[1]:find("^none: ") then return msg .. "\n  " .. calls[1] end
   return msg .. "\n  " .. (#calls > 1 and "other routes exist:" or "another route exists:") ..
@@ -676,6 +680,9 @@ local function frontdoor_via(fname, a)
   if a.via == nil then
     if not g then fail(fname, 'method = "frontdoor" needs via = {mediators}, or graph = g to choose them') end
     local via, count, err = E.pick_frontdoor(g, x, y)
+    if not graph_method(g, "frontdoor") then
+      fail(fname, "graph = cannot choose the mediators in this build (no g:frontdoor): give via = {...}")
+    end
     if not via then
       local msg = string.format("graph = admits no front-door set for %s -> %s%s", x, y,
                                 err and (" (" .. err .. ")") or "")
@@ -715,6 +722,10 @@ local function iv_instrument(fname, a)
     end
     if a.set ~= nil then fail(fname, "give instrument = with set =, or graph = alone to choose both") end
     local pick, count, err = E.pick_instrument(g, x, y)
+    if not graph_method(g, "instruments") then
+      fail(fname, "graph = cannot choose the instrument in this build (no g:instruments): " ..
+           "give instrument = and set =")
+    end
     if not pick then
       local msg = string.format("graph = shows no instrument for %s -> %s%s", x, y,
                                 err and (" (" .. err .. ")") or "")
