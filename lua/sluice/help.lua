@@ -177,6 +177,39 @@ from the treatment.]],
 node = cost (a number from 0 to 1e15; default 1 each, so the smallest
 set). Use it when some covariates are expensive or unreliable to measure.]],
     example = [[g:cheapest("mulch", "harvest", {slope = 5})]] },
+  { name = "g:identify", topic = "adjust",
+    brief = "Is the effect identified at all, and by which formula?",
+    sig = "g:identify(x, y, {given=})",
+    returns = "r: identified, formula, hedge, why, adjustment, frontdoor; r:latex(); r:evaluate(f, {at=, weights=})",
+    summary = [[Whether P(y | do(x)) can be computed from the distribution of the observed
+nodes, in any graph with hidden nodes and <-> edges (the complete ID algorithm
+of Shpitser and Pearl 2006, on the latent projection; given = z asks for the
+conditional effect P(y | do(x), z) by their IDC). r.formula prints it in
+probability notation, simplified (sums that add to 1 removed, chain-rule
+factors joined), with primes on a variable summed inside a term that also
+uses its fixed value: the front-door formula reads
+Σ_m P(m | x) Σ_x' P(y | x', m) P(x'). r:latex() gives the same in LaTeX.
+When an adjustment set works, r.adjustment holds the smallest one, and
+r.frontdoor a front-door set when g:frontdoor finds one; tostring(r) says so.
+When the effect is not identified, r.hedge = {f = {...}, f2 = {...}} holds
+the two node sets that prove it (a hedge) and r.why says so in one line.
+r:evaluate(f, {at = {x = value, ...}, weights = "column"}) plugs the data's
+distribution into the formula: a table of P(y = v | do(x = value)) for every
+value v of y (given = z needs a value for z in at as well). Every variable of
+the formula must be a categorical or whole-number column with no missing
+value; weights are frequency weights (finite, non-negative): a frame of
+every cell once, weighted by its probability, gives the exact effect. An
+empty stratum the formula needs is an error that names it. The formula is
+only as good as the graph behind it.]],
+    example = [=[g = graph [[
+  hidden "farm practice"
+  "farm practice" -> irrigation; "farm practice" -> yield
+  irrigation -> "soil nitrate" -> yield
+]]
+r = g:identify("irrigation", "yield")
+print(r, r:latex())
+plots = read_csv "plots.csv"       -- irrigation, "soil nitrate", yield: 0/1
+r:evaluate(plots, {at = {irrigation = 1}})]=] },
   { name = "ols", topic = "estimate",
     sig = "ols{data=, y=, x={...}}",
     brief = "Least squares regression",
