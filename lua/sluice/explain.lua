@@ -101,6 +101,47 @@ local words = {
     return "the graph has hidden common causes (<->); O(X, Y) is guaranteed valid only " ..
            "without them (Henckel, Perkovic and Maathuis 2022): use g:adjust"
   end,
+  -- the front-door criterion (Pearl 2009, definition 3.3.3) and instruments
+  ["missed path"] = function(r)
+    return "the directed path " .. (r.trail and r.trail.text or "?") .. " avoids the set: " ..
+           "a front-door set intercepts every directed path from the treatment to the outcome"
+  end,
+  ["back-door from treatment"] = function(r)
+    return "the back-door trail " .. (r.trail and r.trail.text or "?") .. " from the treatment to " ..
+           q(r.node) .. " is open: the effect of the treatment on " .. q(r.node) .. " is confounded"
+  end,
+  ["back-door to outcome"] = function(r)
+    return "the back-door trail " .. (r.trail and r.trail.text or "?") .. " from " .. q(r.node) ..
+           " to the outcome is open given the treatment: the effect of " .. q(r.node) ..
+           " on the outcome is confounded"
+  end,
+  ["no front-door set"] = function(r)
+    if r.trail and #r.trail.nodes == 2 then
+      return "the treatment affects the outcome directly (" .. r.trail.text .. "): " ..
+             "no set can intercept that edge"
+    end
+    return "no allowed node intercepts the directed path " .. (r.trail and r.trail.text or "?") ..
+           ": each node on it is hidden, has an open back-door trail from the treatment, or " ..
+           "has an open back-door trail to the outcome that no front-door set closes"
+  end,
+  ["not relevant"] = function(r)
+    return q(r.node) .. " is d-separated from the treatment given the set: it carries no " ..
+           "information about the treatment"
+  end,
+  ["open to outcome"] = function(r)
+    return "the trail " .. (r.trail and r.trail.text or "?") .. " is open given the set and does " ..
+           "not run through the treatment's effect: " .. q(r.node) ..
+           " is tied to the outcome by another route"
+  end,
+  forbidden = function(r)
+    if r.via == r.node then
+      return q(r.node) .. " lies on a causal path from the treatment to the outcome: " ..
+             "an instrument's set holds no mediator"
+    end
+    return q(r.node) .. " descends from " .. q(r.via or "?") .. " (" ..
+           (r.trail and r.trail.text or "?") .. "): an instrument's set holds no descendant " ..
+           "of the outcome or of a node on a causal path"
+  end,
 }
 
 function E.explain(g, set, reasons, none)

@@ -35,6 +35,7 @@ int sl_open_graph(lua_State *L);   /* registers the graph functions */
 int sl_open_adjust(lua_State *L);  /* adds trails and adjustment methods */
 int sl_open_stats(lua_State *L);   /* models, estimators, pictures (raw) */
 int sl_open_sem(lua_State *L);     /* linear structural models */
+int sl_open_frontdoor(lua_State *L); /* front-door sets and instruments */
 int sl_open_identify(lua_State *L); /* g:identify and its result */
 
 /* Set when the user asks to stop a long computation (the shell's SIGINT

@@ -69,6 +69,7 @@ int luaopen_sluice(lua_State *L) {
   sl_open_frame(L);
   sl_open_stats(L);
   sl_open_sem(L);
+  sl_open_frontdoor(L);
   sl_open_identify(L);
   lua_pushliteral(L, SLUICE_VERSION);
   lua_setfield(L, -2, "version");
