@@ -413,6 +413,16 @@ static int l_evaluate(lua_State *L) {
   int keys = lua_gettop(L);
   lua_Integer nkeys = 0;
   for (size_t i = 0; i < r->ny; i++) val[r->y[i]] = 0;
+  /* a key for several outcomes lists their values in name order */
+  size_t *yorder = lua_newuserdatauv(L, (r->ny ? r->ny : 1) * sizeof *yorder, 0);
+  lua_insert(L, out);
+  out++;
+  keys++;
+  for (size_t i = 0; i < r->ny; i++) yorder[i] = i;
+  for (size_t i = 1; i < r->ny; i++)
+    for (size_t j = i; j > 0 && strcmp(names[r->y[yorder[j]]], names[r->y[yorder[j - 1]]]) < 0; j--) {
+      size_t t = yorder[j]; yorder[j] = yorder[j - 1]; yorder[j - 1] = t;
+    }
   for (;;) {
     double p;
     const sl_idx *gap;
@@ -441,8 +451,9 @@ static int l_evaluate(lua_State *L) {
       for (size_t i = 0; i < r->ny; i++) {
         int is_number;
         double num;
+        int32_t v = r->y[yorder[i]];
         if (i) luaL_addstring(&lb, ", ");
-        luaL_addstring(&lb, sl_eval_level(w, r->y[i], (size_t)val[r->y[i]], &is_number, &num));
+        luaL_addstring(&lb, sl_eval_level(w, v, (size_t)val[v], &is_number, &num));
       }
       luaL_pushresult(&lb);
     }
