@@ -163,12 +163,23 @@ with .none says why no valid set exists.]],
     brief = "The optimal adjustment set O(X, Y)",
     sig = "g:optimal(x, y)",
     returns = "a set, or nil and the reasons",
-    summary = [[The optimal adjustment set O(X, Y) = pa(cn) \ forb (Henckel, Perkovic and
-Maathuis 2022): among valid sets, the one with the smallest asymptotic
-variance in linear models. nil when it would need a hidden node, when the
-graph's hidden common causes make it invalid, or when no outcome descends
-from the treatment.]],
-    example = [[g:optimal("mulch", "harvest")]] },
+    summary = [[The optimal adjustment set: among valid sets, the one whose regression
+coefficient has the smallest asymptotic variance in every linear model on
+the graph. Without hidden nodes it is O(X, Y) = pa(cn) \ forb (Henckel,
+Perkovic and Maathuis 2022). With hidden nodes and <-> edges it also takes
+the covariates tied to the outcome by a hidden common cause, walked through
+<-> edges with their parents (Runge 2021): in "harvest <-> frost" a frost
+record sharpens the harvest and is kept. nil and the reasons when none
+exists: no outcome descends from the treatment; no valid set (the hidden
+parents named first); or a trade-off: a covariate that sharpens the
+outcome also informs the treatment along a trail that another valid set
+(the reason's .rival) leaves open, so each set wins in some models. The
+reason names the covariate (.node), the node tying it to the outcome
+(.via) and that trail (.trail).]],
+    example = [=[g = graph "mulch -> harvest; harvest <-> frost"
+g:optimal("mulch", "harvest")    --> {frost}
+graph("shade -> mulch; shade -> frost; frost <-> harvest; mulch -> harvest"):optimal("mulch", "harvest")
+--> nil: 'shade' sharpens the outcome ... rival {}]=] },
   { name = "g:cheapest", topic = "adjust",
     brief = "The adjustment set of least total cost",
     sig = "g:cheapest(x, y, costs)",
