@@ -479,5 +479,20 @@ if [ -x "$B/sluice" ]; then
   rm -rf "$lg_dir"
 fi
 # ---- end of 10 ----
+# ---- 11: identification ----
+# g:identify on random graphs of 50 observed nodes with 20 <-> edges: time
+# per query (projection, ID, simplification, the printed formula), beside
+# one m-separation query on the same graphs (x and y given x's parents).
+# shellcheck disable=SC2046
+if cc -std=c11 -O2 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -Isrc/graph \
+     bench/bench_identify.c "$B/libsluice.a" $(pkg-config --libs libgvc) -lm -o "$D/bench_identify"; then
+  ri=$("$D/bench_identify" 40 50) || { failed "bench_identify"; ri=""; }
+  row "identify, 50 nodes + 20 <->" "$(tms "$(val "$ri" per_query)")" "$(tms "$(val "$ri" sep_per_query)")" \
+      "$(ratio "$(val "$ri" per_query)" "$(val "$ri" sep_per_query)")" "baseline: one m-separation query" \
+      "$(val "$ri" identified) of $(val "$ri" queries) identified"
+else
+  failed "cannot compile bench/bench_identify.c"
+fi
+# ---- end of 11 ----
 echo "bench: done"
 exit $fail
