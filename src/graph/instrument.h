@@ -33,10 +33,13 @@ int sl_instrument_check(const sl_graph *g, int32_t x, int32_t y, int32_t z,
 ** stops the listing. */
 typedef int (*sl_instrument_fn)(void *ctx, int32_t z, const int32_t *w, size_t nw);
 
-/* Every observed z that is an instrument given some W, in name order of z,
-** each with an inclusion-minimal W: the separator of z and y nearest to y
-** in the moral graph of their ancestors (van der Zander et al. 2015),
-** then members dropped one at a time while (b) and (c) still hold.
+/* Every observed z that is an ancestral instrument (an instrument given
+** some W within An[y, z] of Gc), in name order of z, each with a W: the
+** separator of z and y nearest to y in the moral graph of their ancestors
+** (van der Zander et al. 2015), then members dropped one at a time while
+** (b) and (c) still hold (tests/oracle finds no smaller W).  A z that is an
+** instrument only given a W reaching outside An[y, z] (a collider opened
+** to tie z to x) is not listed; sl_instrument_check accepts any W.
 ** *stop ends the listing with SL_ELIMIT. */
 int sl_instruments_each(const sl_graph *g, int32_t x, int32_t y, sl_instrument_fn fn,
                         void *ctx, volatile int *stop, sl_error *e);
