@@ -188,6 +188,45 @@ graph("shade -> mulch; shade -> frost; frost <-> harvest; mulch -> harvest"):opt
 node = cost (a number from 0 to 1e15; default 1 each, so the smallest
 set). Use it when some covariates are expensive or unreliable to measure.]],
     example = [[g:cheapest("mulch", "harvest", {slope = 5})]] },
+  { name = "g:frontdoor", topic = "adjust",
+    brief = "Front-door sets: the route through a fully mediating node",
+    sig = "g:frontdoor(x, y [, set]) or g:frontdoor(x, y, {limit=})",
+    returns = "list of minimal sets; or, given a set, true, or false and a list of reasons",
+    summary = [[Pearl's front-door criterion (Causality 2009, definition 3.3.3) for the
+effect of one node x on one node y, in graphs with hidden nodes and <-> edges.
+A set qualifies when it intercepts every directed path from x to y, no
+back-door trail from x to a member is open, and x blocks every back-door
+trail from a member to y. With a set: true, or false and every reason (a
+directed path the set misses, an open back-door trail from x to a member,
+an open back-door trail from a member to y given x; x or y in the set).
+Without: every inclusion-minimal front-door set, smallest first, hidden
+nodes never used; {} when none exists, with .none saying why ({} as a set
+means x has no directed path to y). limit (a whole number, default 10000)
+and Ctrl-C stop the listing. x and y are single nodes; a hidden node in the
+set is an error. The listing is a search pruned by the largest front-door
+set (Jeong, Tian and Bareinboim 2022); its delay between answers is
+polynomial unless many non-minimal sets lie between two minimal ones.]],
+    example = [[g = graph "fertiliser -> nitrate -> yield; fertiliser <-> yield"
+g:frontdoor("fertiliser", "yield")                 --> {nitrate}
+g:frontdoor("fertiliser", "yield", {"nitrate"})    --> true]] },
+  { name = "g:instruments", topic = "adjust",
+    brief = "Conditional instruments for the effect of x on y",
+    sig = "g:instruments(x, y [, z, given]) or g:instruments(x, y, {limit=})",
+    returns = "list of {z =, given = {...}}; or, for one z, true, or false and a list of reasons",
+    summary = [[Conditional instruments (Brito and Pearl 2002; van der Zander, Textor and
+Liskiewicz 2015): z is one given the set W when W holds no descendant of y
+or of a node on a causal path from x, z and x are d-connected given W, and
+z and y are d-separated given W once the arrows from x into its causal
+paths are removed (the edge x -> y alone when it is the only one). Without
+z: every observed z that is an instrument given some W among the ancestors
+of y and z (ancestral instruments), sorted by z, each with an inclusion-
+minimal W; a z that needs a W outside those ancestors is not listed, but a
+check of it works. With z and given: true, or false and the reasons (W
+holds a forbidden descendant, z is d-separated from x, or an open trail
+from z to y). x, y and z are single nodes; hidden nodes are errors.]],
+    example = [[g = graph "rainfall -> irrigation -> yield; irrigation <-> yield"
+g:instruments("irrigation", "yield")               --> rainfall  given {}
+g:instruments("irrigation", "yield", "rainfall", {})  --> true]] },
   { name = "g:identify", topic = "adjust",
     brief = "Is the effect identified at all, and by which formula?",
     sig = "g:identify(x, y, {given=})",
