@@ -395,8 +395,8 @@ local function route_text(r)
   if r.method == "iv" and r.binary_treatment then
     lines[#lines + 1] = "  caution: when the effect differs between units, 2SLS estimates a local effect:\n" ..
       "  the average effect among compliers (those whose treatment the instrument\n" ..
-      "  moves), assuming no one does the opposite of what it encourages (Imbens and\n" ..
-      "  Angrist 1994); not the effect in everyone."
+      "  moves), assuming no one does the opposite of what it encourages\n" ..
+      "  (Imbens and Angrist 1994); not the effect in everyone."
   elseif r.method == "iv" then
     lines[#lines + 1] = "  caution: when the effect differs between units, 2SLS estimates a weighted\n" ..
       "  average of the effects of unit changes among those whose treatment the\n" ..
@@ -817,6 +817,9 @@ local function route_estimate(a)
 end
 
 function E.estimate(a)
+  if type(a) == "table" then
+    choice("estimate", "method", a.method, {"standardize", "ipw", "aipw", "frontdoor", "iv"})
+  end
   if type(a) == "table" and (a.method == "frontdoor" or a.method == "iv") then
     return route_estimate(a)
   end

@@ -15,6 +15,7 @@
 #include <string.h>
 #include <gsl/gsl_blas.h>
 #include <gsl/gsl_cdf.h>
+#include <gsl/gsl_linalg.h>
 #include <gsl/gsl_matrix.h>
 #include "iv.h"
 #include "estimate_internal.h"
@@ -31,9 +32,9 @@ static void design(double *D, const double *a, size_t ka, const double *b, size_
   size_t p = 1 + ka + kb;
   for (size_t i = 0; i < n; i++) {
     double *d = D + i * p;
-    d[0] = 1;
-    if (ka) memcpy(d + 1, a + i * ka, ka * sizeof *d);
-    if (kb) memcpy(d + 1 + ka, b + i * kb, kb * sizeof *d);
+    d[0] = 1;   /* plain loops: a call to memcpy per row of 1 or 2 values costs more */
+    for (size_t j = 0; j < ka; j++) d[1 + j] = a[i * ka + j];
+    for (size_t j = 0; j < kb; j++) d[1 + ka + j] = b[i * kb + j];
   }
 }
 
@@ -44,32 +45,61 @@ static int stage_error(sl_error *e, const char *what) {
   return sl_error_set(e, e->code, 0, 0, "%s: %s", what, m);
 }
 
-/* The first stage: x on (1, Z, W) and on (1, W); x^ into xhat; the F
-** statistic of the excluded instruments. */
+/* The F statistic of the excluded instruments from the first-stage fit
+** alone: b' V^-1 b / k for their coefficients b and classical covariance
+** V, which equals ((RSS_r - RSS) / k) / (RSS / (n - p)) for the fit
+** without them (the Wald form of the F test of linear restrictions; Greene
+** 2012, Econometric Analysis, 5.3.2), so that fit is never needed.  V^-1 b
+** by GSL's modified Cholesky, which takes any symmetric matrix (V is
+** positive definite for a full-rank fit, but may be nearly singular), so
+** GSL's error handler is never reached. */
+static int first_f(const sl_fit *f1, size_t k, double *F, sl_error *e) {
+  size_t p = f1->p;
+  gsl_matrix *V = gsl_matrix_alloc(k, k);
+  gsl_vector *b = gsl_vector_alloc(k), *v = gsl_vector_alloc(k);
+  gsl_permutation *perm = gsl_permutation_alloc(k);
+  int rc = SL_OK;
+  if (!V || !b || !v || !perm) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  for (size_t i = 0; i < k; i++) {
+    gsl_vector_set(b, i, f1->coef[1 + i]);
+    for (size_t j = 0; j < k; j++) gsl_matrix_set(V, i, j, f1->cov[(1 + i) * p + 1 + j]);
+  }
+  gsl_linalg_mcholesky_decomp(V, perm, NULL);
+  gsl_linalg_mcholesky_solve(V, perm, b, v);
+  double q = 0;
+  gsl_blas_ddot(b, v, &q);
+  *F = q / (double)k;
+done:
+  if (V) gsl_matrix_free(V);
+  if (b) gsl_vector_free(b);
+  if (v) gsl_vector_free(v);
+  if (perm) gsl_permutation_free(perm);
+  return rc;
+}
+
+/* The first stage: x on (1, Z, W); x^ into xhat; the F statistic of the
+** excluded instruments and their partial R^2. */
 static int first_stage(const double *x, const double *Z, size_t k, const double *W, size_t q,
-                       size_t n, const char *const *names, const char *const *rnames,
-                       double *D, double *xhat,
+                       size_t n, const char *const *names, double *D, double *xhat,
                        sl_iv_fit *fit, sl_error *e) {
-  size_t p1 = 1 + k + q, p0 = 1 + q;
-  sl_fit f1, f0;
-  memset(&f1, 0, sizeof f1); memset(&f0, 0, sizeof f0);
+  size_t p1 = 1 + k + q;
+  sl_fit f1;
+  memset(&f1, 0, sizeof f1);
   design(D, Z, k, W, q, n);
   if (sl_ols(D, x, n, p1, names, &f1, e)) return stage_error(e, "first stage (the treatment on the instruments and the set)");
   sl_predict(&f1, D, n, 0, xhat);
   memcpy(fit->first_coef, f1.coef, p1 * sizeof *f1.coef);
-  double rss1 = f1.rss;
-  sl_fit_free(&f1);
-  design(D, NULL, 0, W, q, n);
-  if (sl_ols(D, x, n, p0, rnames, &f0, e)) return stage_error(e, "first stage without the instruments");
-  double rss0 = f0.rss;
-  sl_fit_free(&f0);
   fit->first_df1 = (double)k;
   fit->first_df2 = (double)(n - p1);
-  double drop = rss0 - rss1;
-  if (drop < 0) drop = 0;   /* rounding: the instruments explain nothing */
-  fit->first_f = rss1 > 0 ? (drop / (double)k) / (rss1 / fit->first_df2) : INFINITY;
-  fit->first_p = isfinite(fit->first_f) ? gsl_cdf_fdist_Q(fit->first_f, fit->first_df1, fit->first_df2) : 0;
-  fit->first_r2_partial = rss0 > 0 ? drop / rss0 : 0;
+  double F = INFINITY;
+  int rc = f1.rss > 0 ? first_f(&f1, k, &F, e) : SL_OK;
+  double rss = f1.rss;
+  sl_fit_free(&f1);
+  if (rc) return rc;
+  fit->first_f = F;
+  fit->first_p = isfinite(F) ? gsl_cdf_fdist_Q(F, fit->first_df1, fit->first_df2) : 0;
+  double drop = isfinite(F) ? F * (double)k * rss / fit->first_df2 : 1;   /* RSS_r - RSS */
+  fit->first_r2_partial = isfinite(F) ? drop / (rss + drop) : 1;
   return SL_OK;
 }
 
@@ -128,7 +158,7 @@ int sl_iv_2sls(const double *y, const double *x, const double *Z, size_t k,
   fit->first_coef = calloc(p1, sizeof *fit->first_coef);
   double *D = malloc(n * (p1 > p ? p1 : p) * sizeof *D), *xhat = malloc(n * sizeof *xhat);
   double *u = malloc(n * sizeof *u), *work = malloc(4 * p * p * sizeof *work);
-  const char **names = malloc((p1 + p) * sizeof *names), **rnames = names + p1;
+  const char **names = malloc((p1 + p) * sizeof *names);
   sl_fit f2;
   memset(&f2, 0, sizeof f2);
   int rc = SL_OK;
@@ -140,9 +170,7 @@ int sl_iv_2sls(const double *y, const double *x, const double *Z, size_t k,
   names[0] = "(intercept)";
   for (size_t j = 0; j < k; j++) names[1 + j] = znames ? znames[j] : NULL;
   for (size_t j = 0; j < q; j++) names[1 + k + j] = wnames ? wnames[j] : NULL;
-  rnames[0] = "(intercept)";
-  for (size_t j = 0; j < q; j++) rnames[1 + j] = wnames ? wnames[j] : NULL;
-  if ((rc = first_stage(x, Z, k, W, q, n, names, rnames, D, xhat, fit, e))) goto done;
+  if ((rc = first_stage(x, Z, k, W, q, n, names, D, xhat, fit, e))) goto done;
   /* second stage: y on (1, x^, W) */
   char fitted[160];
   snprintf(fitted, sizeof fitted, "%s (fitted)", xname ? xname : "x");
@@ -198,8 +226,8 @@ int sl_est_iv(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n
   for (size_t r = 0; r < n; r++) {
     size_t i = ix[r];
     y[r] = P->y[i]; x[r] = P->t[i];
-    memcpy(Z + r * k, P->A + i * k, k * sizeof *Z);
-    if (q) memcpy(W + r * q, P->C + i * q, q * sizeof *W);
+    for (size_t j = 0; j < k; j++) Z[r * k + j] = P->A[i * k + j];
+    for (size_t j = 0; j < q; j++) W[r * q + j] = P->C[i * q + j];
   }
   if ((rc = sl_iv_2sls(y, x, Z, k, q ? W : NULL, q, n, P->onames[1], P->anames,
                        (const char *const *)P->cnames, &fit, e)))

@@ -11,7 +11,8 @@
 ** heteroskedasticity-robust HC0 (X^'X^)^-1 (sum u_i^2 x^_i x^_i') (X^'X^)^-1
 ** and HC1 = HC0 n / (n - p) (White 1980; MacKinnon and White 1985).  The
 ** first-stage F statistic tests the excluded instruments: ((RSS_r - RSS) /
-** k) / (RSS / (n - 1 - k - q)), RSS_r from x on (1, W) alone.
+** k) / (RSS / (n - 1 - k - q)), RSS_r from x on (1, W) alone (computed in
+** its Wald form from the first stage's own fit).
 */
 #ifndef SL_IV_H
 #define SL_IV_H
