@@ -31,6 +31,7 @@
 
 #include "regress.h"
 #include "estimate.h"
+#include "iv.h"
 
 void openblas_set_num_threads(int n);   /* OpenBLAS, linked by the Makefile */
 
@@ -917,6 +918,103 @@ static void estimate_refuses_level_and_contrast(void **st) {
   sl_frame_free(f);
 }
 
+/* ---- two-stage least squares (src/stats/iv.c) ---- */
+
+/* 20 rows made by formula: two instruments, one covariate, heteroskedastic
+** noise (the same formulas in numpy give the reference values). */
+static void iv_data(double *y, double *x, double *Z, double *W) {
+  for (int i = 0; i < 20; i++) {
+    double z1 = sin(i), z2 = cos(0.9 * i + 0.2), w = cos(1.3 * i);
+    x[i] = z1 + 0.6 * z2 + 0.5 * w + 0.3 * sin(2.1 * i + 1);
+    y[i] = 1 + 2 * x[i] - w + 0.4 * cos(0.7 * i) * (1 + fabs(z1));
+    Z[2 * i] = z1; Z[2 * i + 1] = z2; W[i] = w;
+  }
+}
+
+/* Coefficients and classical SEs: statsmodels 0.13.5
+** IV2SLS(y, [1, x, w], [1, z1, z2, w]).fit() params and bse; the first-stage
+** F: OLS(x, [1, z1, z2, w]).compare_f_test(OLS(x, [1, w])); HC0 and HC1:
+** the sandwich (X^'X^)^-1 X^' diag(u^2) X^ (X^'X^)^-1 (Wooldridge 2010,
+** 5.2.3) and n / (n - p) times it, in numpy.  Values printed with repr(). */
+static void iv_statsmodels(void **st) {
+  (void)st;
+  double y[20], x[20], Z[40], W[20];
+  iv_data(y, x, Z, W);
+  const char *zn[] = {"z1", "z2"}, *wn[] = {"w"};
+  sl_iv_fit f;
+  sl_error e;
+  assert_int_equal(sl_iv_2sls(y, x, Z, 2, W, 1, 20, "x", zn, wn, &f, &e), SL_OK);
+  const double coef[] = {1.0507740269715722, 1.9648519997036566, -1.0692517400215993};
+  const double bse[] = {0.11430093085972565, 0.11477445256056881, 0.17377710105087138};
+  const double hc0[] = {0.10367650326433113, 0.1132269207881069, 0.1606603767275378};
+  const double hc1[] = {0.11245295659084377, 0.12281183881980373, 0.17426064538411273};
+  for (int j = 0; j < 3; j++) {
+    assert_close(f.coef[j], coef[j], 1e-10, "2SLS coefficient");
+    assert_close(f.se[j], bse[j], 1e-10, "classical SE");
+    assert_close(f.se_hc0[j], hc0[j], 1e-10, "HC0 SE");
+    assert_close(f.se_hc1[j], hc1[j], 1e-10, "HC1 SE");
+  }
+  assert_close(f.first_f, 185.28747977085473, 1e-10, "first-stage F");
+  assert_close(f.first_p, 8.611724116581994e-12, 1e-8, "its p-value");
+  assert_close(f.first_df2, 16, 0, "df");
+  const double first[] = {0.012890613526981117, 0.9710628275957676, 0.6328496462787144,
+                          0.5275348287679916};
+  for (int j = 0; j < 4; j++) assert_close(f.first_coef[j], first[j], 1e-10, "first stage");
+  assert_int_equal(f.has_se, 1);
+  sl_iv_fit_free(&f);
+}
+
+/* Refusals: no instrument, too few rows, an instrument that is a copy of
+** the covariate (named), an instrument that does not move x. */
+static void iv_bad_input(void **st) {
+  (void)st;
+  double y[20], x[20], Z[40], W[20], Zc[20], Z0[20];
+  iv_data(y, x, Z, W);
+  const char *zn[] = {"z1", "z2"}, *wn[] = {"w"}, *cn[] = {"copy"};
+  sl_iv_fit f;
+  sl_error e;
+  assert_int_equal(sl_iv_2sls(y, x, Z, 0, W, 1, 20, "x", zn, wn, &f, &e), SL_EARG);
+  assert_contains(e.msg, "needs an instrument");
+  assert_int_equal(sl_iv_2sls(y, x, Z, 2, W, 1, 4, "x", zn, wn, &f, &e), SL_EARG);
+  assert_contains(e.msg, "too few");
+  for (int i = 0; i < 20; i++) { Zc[i] = 2 * W[i]; Z0[i] = 0; }
+  assert_int_not_equal(sl_iv_2sls(y, x, Zc, 1, W, 1, 20, "x", cn, wn, &f, &e), SL_OK);
+  assert_contains(e.msg, "first stage");
+  assert_contains(e.msg, "copy");
+  assert_int_not_equal(sl_iv_2sls(y, x, Z0, 1, W, 1, 20, "x", cn, wn, &f, &e), SL_OK);
+  assert_contains(e.msg, "first stage");
+}
+
+/* The same bits whatever the BLAS thread count. */
+static void iv_same_bits_any_threads(void **st) {
+  (void)st;
+  size_t n = 50000;
+  double *y = malloc(n * sizeof *y), *x = malloc(n * sizeof *x), *Z = malloc(n * sizeof *Z);
+  double *W = malloc(2 * n * sizeof *W);
+  gsl_rng *r = gsl_rng_alloc(gsl_rng_mt19937);
+  gsl_rng_set(r, 5);
+  for (size_t i = 0; i < n; i++) {
+    double u = gsl_ran_gaussian(r, 1);
+    Z[i] = gsl_ran_gaussian(r, 1); W[2 * i] = gsl_ran_gaussian(r, 1); W[2 * i + 1] = gsl_rng_uniform(r);
+    x[i] = Z[i] + W[2 * i] + u + gsl_ran_gaussian(r, 1);
+    y[i] = 0.5 * x[i] + W[2 * i + 1] - u + gsl_ran_gaussian(r, 1);
+  }
+  sl_iv_fit a, b;
+  sl_error e;
+  openblas_set_num_threads(1);
+  assert_int_equal(sl_iv_2sls(y, x, Z, 1, W, 2, n, "x", NULL, NULL, &a, &e), SL_OK);
+  openblas_set_num_threads(2);
+  assert_int_equal(sl_iv_2sls(y, x, Z, 1, W, 2, n, "x", NULL, NULL, &b, &e), SL_OK);
+  for (size_t j = 0; j < a.p; j++) {
+    assert_memory_equal(&a.coef[j], &b.coef[j], sizeof(double));
+    assert_memory_equal(&a.se_hc1[j], &b.se_hc1[j], sizeof(double));
+  }
+  assert_memory_equal(&a.first_f, &b.first_f, sizeof(double));
+  sl_iv_fit_free(&a); sl_iv_fit_free(&b);
+  gsl_rng_free(r);
+  free(y); free(x); free(Z); free(W);
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
     cmocka_unit_test(nist_norris),
@@ -944,6 +1042,9 @@ int main(void) {
     cmocka_unit_test(logit_same_bits_any_threads),
     cmocka_unit_test(estimate_ratio_needs_positive_means),
     cmocka_unit_test(estimate_refuses_level_and_contrast),
+    cmocka_unit_test(iv_statsmodels),
+    cmocka_unit_test(iv_bad_input),
+    cmocka_unit_test(iv_same_bits_any_threads),
   };
   return cmocka_run_group_tests(tests, NULL, NULL);
 }
