@@ -38,6 +38,8 @@ local concat, move = table.concat, table.move
 -- Entry numbers, line counts and byte sizes longer than this many digits
 -- are refused (they would not be exact integers).
 T.MAX_DIGITS = 15
+T.MAX_LINES = 4000000   -- lines of a log (the parser keeps each as a string)
+T.MAX_VERSION = 32      -- characters of a version in a header line
 
 -- ---- escaping ----
 
@@ -168,6 +170,7 @@ local function split(text)
   while true do
     local nl = find(text, "\n", pos, true)
     if not nl then break end
+    if #lines >= T.MAX_LINES then return nil end
     lines[#lines + 1] = sub(text, pos, nl - 1)
     pos = nl + 1
   end
@@ -271,7 +274,11 @@ function T.parse(text, name)
   local crlf = nl ~= nil and nl > 1 and byte(text, nl - 1) == 13
   if crlf then text = gsub(text, "\r\n", "\n") end
   local lines, truncated = split(text)
+  if not lines then return fail(T.MAX_LINES, "more than " .. T.MAX_LINES .. " lines") end
   local version = session_line(lines[1] or "")
+  if version and #version > T.MAX_VERSION then
+    return fail(1, "a version of more than " .. T.MAX_VERSION .. " characters")
+  end
   if not version then
     return fail(1, "not a sluice session log (the first line should be "
                    .. "'--@ sluice VERSION session log')")
@@ -288,6 +295,8 @@ function T.parse(text, name)
   -- Is l a header line of a later session?  And a refusal, if any.
   local function session(l)
     local again = session_line(l)
+    if again and #again > T.MAX_VERSION then return true, "a version of more than "
+                                                  .. T.MAX_VERSION .. " characters" end
     if again then
       if version_newer(again, res.version) then res.version = again end
       fresh = true
@@ -334,14 +343,23 @@ function T.parse(text, name)
       if e.skip then e.skip = T.escape(e.skip) end
       at = {}
       j = j + 1
+      local header_at = nil   -- the first header line seen in this entry
       while j <= n_lines and not is_marker(lines[j]) do
         local l = lines[j]
         local header, why = session(l)
         if why then return fail(j, why) end
         if not header then
+          -- a later session's header closes an entry: code after it could be
+          -- inside a long string for Lua, so the header would be code too
+          if header_at and not find(l, "^%s*$") then
+            return fail(header_at, "a session header line inside an entry (only a later "
+                                   .. "session's header may follow an entry, before its marker)")
+          end
           local c = #code + 1
           code[c], at[c] = l, j
           fresh = false
+        else
+          header_at = header_at or j
         end
         j = j + 1
       end

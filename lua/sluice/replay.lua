@@ -26,7 +26,9 @@ local M, hooks            -- the module and the hooks table, set by install
 R.DEFAULT_LIMIT = 600     -- seconds an entry may run (--limit)
 R.MAX_LOG = 1 << 30       -- bytes of a log that replay reads
 R.MAX_RECORDS = 10000     -- records one entry may send
-R.MAX_BYTES = 256 << 20   -- bytes one entry may send
+R.MAX_BYTES = 32 << 20    -- bytes one entry may send
+R.MAX_LINES = 200000      -- lines one entry may print
+R.MAX_TOTAL = 256 << 20   -- bytes all entries together may send
 
 local function say(...) real.fwrite(stdout, ...) end
 
@@ -144,6 +146,7 @@ local function sandbox(out_dir, blocked)
   end
   for _, k in ipairs({"log", "report", "exercise"}) do env[k] = mod[k] end
   env.package = copy(package)
+  env.package.preload = {}   -- the real loaders compile in the real globals
   env.package.loadlib = block("package.loadlib")
   env.package.searchers = setmetatable({}, {__index = function(_, k)
     return block("package.searchers[" .. tostring(k) .. "]")
@@ -161,7 +164,7 @@ local function sandbox(out_dir, blocked)
     if name == "sluice.session" or name == "sluice.replay" then
       refuse("require(" .. format("%q", name) .. "): the session layer is not for replayed code")
     end
-    if package.loaded[name] ~= nil or package.preload[name] ~= nil then return require(name) end
+    if type(name) == "string" and package.loaded[name] ~= nil then return package.loaded[name] end
     refuse("require(" .. format("%q", tostring(name)) .. ") of a module not built in")
   end
   env.load = function(chunk, name, mode, e)
@@ -200,10 +203,10 @@ end
 -- Run one entry as the prompt would: the text it printed, whether it
 -- raised an error, the files it read and drew, and a compile message.
 local function run_entry(e, env)
+  -- as statements only, the way `sluice LOG` runs them: the prompt wrote an
+  -- expression as show(...), so no entry of a real log is a bare expression
   local name = "=[input " .. e.n .. "]"
-  local fn = real.load("return " .. e.code, name, "t", env)
-  local msg
-  if not fn then fn, msg = real.load(e.code, name, "t", env) end
+  local fn, msg = real.load(e.code, name, "t", env)
   local failed = false
   local text, run = S._capture(e.n, function(cap)
     if not fn then
@@ -232,10 +235,18 @@ end
 local function child_main(parsed, o)
   local send, leave = hooks.replay_send, hooks.replay_exit
   S._wrap_output()   -- before the environment copies print and io.write
-  if not o.trust then   -- no native code in this process, whatever the log finds
+  if not o.trust then
+    -- what code that escaped the Lua layer could still misuse: native
+    -- loaders, the replay's own hooks, the debug library (the session
+    -- layer keeps the one function it needs)
     package.loadlib = nil
     package.cpath = ""
     for i = #package.searchers, 3, -1 do package.searchers[i] = nil end
+    for _, k in ipairs({"replay_spawn", "replay_send", "replay_exit", "read_regular",
+                        "fingerprint", "file_id", "now", "sandbox_available"}) do
+      hooks[k] = nil
+    end
+    _G.debug, package.loaded.debug = nil, nil
   end
   local blocked_here = {}
   local function note(name) blocked_here[#blocked_here + 1] = name end
@@ -283,14 +294,16 @@ end
 -- The records of entry e from the child: {out=, failed=, data=, pictures=,
 -- blocked=, cmsg=}, or nil, what ("timeout", "ended", "broken", "setup")
 -- and a detail.
-local function collect(child, e, limit)
+local total_bytes = 0
+local function collect(child, e, limit, first)
   local r = {out = "", failed = false, data = {}, pictures = {}, blocked = {}}
   local deadline, count, bytes = hooks.now() + limit, 0, 0
   local function recv()
     local kind, p, detail = child:recv(math.max(deadline - hooks.now(), 0))
     count = count + 1
     bytes = bytes + (kind and #p or 0)
-    if kind and (count > R.MAX_RECORDS or bytes > R.MAX_BYTES) then
+    total_bytes = total_bytes + (kind and #p or 0)
+    if kind and (count > R.MAX_RECORDS or bytes > R.MAX_BYTES or total_bytes > R.MAX_TOTAL) then
       child:stop()
       return nil, "broken", "the replay process sent more than one entry may"
     end
@@ -298,7 +311,9 @@ local function collect(child, e, limit)
   end
   local kind, p, detail = recv()
   if not kind then return nil, p, detail end
-  if kind == "Q" and p ~= "" then return nil, "setup", p end
+  -- only the child's first record, sent before any of the log runs, may
+  -- say that the sandbox could not be set up
+  if first and kind == "Q" and p ~= "" then return nil, "setup", p end
   if kind ~= "E" or p ~= tostring(e.n) then
     child:stop()
     return nil, "broken", "the replay process answered out of turn"
@@ -311,8 +326,10 @@ local function collect(child, e, limit)
     elseif kind == "F" then r.failed = true
     elseif kind == "C" then r.cmsg = p
     elseif kind == "D" then
-      local path, bytes, sha = match(p, "^([^%z]*)%z(%d+)%z(%x+)$")
-      if path then r.data[#r.data + 1] = {path = path, bytes = tonumber(bytes), sha256 = sha} end
+      local path, size, sha = match(p, "^([^%z]*)%z(%d+)%z(%x+)$")
+      if path and #size <= 15 and #sha == 64 then
+        r.data[#r.data + 1] = {path = path, bytes = tonumber(size), sha256 = sha}
+      end
     elseif kind == "P" then r.pictures[#r.pictures + 1] = p
     elseif kind == "B" then r.blocked[#r.blocked + 1] = p
     elseif kind == "Z" and seen_out then return r
@@ -323,13 +340,45 @@ local function collect(child, e, limit)
   end
 end
 
+-- Does the code begin, after blanks and comments, with "("?  Lua would read
+-- it as a call of the last expression of the entry before.
+local function opens_with_paren(code)
+  local i = 1
+  while true do
+    i = find(code, "[^%s]", i) or #code + 1
+    if sub(code, i, i + 1) ~= "--" then break end
+    local eqs = match(code, "^%[(=*)%[", i + 2)
+    if eqs then
+      local _, close = find(code, "]" .. eqs .. "]", i, true)
+      i = (close or #code) + 1
+    else
+      i = (find(code, "\n", i, true) or #code) + 1
+    end
+  end
+  return sub(code, i, i) == "("
+end
+
 -- The recorded data files of entry e as they are now; the parent reads
 -- them itself.  Returns "ok" or "differs".
-local function check_data(e)
+local checked = {}   -- path .. " " .. bytes: sha or false, and why
+local function check_data(e, limit)
   local status = "ok"
   for _, d in ipairs(e.data) do
-    local sha, bytes = hooks.fingerprint(d.path)
-    if not sha then
+    local key = d.path .. "\0" .. d.bytes
+    if not checked[key] then
+      local sha, why = hooks.fingerprint(d.path, d.bytes, hooks.now() + limit)
+      if sha and why ~= d.bytes then sha, why = false, "its size is not the recorded one" end
+      checked[key] = {sha or false, why}
+    end
+    local sha, bytes = checked[key][1], checked[key][2]
+    if bytes == "timeout" then
+      say(format("data not checked: %s (reading it took longer than --limit)\n", T.escape(d.path)))
+      status = "differs"
+    elseif not sha and bytes == "its size is not the recorded one" then
+      say(format("data changed: %s (recorded %d bytes, now a different size)\n",
+                 T.escape(d.path), d.bytes))
+      status = "differs"
+    elseif not sha then
       say(format("data missing: %s (recorded sha256 %s, %d bytes): %s\n", T.escape(d.path),
                  d.sha256, d.bytes, tostring(bytes)))
       status = "differs"
@@ -343,10 +392,10 @@ local function check_data(e)
 end
 
 -- Read the log file: its text and identity, or nil after saying why.
-local function read_log(path)
+local function read_log(path, shown)
   local text, id = hooks.read_regular(path, R.MAX_LOG)
   if not text then
-    say("sluice: cannot read the log: ", path, ": ", tostring(id), "\n")
+    say("sluice: cannot read the log: ", shown, ": ", tostring(id), "\n")
     return nil
   end
   return text, id
@@ -354,24 +403,25 @@ end
 
 -- sluice --replay LOG: returns the exit status.
 function R.replay(o)
-  local text, log_id = read_log(o.log)
+  local lname = T.escape(o.log)   -- a file name may hold control characters too
+  local text, log_id = read_log(o.log, lname)
   if not text then return 1 end
   local parsed, perr = T.parse(text, o.log)
   if not parsed then say("sluice: ", T.escape(perr), "\n") return 1 end
   if version_newer(parsed.version, M.version) then
     say(format("sluice: %s was written by sluice %s, newer than this sluice %s; "
-               .. "replay it with sluice %s or later\n", o.log, T.escape(parsed.version),
+               .. "replay it with sluice %s or later\n", lname, T.escape(parsed.version),
                M.version, T.escape(parsed.version)))
     return 1
   end
   if o.out and hooks.file_kind(o.out) ~= "directory" then
-    say("sluice: --out ", o.out, ": no such folder\n")
+    say("sluice: --out ", T.escape(o.out), ": no such folder\n")
     return 2
   end
   if not o.trust then
     local ok, why = hooks.sandbox_available()
     if not ok then
-      say("sluice: will not replay ", o.log, " without --trust: ", why,
+      say("sluice: will not replay ", lname, " without --trust: ", why,
           "; replay it on a kernel that has both, or give --trust if you wrote the log yourself\n")
       return 1
     end
@@ -379,15 +429,15 @@ function R.replay(o)
   local limit = o.limit or R.DEFAULT_LIMIT
   local runnable = 0
   for _, e in ipairs(parsed.entries) do if not e.skip then runnable = runnable + 1 end end
-  say(format("replaying %s: %d entries, %s\n", o.log, #parsed.entries,
+  say(format("replaying %s: %d entries, %s\n", lname, #parsed.entries,
              o.trust and "trusted (no sandbox)"
-             or ("sandboxed, writes " .. (o.out and ("inside " .. o.out) or "nowhere"))))
+             or ("sandboxed, writes " .. (o.out and ("inside " .. T.escape(o.out)) or "nowhere"))))
   local child = hooks.replay_spawn{out = o.out and hooks.realpath(o.out) or nil,
                                    confine = not o.trust,
                                    cpu = math.floor(2 * limit * (runnable + 1))}
   if child == "child" then child_main(parsed, o) end
   local total, matched, differed, notrun, blocked_all = 0, 0, 0, 0, 0
-  local shown, stopped = false, nil
+  local shown, stopped, first = false, nil, true
   for _, e in ipairs(parsed.entries) do
     if e.skip then
       say(format("in %d: skipped (%s at the prompt)\n", e.n, T.escape(e.skip)))
@@ -399,11 +449,17 @@ function R.replay(o)
       say(format("in %d: not run (%s)\n", e.n, stopped))
       goto continue
     end
+    if opens_with_paren(e.code) then
+      say(format("in %d: its code begins with '(': when the log runs as a script, Lua reads "
+                 .. "it as a call of the entry before (write ';(' at the start)\n", e.n))
+    end
     do
-      local status = check_data(e)
-      local r, what, detail = collect(child, e, limit)
+      local status = check_data(e, limit)
+      local r, what, detail = collect(child, e, limit, first)
+      first = false
       if not r then
         if what == "setup" then
+          child:stop()
           say("sluice: ", T.escape(detail), "\n")
           return 1
         end
@@ -412,6 +468,14 @@ function R.replay(o)
                     or ("error: " .. T.escape(tostring(detail)))
         say(format("in %d: %s\n", e.n, why))
         differed = differed + 1
+        stopped = "the replay stopped at in " .. e.n
+        goto continue
+      end
+      local nl = select(2, gsub(r.out, "\n", "\n"))
+      if nl > R.MAX_LINES then
+        say(format("in %d: error: it printed more than %d lines\n", e.n, R.MAX_LINES))
+        differed = differed + 1
+        child:stop()
         stopped = "the replay stopped at in " .. e.n
         goto continue
       end
@@ -426,7 +490,8 @@ function R.replay(o)
       local recorded_error = false
       for _, l in ipairs(e.out) do if find(l, "^error: ") then recorded_error = true end end
       local at = first_difference(e.out, got)
-      if r.cmsg or (at and r.failed and not recorded_error) then status = "error"
+      if r.cmsg or (at and r.failed and not recorded_error) or opens_with_paren(e.code) then
+        status = "error"
       elseif at then status = "differs" end
       if status == "ok" then matched = matched + 1 else differed = differed + 1 end
       say(format("in %d: %s\n", e.n, status))
@@ -439,7 +504,7 @@ function R.replay(o)
         blocked_all = blocked_all + 1
         say(format("blocked: in %d: %s\n", e.n, T.escape(b)))
       end
-      e.new_out, e.new_data, e.new_pictures = got, r.data, r.pictures
+      if o.update then e.new_out, e.new_data, e.new_pictures = got, r.data, r.pictures end
     end
     ::continue::
   end
@@ -460,22 +525,22 @@ function R.replay(o)
   end
   if o.update then
     if stopped then
-      say("sluice: --update: not rewriting ", o.log, ": the replay stopped early\n")
+      say("sluice: --update: not rewriting ", lname, ": the replay stopped early\n")
       return 1
     end
     -- the child is gone; the log must still be the file that was read
     if hooks.file_id(o.log) ~= log_id then
-      say("sluice: --update: not rewriting ", o.log, ": it changed during the replay\n")
+      say("sluice: --update: not rewriting ", lname, ": it changed during the replay\n")
       return 1
     end
     local bak_id, bak_kind = hooks.file_id(o.log .. ".bak")
     if bak_id and bak_kind ~= "regular" then
-      say("sluice: --update: not rewriting ", o.log, ": ", o.log, ".bak is not a regular file\n")
+      say("sluice: --update: not rewriting ", lname, ": ", lname, ".bak is not a regular file\n")
       return 1
     end
     local ok, uerr = R.rewrite(o.log, text, parsed)
     if not ok then say("sluice: --update: ", uerr, "\n") return 1 end
-    say("updated ", o.log, " (the old log is ", o.log, ".bak)\n")
+    say("updated ", lname, " (the old log is ", lname, ".bak)\n")
   end
   return (differed == 0 and blocked_all == 0) and 0 or 1
 end

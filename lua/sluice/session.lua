@@ -9,6 +9,8 @@ local S = {}
 
 local M, hooks            -- the module and the hooks table, set by install
 local P = require "sluice.print"
+-- kept now: a replay child hides the debug library before the log runs
+local getinfo, registry = debug.getinfo, debug.getregistry()
 local T = require "sluice.logtext"
 
 local stdout = io.stdout
@@ -228,7 +230,7 @@ end
 -- Lua files, or "" when there is none (a tail call from C, say).
 local function user_position()
   for level = 2, 50 do
-    local info = debug.getinfo(level, "Sl")
+    local info = getinfo(level, "Sl")
     if not info then break end
     if info.currentline > 0 and not info.short_src:find("^lua/sluice/") then
       return info.short_src .. ":" .. info.currentline .. ": "
@@ -250,7 +252,7 @@ end
 
 -- Wrap the functions of the library that write files.
 local function wrap_writers()
-  local gm = debug.getregistry()["sluice.graph"]
+  local gm = registry["sluice.graph"]
   if gm and type(gm.__index) == "table" and gm.__index.draw then
     local draw = gm.__index.draw
     gm.__index.draw = function(g, path, ...)
@@ -260,7 +262,7 @@ local function wrap_writers()
       return r
     end
   end
-  local fm = debug.getregistry()["sluice.frame"]
+  local fm = registry["sluice.frame"]
   if fm and fm.__index then
     local index = fm.__index
     local function write_csv(f, path, ...)
@@ -454,7 +456,7 @@ function S.exercise(o)
     error("bad argument #1 to 'exercise' (a table expected, got " .. type(o) .. ")", 2)
   end
   local g, m, dir = o.graph, o.model, o.dir
-  if getmetatable(g) ~= debug.getregistry()["sluice.graph"] then
+  if getmetatable(g) ~= registry["sluice.graph"] then
     error("exercise: graph = a graph expected, got " .. type(g), 2)
   end
   if type(m) ~= "table" and type(m) ~= "userdata" or not m.simulate then

@@ -17,6 +17,8 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/prctl.h>
+#include <sys/socket.h>
+#include <sys/statfs.h>
 #include <sys/stat.h>
 #include <sys/wait.h>
 #include <time.h>
@@ -27,6 +29,7 @@
 
 #include "confine.h"
 #include "frame_build.h"
+#include "notation.h"
 #include "replayer.h"
 #include "wire.h"
 
@@ -98,6 +101,7 @@ static void child_start(lua_State *L, int rfd, int efd) {
   prctl(PR_SET_PDEATHSIG, SIGKILL);
   if (getppid() == 1)
     _exit(6);
+  setsid();   /* no controlling terminal: /dev/tty cannot be opened */
   signal(SIGINT, SIG_IGN);    /* the parent decides what Ctrl-C stops */
   signal(SIGPIPE, SIG_DFL);
   if (!lua_toboolean(L, -1))
@@ -120,12 +124,14 @@ static void child_start(lua_State *L, int rfd, int efd) {
 static int l_spawn(lua_State *L) {
   luaL_checktype(L, 1, LUA_TTABLE);
   lua_getfield(L, 1, "confine");
+  /* sockets, not pipes: /proc/self/fd/N of a socket cannot be opened
+  ** again, so code that escapes the Lua layer finds no second way in */
   int rp[2], ep[2];
-  if (pipe2(rp, O_CLOEXEC) != 0)
-    return luaL_error(L, "replay: cannot make a pipe: %s", strerror(errno));
-  if (pipe2(ep, O_CLOEXEC) != 0) {
+  if (socketpair(AF_UNIX, SOCK_STREAM | SOCK_CLOEXEC, 0, rp) != 0)
+    return luaL_error(L, "replay: cannot make a channel: %s", strerror(errno));
+  if (socketpair(AF_UNIX, SOCK_STREAM | SOCK_CLOEXEC, 0, ep) != 0) {
     close(rp[0]); close(rp[1]);
-    return luaL_error(L, "replay: cannot make a pipe: %s", strerror(errno));
+    return luaL_error(L, "replay: cannot make a channel: %s", strerror(errno));
   }
   child *c = lua_newuserdatauv(L, sizeof *c, 0);
   memset(c, 0, sizeof *c);
@@ -186,7 +192,10 @@ static void close_fd(int *fd) {
 }
 
 /* Show one line of the child's standard error, marked as its own. */
+static void defang(char *s, size_t *len);
+
 static void relay_line(child *c) {
+  defang(c->line, &c->linelen);
   if (c->relayed < STDERR_RELAYED) {
     fflush(stdout);
     fprintf(stderr, "%s%.*s\n", STDERR_PREFIX, (int)c->linelen, c->line);
@@ -211,14 +220,34 @@ static void relay_stderr(child *c) {
     return;
   }
   for (ssize_t i = 0; i < n; i++) {
-    unsigned char ch = (unsigned char)buf[i];
-    if (ch == '\n' || c->linelen == sizeof c->line) {
+    if (buf[i] == '\n' || c->linelen == sizeof c->line) {
       relay_line(c);
-      if (ch == '\n')
+      if (buf[i] == '\n')
         continue;
     }
-    c->line[c->linelen++] = (ch < 32 && ch != '\t') || ch == 127 ? '?' : (char)ch;
+    c->line[c->linelen++] = buf[i];
   }
+}
+
+/* Make a line of the child's error output harmless on a terminal: each
+** control byte, byte of broken UTF-8, C1 control and mark that reorders or
+** hides text becomes '?'. */
+static void defang(char *s, size_t *len) {
+  size_t i = 0, o = 0;
+  while (i < *len) {
+    uint32_t cp;
+    size_t k = sl_utf8_decode(s + i, *len - i, &cp);
+    if (k == 0 || (cp < 32 && cp != '\t') || cp == 127 || (cp >= 0x80 && cp < 0xA0) ||
+        sl_invisible_name(cp) != NULL) {
+      s[o++] = '?';
+      i += k ? k : 1;
+    } else {
+      memmove(s + o, s + i, k);
+      o += k;
+      i += k;
+    }
+  }
+  *len = o;
 }
 
 /* Read records into the buffer; 0 at the end of the stream. */
@@ -400,6 +429,26 @@ static int l_file_kind(lua_State *L) {
   return 2;
 }
 
+/* Is fd on a file system whose "regular files" are the kernel's own
+** (endless, blocking or with side effects when read)? */
+static int pseudo_fs(int fd) {
+  static const long magic[] = {
+    0x9fa0,       /* proc */      0x62656572,   /* sysfs */
+    0x64626720,   /* debugfs */   0x73636673,   /* securityfs */
+    0x74726163,   /* tracefs */   0x27e0eb,     /* cgroup */
+    0x63677270,   /* cgroup2 */   0xcafe4a11,   /* bpf */
+    0x62656570,   /* configfs */  0x6165676c,   /* pstore */
+    0xde5e81e4,   /* efivarfs */  0x1cd1,       /* devpts */
+  };
+  struct statfs sf;
+  if (fstatfs(fd, &sf) != 0)
+    return 1;
+  for (size_t i = 0; i < sizeof magic / sizeof magic[0]; i++)
+    if ((long)sf.f_type == magic[i])
+      return 1;
+  return 0;
+}
+
 /* Open path for reading only if it is a regular file: opened first (never
 ** blocking, never a terminal), then checked, so that nothing can swap a
 ** pipe or a device in between.  The descriptor, or -1 with why. */
@@ -414,14 +463,22 @@ static int open_regular(const char *path, struct stat *st, const char **why) {
     close(fd);
     return -1;
   }
-  fcntl(fd, F_SETFL, 0);
+  if (pseudo_fs(fd)) {
+    *why = "a file of the kernel (/proc, /sys ...), not data";
+    close(fd);
+    return -1;
+  }
   return fd;
 }
 
-/* hooks.fingerprint(path): the SHA-256 in hex and the size of a regular
-** file, or nil and why. */
+/* hooks.fingerprint(path, max, deadline): the SHA-256 in hex and the size
+** of a regular file, or nil and why.  Reading stops past max bytes (the
+** size is then max + 1 and the digest of no use) and at the deadline
+** (hooks.now() seconds): nil, "timeout". */
 static int l_fingerprint(lua_State *L) {
   const char *path = luaL_checkstring(L, 1), *why = NULL;
+  lua_Integer max = luaL_optinteger(L, 2, LUA_MAXINTEGER);
+  double deadline = luaL_optnumber(L, 3, 1e300);
   struct stat st;
   int fd = open_regular(path, &st, &why);
   if (fd < 0) {
@@ -440,9 +497,18 @@ static int l_fingerprint(lua_State *L) {
   }
   unsigned char buf[1 << 16], sha[32];
   ssize_t n;
-  while ((n = read(fd, buf, sizeof buf)) > 0 || (n < 0 && errno == EINTR))
+  while ((n = read(fd, buf, sizeof buf)) > 0 || (n < 0 && errno == EINTR)) {
     if (n > 0)
       sl_sha256_update(&h, buf, (size_t)n);
+    if (h.bytes > (uint64_t)max)
+      break;
+    if (now() > deadline) {
+      close(fd);
+      luaL_pushfail(L);
+      lua_pushliteral(L, "timeout");
+      return 2;
+    }
+  }
   int err = errno;
   close(fd);
   if (n < 0) {

@@ -101,7 +101,8 @@ $(diff "$work/$name.before" "$work/$name.after" | grep '^[<>]' | head -n 12 |
 VERDICT='(ok|differs|error|killed([ :].*)?|timed out after [0-9.]+ s( .*)?|not run( .*)?)'
 LINES="replaying .*|in [0-9]+: ($VERDICT|error: line [0-9]+ of the log is not valid Lua.*|skipped .*)"
 LINES="$LINES|  line [0-9]+ of its output:|    (expected|got): .*|blocked: in [0-9]+: .*"
-LINES="$LINES|data (missing|changed): .*|[0-9]+ commands: .*|sluice: .*"
+LINES="$LINES|data (missing|changed|not checked): .*|[0-9]+ commands: .*|sluice: .*"
+LINES="$LINES|in [0-9]+: its code begins with '\\(': .*"
 LINES="$LINES|[0-9]+ calls? (was|were) blocked by the replay sandbox .*"
 verdict() {
   grep -E "^in $1: $VERDICT\$" "$rep" | sed "s/^in $1: //"
@@ -382,6 +383,54 @@ grep -qE '^[0-9]+ commands: [0-9]+ matched, 0 differed$' "$rep" || problem "the 
 grep -qE '^in (97|98|99):' "$rep" && problem "a typed '--@ in' line became an entry"
 [ "$("$exe" typed.lua 2>&1)" = 121 ] || problem "the log run as a script does not print 121 (the string's length)"
 grep -q '121$' "$work/typed.session" || problem "the session did not print 121"
+done_case
+
+# ---- found by an attacker's review of the kernel sandbox ----
+
+setup preload_escape
+replay --out out
+expect 1 "1=bad 2=differs" "1" "inside out"
+done_case
+
+setup script_continuation
+replay --out out
+expect 1 "1=ok 2=error 3=ok 4=error 5=ok 6=error" "" "inside out"
+grep -q "^in 6: its code begins with '(': " "$rep" || problem "an entry opening with '(' is not named"
+done_case
+
+setup oldformat_header
+replay --out out
+[ "$code" = 1 ] || problem "exit status $code, expected 1"
+grep -q "oldformat_header.lua:[0-9]*: a session header line inside an entry" "$rep" ||
+  problem "a header line inside an old entry is not refused"
+grep -q '^in 1: ok' "$rep" && problem "the entry was replayed as ok"
+done_case
+
+setup data_kernel_files
+replay --out out --limit 5
+expect 1 "1=differs" "" "inside out"
+[ "$(grep -c '^data missing: .*a file of the kernel' "$rep")" = 3 ] ||
+  problem "the three kernel files are not refused as data"
+done_case
+
+setup stderr_controls
+replay --out out
+expect 0 "1=ok" "" "inside out"
+n=$(LC_ALL=C tr -d '\011\012\040-\176' < "$err" | wc -c)
+[ "$n" = 0 ] || problem "standard error holds $n bytes that are not printable ASCII"
+grep -q '^replayed code: ' "$err" || problem "the child's error output is not relayed"
+done_case
+
+setup control_file_name
+cp "$corpus/stderr_controls.log" "$case/plain.lua"
+bad=$(printf 'x\033[2K\rin 9: ok\n9 commands: 9 matched, 0 differed\033[8m.lua')
+cp "$case/plain.lua" "$bad"
+rep=$work/$name.out; err=$work/$name.err
+snap > "$work/$name.before"
+timeout -k 5 "$T" "$exe" --replay "$bad" > "$rep" 2> "$err"
+n=$(LC_ALL=C tr -d '\012\040-\176\200-\377' < "$rep" | wc -c)
+[ "$n" = 0 ] || problem "the report holds $n control characters from the log's name"
+grep -q '^9 commands' "$rep" && problem "the log's name forged a summary line"
 done_case
 
 echo "$passed passed, $failed failed, $skipped skipped"

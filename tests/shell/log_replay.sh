@@ -29,8 +29,8 @@ io.popen("touch popened")
 os.remove("keep.txt")
 --@ in 4
 io.open("$tmp/outside.txt", "w"):write("x")
---@ in 5
-io.open("out/inside.txt", "w"):write("factory line 3"):close()
+--@ in 5 show
+show(io.open("out/inside.txt", "w"):write("factory line 3"):close())
 --| true
 --@ in 6
 load("os.execute('touch loaded')")()
