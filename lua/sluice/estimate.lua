@@ -510,8 +510,8 @@ function E.pick_instrument(g, x, y)
 end
 
 -- The calls that estimate the effect by another route than adjustment,
--- one line each: a front-door set, an instrument, or (neither there) the
--- general identification formula.
+-- one line each: a front-door set, an instrument, and the general
+-- identification formula (g:identify) or why there is none.
 function E.route_calls(g, x, y)
   local out = {}
   local head = string.format("estimate{data = ..., treatment = %q, outcome = %q, ", x, y)
@@ -529,17 +529,20 @@ function E.route_calls(g, x, y)
                                   inst.z, lua_list(inst.given))
   end
   local identify = graph_method(g, "identify")
-  if #out == 0 and identify then
-    local ok, r = pcall(identify, g, x, y)
-    if ok and type(r) == "table" then
-      if r.identified then
-        out[#out + 1] = string.format("the general formula %s: for discrete data, " ..
-                                      "g:identify(%q, %q):evaluate(data, {at = {%s = 1}})",
-                                      tostring(r.formula), x, y, string.format("[%q]", x))
-      else
-        out[#out + 1] = "none: the effect is not identified from this graph (" ..
-                        reason_text(r.why) .. "); no estimator recovers it from these data"
-      end
+  local ok, r = false, nil
+  if identify then ok, r = pcall(identify, g, x, y) end
+  if ok and type(r) == "table" then
+    if r.identified then
+      out[#out + 1] = string.format("the general formula %s; on discrete data: " ..
+                                    "g:identify(%q, %q):evaluate(data, {at = {[%q] = 1}})",
+                                    tostring(r.formula), x, y, x)
+    elseif inst then
+      out[#out + 1] = "note: the graph alone does not identify the effect (" .. reason_text(r.why) ..
+                      "); the instrument gives it under a linear model with one effect for all, " ..
+                      "and otherwise a local effect"
+    else
+      out[#out + 1] = "none: " .. reason_text(r.why) ..
+                      "; no estimator recovers it from these data without further assumptions"
     end
   end
   return out
@@ -558,7 +561,9 @@ local function no_set_message(g, x, y, sets)
                       "route, are not available in this build)")
   end
   if #calls == 1 and calls[1]:find("^none: ") then return msg .. "\n  " .. calls[1] end
-  return msg .. "\n  " .. (#calls > 1 and "other routes exist:" or "another route exists:") ..
+  local routes = 0
+  for _, c in ipairs(calls) do if not c:find("^note: ") then routes = routes + 1 end end
+  return msg .. "\n  " .. (routes > 1 and "other routes exist:" or "another route exists:") ..
          "\n    " .. table.concat(calls, "\n    ")
 end
 

@@ -160,3 +160,116 @@ test("bad input to the routes names the option", function()
   eq(msg:find("test_iv.lua", 1, true) ~= nil, true, "the user's line in " .. msg)
   eq(msg:find("lua/sluice", 1, true), nil, "no file of the Lua layer in " .. msg)
 end)
+
+-- The routes the graph names (g:frontdoor, g:instruments, g:identify).
+-- Graphs: the front-door graph (Pearl 2009, Causality, 3.3.2, fig. 3.5);
+-- an instrument z of x given w, with x and y confounded by a hidden u; the
+-- bow arc x -> y, x <-> y (not identified; Pearl 2009, 3.5, from memory);
+-- the napkin graph (identified, but by no adjustment set; Pearl 2009, 4.3.3
+-- and Shpitser and Pearl 2006, from memory).
+local iv_graph = graph "hidden u; u -> x; u -> y; z -> x; w -> z; w -> y; x -> y"
+local iv_model = sem(iv_graph, {["u -> x"] = 0.8, ["u -> y"] = 1.0, ["z -> x"] = 1.0,
+                                ["w -> z"] = 0.6, ["w -> y"] = 0.5, ["x -> y"] = 0.4})
+local ivd = iv_model:simulate(40000, {seed = 23})
+
+test("graph = picks the front-door set and the instrument", function()
+  local r = estimate{data = fd, treatment = "x", outcome = "y", graph = fd_graph, method = "frontdoor"}
+  same_list(r.via, {"m"})
+  eq(r.set_reason, "the front-door set of the graph")
+  local s = estimate{data = fd, treatment = "x", outcome = "y", method = "frontdoor", via = "m"}
+  eq(r.estimate, s.estimate, "the same estimate as via = \"m\"")
+  local v = estimate{data = ivd, treatment = "x", outcome = "y", graph = iv_graph, method = "iv"}
+  same_list(v.instrument, {"z"}); same_list(v.set, {"w"})
+  eq(v.set_reason, "the instrument of the graph")
+  -- 2SLS against the truth of the linear model, within 4 SE
+  local truth = iv_model:effect("x", "y")
+  eq(math.abs(truth - 0.4) < 1e-12, true, "m:effect")
+  eq(math.abs(v.estimate - truth) < 4 * v.se, true,
+     string.format("2SLS %.4f, truth %.4f, SE %.4f", v.estimate, truth, v.se))
+  -- instrument = alone takes the set the graph lists with it
+  local t = estimate{data = ivd, treatment = "x", outcome = "y", graph = iv_graph, method = "iv",
+                     instrument = "z"}
+  same_list(t.set, {"w"})
+  eq(t.estimate, v.estimate)
+end)
+
+test("graph = refuses a route the graph does not have, with the graph's reason", function()
+  raises(function() return estimate{data = ivd, treatment = "x", outcome = "y", graph = iv_graph,
+                                    method = "iv", instrument = "w"} end,
+         "estimate: instrument = 'w' given {} is not an instrument for x -> y in the graph")
+  raises(function() return estimate{data = ivd, treatment = "x", outcome = "y", graph = iv_graph,
+                                    method = "iv", instrument = "z", set = {}} end,
+         "instrument = 'z' given {} is not an instrument")
+  raises(function() return estimate{data = fd, treatment = "x", outcome = "y", graph = fd_graph:with("m <-> y"),
+                                    method = "frontdoor", via = "m"} end,
+         "estimate: via = {m} is not a front-door set for x -> y in the graph")
+  raises(function() return estimate{data = fd, treatment = "x", outcome = "y", graph = fd_graph,
+                                    method = "frontdoor", via = "u"} end,
+         "via = names 'u', hidden in the graph: it has no data")
+  raises(function() return estimate{data = ivd, treatment = "x", outcome = "y", graph = iv_graph,
+                                    method = "frontdoor"} end,
+         "estimate: graph = admits no front-door set for x -> y", "an instrument z given {w}")
+  raises(function() return estimate{data = fd, treatment = "x", outcome = "y", graph = fd_graph,
+                                    method = "iv"} end,
+         "estimate: graph = shows no instrument for x -> y", 'method = "frontdoor", via = {"m"}')
+end)
+
+test("estimate{graph =} with no adjustment set names the route and the call", function()
+  local msg = raises(function() return estimate{data = fd, treatment = "x", outcome = "y", graph = fd_graph} end,
+    "estimate: the graph admits no valid adjustment set for x -> y",
+    "a front-door set {m}",
+    'estimate{data = ..., treatment = "x", outcome = "y", method = "frontdoor", via = {"m"}}',
+    "the general formula P(y | do(x)) = Σ_m P(m | x) Σ_x' P(y | x', m) P(x')")
+  raises(function() return estimate{data = ivd, treatment = "x", outcome = "y", graph = iv_graph} end,
+    "an instrument z given {w}",
+    'estimate{data = ..., treatment = "x", outcome = "y", method = "iv", instrument = "z", set = {"w"}}')
+  -- the bow arc: nothing identifies the effect
+  raises(function() return estimate{data = ivd, treatment = "x", outcome = "y",
+                                    graph = graph "x -> y; x <-> y; z; w"} end,
+    "no valid adjustment set", "none: the effect of x on y is not identified",
+    "no estimator recovers it")
+  -- the napkin: identified by the general formula alone
+  local napkin = graph "w1 -> w2 -> x -> y; w1 <-> x; w1 <-> y"
+  local nd = ivd:with_column("w1", ivd.w:values()):with_column("w2", ivd.z:values())
+  raises(function() return estimate{data = nd, treatment = "x", outcome = "y", graph = napkin} end,
+    "the general formula P(y | do(x)) =", 'g:identify("x", "y"):evaluate(data')
+end)
+
+test("estimate{graph =} says which set it used when the graph has no optimal set", function()
+  -- whatever g:optimal answers, estimate says the same: the optimal set, or
+  -- the smallest minimal set and g:optimal's reason
+  local g = graph "hidden u; x -> y; u -> y; u -> w; v -> x; v -> y"
+  local d = iv_model:simulate(200, {seed = 1})
+  d = d:with_column("v", d.z:values())
+  local o, why = g:optimal("x", "y")
+  local r = estimate{data = d, treatment = "x", outcome = "y", graph = g}
+  if o then
+    eq(r.set_reason, "the optimal set O(X, Y) of the graph")
+  else
+    local sets = g:adjust("x", "y")
+    same_list(r.set, sets[1])
+    local text = type(why[1]) == "table" and why[1].text or tostring(why[1])
+    eq(r.set_reason, "the smallest minimal set of the graph; no optimal set: " .. text)
+  end
+end)
+
+test("compare{} shows the front-door and IV routes beside the sets", function()
+  local c = compare{data = fd, truth = fd_model, treatment = "x", outcome = "y", boot = 0}
+  local row
+  for _, r in ipairs(c) do if r.label == "front-door" then row = r end end
+  eq(row ~= nil, true, "a front-door row by default: the graph has no adjustment set")
+  eq(row.set_text, "front-door via {m}")
+  local direct = estimate{data = fd, treatment = "x", outcome = "y", method = "frontdoor", via = "m"}
+  eq(row.estimate, direct.estimate)
+  eq(tostring(c):find("front-door via {m}", 1, true) ~= nil, true)
+  -- routes = false leaves them out; routes = true adds them where sets exist
+  local c2 = compare{data = fd, truth = fd_model, treatment = "x", outcome = "y", boot = 0, routes = false}
+  for _, r in ipairs(c2) do eq(r.label ~= "front-door", true, "no route rows") end
+  local c3 = compare{data = ivd, truth = iv_model, treatment = "x", outcome = "y", boot = 0, routes = true}
+  local iv
+  for _, r in ipairs(c3) do if r.label == "instrument" then iv = r end end
+  eq(iv.set_text, "instrument z | {w}")
+  eq(math.abs(iv.estimate - 0.4) < 4 * iv.se, true, "the IV row near the truth")
+  raises(function() return compare{data = fd, truth = fd_model, treatment = "x", outcome = "y",
+                                   routes = "yes"} end, 'compare: routes = "yes" must be true or false')
+end)
