@@ -192,7 +192,7 @@ static int l_identify(lua_State *L) {
       if (x[i] == y[j]) luaL_error(L, "'%s' is both a treatment and an outcome", sl_graph_name(g, x[i]));
   id_box *b = lua_newuserdatauv(L, sizeof *b, 1);
   memset(b, 0, sizeof *b);
-  if (luaL_newmetatable(L, "sluice.idbox")) {
+  if (luaL_newmetatable(L, "sluice.identify.box")) {
     lua_pushcfunction(L, box_gc);
     lua_setfield(L, -2, "__gc");
   }

@@ -137,3 +137,18 @@ test("bad input: each names what is wrong", function()
   raises(function() return r:evaluate(nocol, {at = {x = 0}}) end,
          "evaluate: the formula needs the variable 'm'")
 end)
+
+-- Regression: the result's box shared its metatable name with the id
+-- arrays of g:optimal and g:cheapest, so one of them was collected by the
+-- other's __gc (a crash when the garbage collector ran).
+test("identify results and the id arrays of other methods collect apart", function()
+  local g = graph "z -> x -> y; z -> y"
+  for _ = 1, 5 do
+    g:identify("x", "y")
+    g:optimal("x", "y")
+    g:cheapest("x", "y")
+  end
+  collectgarbage()
+  collectgarbage()
+  eq(g:identify("x", "y").formula, "P(y | do(x)) = Σ_z P(y | x, z) P(z)")
+end)
