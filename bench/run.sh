@@ -65,6 +65,13 @@ if [ "${SECTION:-}" = estimate ]; then
   echo "bench: done"
   exit $fail
 fi
+# SECTION=routes: only the front-door and IV benchmarks (section 12, at the end).
+if [ "${SECTION:-}" = routes ]; then
+  row "figure" "sluice" "target" "vs target" "reference" "vs ref"
+  eval "$(sed -n '/^# ---- 12: front-door and IV/,/^# ---- end of 12/p' bench/run.sh)"
+  echo "bench: done"
+  exit $fail
+fi
 for p in gen_graph bench_parse bench_start bench_dsep bench_trails bench_adjust; do
   # shellcheck disable=SC2046
   cc -std=c11 -O2 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -Isrc/graph \
@@ -494,5 +501,81 @@ else
   failed "cannot compile bench/bench_identify.c"
 fi
 # ---- end of 11 ----
+# ---- 12: front-door and IV estimators, n = 1e5 rows, 200 bootstrap replicates ----
+# bench/bench_routes.lua writes the data (seeded: a hidden confounder of x
+# and y, an instrument z given w, a mediator m) and runs one estimate{} per
+# process, timed from outside with a wall clock, best of EST_REPS (default
+# 3), minus the best of as many runs that only read the file.  The
+# baseline, bench/sm_routes.py (statsmodels IV2SLS; two OLS fits and their
+# product for the front-door), runs once; the target is 1/10 of its time.
+# The point estimates must agree within 1e-8 relative.  SECTION=routes
+# runs this section alone.
+RT=$D/routes_1e5.csv
+RT_B=200
+RT_REPS=${EST_REPS:-3}
+# rt_best CMD...: the best wall time of RT_REPS runs of CMD in rt_t, the
+# output of the last in rt_out; non-zero when a run fails.
+rt_best() {
+  rt_t=""; rt_i=0
+  while [ "$rt_i" -lt "$RT_REPS" ]; do
+    rt_a=$(date +%s.%N)
+    rt_out=$("$@") || return 1
+    rt_z=$(date +%s.%N)
+    rt_t=$(awk -v a="$rt_a" -v z="$rt_z" -v t="$rt_t" 'BEGIN {
+      d = z - a; print (t == "" || d < t + 0) ? d : t }')
+    rt_i=$((rt_i + 1))
+  done
+}
+# rt_close A B: whether A and B agree within 1e-8 relative.
+rt_close() {
+  awk -v a="$1" -v b="$2" 'BEGIN { d = a - b; if (d < 0) d = -d; s = b < 0 ? -b : b
+    exit !(a != "" && b != "" && d <= 1e-8 * s) }'
+}
+rt_notes=""
+if [ ! -x "$B/sluice" ]; then
+  echo "routes                             skipped: $B/sluice not built"
+elif ! "$B/sluice" bench/bench_routes.lua gen "$RT" 100000 1 >/dev/null; then
+  failed "bench/bench_routes.lua gen (crashed)"
+elif ! rt_best "$B/sluice" bench/bench_routes.lua read "$RT"; then
+  failed "bench/bench_routes.lua read (crashed)"
+else
+  rt_t0=$rt_t
+  for rt_m in iv frontdoor; do
+    if ! rt_best "$B/sluice" bench/bench_routes.lua "$rt_m" "$RT" "$RT_B" 1; then
+      failed "bench/bench_routes.lua $rt_m (crashed)"; continue
+    fi
+    rt_r=$rt_out
+    rt_s=$(awk -v t="$rt_t" -v r="$rt_t0" 'BEGIN { print t - r }')
+    rt_ref="$PYTHON not found"; rt_tgt="-"; rt_tr="-"; rt_rr="-"; rt_p=""
+    if command -v "$PYTHON" >/dev/null 2>&1; then
+      if rt_p=$("$PYTHON" bench/sm_routes.py "$RT" "$rt_m" "$RT_B" 1); then
+        if [ -n "$(val "$rt_p" missing)" ]; then
+          rt_ref="statsmodels not installed"; rt_p=""
+        else
+          rt_pt=$(val "$rt_p" total_s)
+          rt_10=$(awk -v t="$rt_pt" 'BEGIN { print t / 10 }')
+          rt_tgt=$(secs "$rt_10"); rt_tr=$(ratio "$rt_s" "$rt_10")
+          rt_ref="statsmodels $(secs "$rt_pt")"; rt_rr=$(ratio "$rt_s" "$rt_pt")
+          rt_close "$(val "$rt_r" estimate)" "$(val "$rt_p" estimate)" ||
+            failed "$rt_m: sluice estimates $(val "$rt_r" estimate), statsmodels $(val "$rt_p" estimate)"
+        fi
+      else
+        failed "bench/sm_routes.py $rt_m (crashed)"; rt_p=""
+      fi
+    fi
+    [ "$(val "$rt_r" boot)" = "$RT_B" ] ||
+      rt_notes="$rt_notes
+         $rt_m: $(val "$rt_r" boot_failed) of $RT_B sluice replicates failed"
+    row "$rt_m 1e5, boot $RT_B" "$(secs "$rt_s")" "$rt_tgt" "$rt_tr" "$rt_ref" "$rt_rr"
+    rt_notes="$rt_notes
+         $rt_m: point estimate sluice $(val "$rt_r" estimate)${rt_p:+, statsmodels $(val "$rt_p" estimate)};
+           bootstrap SE sluice $(val "$rt_r" se)${rt_p:+, statsmodels $(val "$rt_p" se); statsmodels $(tms "$(val "$rt_p" per_rep_s)") per replicate}"
+  done
+  echo "       routes: wall time of a sluice run that reads the file and estimates (best of $RT_REPS)," \
+       "minus one that only reads it ($(secs "$rt_t0")); $(nproc 2>/dev/null || echo '?') cores;"
+  echo "         iv: 2SLS of y on x, z instrumenting x, given w; frontdoor: via m (two linear models)$rt_notes"
+  rm -f "$RT"
+fi
+# ---- end of 12 ----
 echo "bench: done"
 exit $fail
