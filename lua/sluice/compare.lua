@@ -124,11 +124,16 @@ function compare_mt.__tostring(c)
   end
   if c.plot then lines[#lines + 1] = "  picture: " .. c.plot end
   for _, note in ipairs(c.notes or {}) do lines[#lines + 1] = "  " .. note end
-  if c.routes then
-    lines[#lines + 1] = "  routes: the front-door row uses the front-door formula, the instrument row" ..
-                        "\n  two-stage least squares (a local effect when effects vary); see estimate{}"
+  local fd, iv = false, false
+  for _, r in ipairs(c) do
+    if r.label == "front-door" then fd = true elseif r.label == "instrument" then iv = true end
   end
-  lines[#lines + 1] = "  " .. E.caution
+  if fd then lines[#lines + 1] = "  front-door: the front-door formula through the set (see estimate{})" end
+  if iv then
+    lines[#lines + 1] = "  instrument: two-stage least squares; when effects differ between units, a local" ..
+                        "\n  effect for compliers (Imbens and Angrist 1994)"
+  end
+  lines[#lines + 1] = "  " .. ((fd or iv) and E.route_caution or E.caution)
   return table.concat(lines, "\n")
 end
 

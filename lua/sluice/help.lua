@@ -281,11 +281,12 @@ predicts the response perfectly) is a warning that names the column.
 :predict(f) gives probabilities.]],
     example = [[m = logit{data = pupils, y = "passed", x = {"tutoring", "attendance"}}]] },
   { name = "estimate", topic = "estimate",
-    sig = "estimate{data=, treatment=, outcome=, set= | graph=, method=, boot=, seed=}",
+    sig = "estimate{data=, treatment=, outcome=, set= | graph=, method=, via=, instrument=, boot=, seed=}",
     brief = "The average effect of a treatment",
     returns = "{estimate=, se=, lo=, hi=, n=, method=, set=, warnings=, ...}",
     summary = [[The average causal effect of treatment on outcome, adjusted for set (or for
-the optimal set of graph, which is printed with the reason). method:
+the optimal set of graph, which is printed with the reason; when the graph
+has no optimal set, the smallest minimal set and why). method:
 "standardize" (the g-formula, default: outcome model with treatment-by-
 covariate interactions, linear or logistic), "ipw" (normalised weights;
 stabilized = true, truncate = {1, 99}) or "aipw" (doubly robust, with its
@@ -293,11 +294,42 @@ influence-function SE). estimand "ATE", "ATT" or "ATC"; scale "difference",
 "ratio" (of means, which must both be positive) or "odds ratio";
 contrast = d (finite, not 0) for a continuous treatment. boot = B gives a
 bootstrap (level strictly between 0 and 1, default 0.95; seed = a whole
-number), identical for a seed whatever the number of threads. The
-estimate is only as good as the graph and the no-unmeasured-confounding
-assumption behind it.]],
+number), identical for a seed whatever the number of threads. When graph
+admits no adjustment set, the error says so and names the routes it has
+(front-door set, instrument, or the general formula of g:identify) with the
+call to use.
+method = "frontdoor", via = {mediators} (earliest first; a 0/1 treatment;
+no set): the front-door formula E[Y | do(x)] = sum_m P(m | x) sum_x' P(x')
+E[Y | x', m]. Each mediator is regressed on the treatment and the earlier
+mediators (linear, or logistic when 0/1), the outcome on the treatment and
+the mediators (linear or logistic; interactions = true adds treatment-by-
+mediator terms). Assumed: a continuous mediator is its model's mean plus an
+error whose distribution does not depend on the treatment (its values
+under x are the fitted mean plus each row's residual); a 0/1 mediator is
+summed over. With every model linear the estimate is the product of
+coefficients, with a delta-method SE (Sobel 1982); otherwise boot =.
+method = "iv", instrument = z (or a list), set = covariates: two-stage
+least squares. SE: HC1 robust (classical and HC0 printed beside); the
+first-stage F of the instruments (below 10 a weak-instrument warning,
+Staiger and Stock 1997); the Wald ratio for one 0/1 instrument, a 0/1
+treatment and no set. When effects differ between people, the IV estimate
+is a local effect for compliers (Imbens and Angrist 1994), not the effect
+in everyone. With graph =, the smallest front-door set, or the instrument
+with the smallest conditioning set (the first listed), is used and named;
+given via = or instrument = are checked against the graph.
+An estimate is only as good as the graph and the assumptions behind it
+(no unmeasured confounding for adjustment; the front-door or instrument
+conditions for those routes); it is no substitute for qualified
+epidemiological or clinical judgement.]],
     example = [[estimate{data = plots, treatment = "mulch", outcome = "harvest",
-         graph = g, method = "aipw", boot = 500, seed = 7}]] },
+         graph = g, method = "aipw", boot = 500, seed = 7}
+-- clinics: a hidden frailty drives both the checklist and recovery; the
+-- checklist acts only through hand hygiene (a front-door route), and the
+-- reminder letter moves screening uptake alone (an instrument)
+estimate{data = wards, treatment = "checklist", outcome = "recovery",
+         method = "frontdoor", via = {"hygiene"}}
+estimate{data = wards, treatment = "screened", outcome = "stage",
+         method = "iv", instrument = "letter", set = {"age"}}]] },
   { name = "balance", topic = "estimate",
     sig = "balance{data=, treatment=, set= | graph=}",
     brief = "Covariate balance before and after weighting",
@@ -375,7 +407,7 @@ model then describes binarized data: m:effect and m:limit need draws =).]],
     summary = "False once the model has binary or binarized nodes.",
     example = [[m:exact()]] },
   { name = "compare", topic = "model",
-    sig = "compare{data=, graph=, treatment=, outcome=, truth=, sets=, method=, plot=}",
+    sig = "compare{data=, graph=, treatment=, outcome=, truth=, sets=, method=, routes=, plot=}",
     brief = "Each candidate set's estimate beside the truth",
     returns = "a table, printed with a forest plot",
     summary = [[The estimate under each candidate adjustment set: no adjustment, all observed
@@ -384,9 +416,20 @@ each: whether the graph deems it valid (with the reason when not), the
 estimate and its interval (method as in estimate{}; boot defaults to 200
 for standardize), the error in percent of the truth (a finite number, or a
 model from sem()), and for a linear model m:limit. sets = "z" adds one
-set; sets = {"z", {"z", "w"}} adds a set per item. plot = "file.svg"
-draws the forest plot with the truth as a reference line.]],
-    example = [[compare{data = d, truth = m, treatment = "mulch", outcome = "harvest", plot = "sets.svg"}]] },
+set; sets = {"z", {"z", "w"}} adds a set per item. routes = true adds a
+row for the graph's front-door set (estimate{method = "frontdoor"}) and
+one for its instrument (method = "iv"), each with its own interval (the
+bootstrap when it has no analytic SE); they are added by default when the
+graph admits no adjustment set, and routes = false leaves them out. A
+route the data cannot take (e.g. a treatment not 0/1 for the front-door)
+is left out with a note. plot = "file.svg" draws the forest plot with the
+truth as a reference line.]],
+    example = [[compare{data = d, truth = m, treatment = "mulch", outcome = "harvest", plot = "sets.svg"}
+-- every route against the truth of a simulated clinic model
+m = sem(graph "hidden frailty; frailty -> checklist, recovery; checklist -> hygiene -> recovery",
+        {["checklist -> hygiene"] = 0.9, ["hygiene -> recovery"] = 0.7}, {default = 0.8})
+d = m:simulate(20000, {seed = 3, binarize = {checklist = 0}})
+compare{data = d, truth = m, treatment = "checklist", outcome = "recovery", boot = 0}]] },
   { name = "g:show", topic = "picture",
     sig = "g:show()",
     returns = "text",
