@@ -134,6 +134,7 @@ demo: deps
 	@$(MAKE) --no-print-directory all
 	$(B)/sluice examples/orchard.lua
 	$(B)/sluice examples/hedgerows.lua
+	$(B)/sluice examples/extension.lua
 
 install: all
 	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(CMODDIR) \
