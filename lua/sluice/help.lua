@@ -514,6 +514,10 @@ for _, e in ipairs(H.entries) do
   local short = e.name:match("^[gfcm]:(.+)$")
   if short then by_name[short] = by_name[short] or e end
 end
+-- the methods of an identification result are told in g:identify's entry
+for _, k in ipairs({"r:evaluate", "evaluate", "r:latex", "latex"}) do
+  by_name[k] = by_name[k] or by_name["g:identify"]
+end
 
 -- Edit distance, for suggestions.
 local function distance(a, b)
