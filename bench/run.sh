@@ -577,5 +577,39 @@ else
   rm -f "$RT"
 fi
 # ---- end of 12 ----
+# ---- 13: front-door sets and instruments, 1e3 nodes ----
+# Random graphs of 1e3 nodes, 3e3 local directed edges and 30 <-> edges;
+# among 20 random pairs the longest front-door listing (up to 200 sets).
+# No Debian library lists them; the reference is the textbook bound
+# n(n + m) steps at an assumed 1 ns each per answer, and (n + m) steps for
+# one check (linear-time separation).  Seed 2 gives a long front-door
+# listing, seed 3 many instruments.
+# shellcheck disable=SC2046
+if cc -std=c11 -O2 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -Isrc/graph \
+     bench/bench_frontdoor.c "$B/libsluice.a" $(pkg-config --libs libgvc) -lm -o "$D/bench_frontdoor"; then
+  rf=$("$D/bench_frontdoor" 1000 3000 30 2 200) || { failed "bench_frontdoor (a listed set fails the criterion)"; rf=""; }
+  rv=$("$D/bench_frontdoor" 1000 3000 30 3 200) || { failed "bench_frontdoor (seed 3)"; rv=""; }
+  if [ -n "$rf" ]; then
+    fb=$(awk -v n="$(val "$rf" nodes)" -v m="$(val "$rf" edges)" 'BEGIN { print n * (n + m) * 1e-9 }')
+    fl=$(awk -v n="$(val "$rf" nodes)" -v m="$(val "$rf" edges)" 'BEGIN { print (n + m) * 1e-9 }')
+    fref="n(n+m) at 1 ns: $(tms "$fb")"
+    row "frontdoor 1e3, first set" "$(tms "$(val "$rf" first_s)")" "-" "-" "$fref" "$(ratio "$(val "$rf" first_s)" "$fb")"
+    row "frontdoor 1e3, mean delay ($(val "$rf" sets) sets)" "$(tms "$(val "$rf" mean_delay_s)")" "-" "-" "$fref" \
+        "$(ratio "$(val "$rf" mean_delay_s)" "$fb")"
+    row "frontdoor 1e3, max delay" "$(tms "$(val "$rf" max_delay_s)")" "-" "-" "$fref" "$(ratio "$(val "$rf" max_delay_s)" "$fb")"
+    row "frontdoor 1e3, check one set" "$(tms "$(val "$rf" check_s)")" "-" "-" "(n+m) at 1 ns: $(tms "$fl")" \
+        "$(ratio "$(val "$rf" check_s)" "$fl")"
+  fi
+  if [ -n "$rv" ]; then
+    vb=$(awk -v n="$(val "$rv" nodes)" -v m="$(val "$rv" edges)" 'BEGIN { print n * (n + m) * 1e-9 }')
+    vref="n(n+m) at 1 ns: $(tms "$vb")"
+    row "instruments 1e3, first" "$(tms "$(val "$rv" iv_first_s)")" "-" "-" "$vref" "$(ratio "$(val "$rv" iv_first_s)" "$vb")"
+    row "instruments 1e3, mean delay ($(val "$rv" instruments))" "$(tms "$(val "$rv" iv_mean_delay_s)")" "-" "-" "$vref" \
+        "$(ratio "$(val "$rv" iv_mean_delay_s)" "$vb")"
+  fi
+else
+  failed "cannot compile bench/bench_frontdoor.c"
+fi
+# ---- end of 13 ----
 echo "bench: done"
 exit $fail

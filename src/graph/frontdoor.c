@@ -14,16 +14,19 @@
 **
 ** The minimal sets.  Jeong, Tian and Bareinboim list every front-door set
 ** (ListFDSets).  We list the inclusion-minimal ones with a simpler method
-** of our own: a flashlight search over the candidates (include or exclude
-** one node at a time), pruned by the largest-set test above (no set
-** between I and R exists unless the largest set within R contains I and
-** intercepts every directed path), each leaf kept when no member can be
-** dropped.  Each step costs O(k (n + m)) for k candidates; the delay
-** between two answers is polynomial when every leaf is minimal, and can
-** grow with the number of non-minimal front-door sets otherwise (two
-** candidates that shield each other from y, say).  bench_frontdoor.c
-** measures the delay on random graphs.  Candidates are restricted to
-** ancestors of y: a member of a minimal set has a directed path to y.
+** of our own, a branching search on violated conditions: a set I that is
+** not a front-door set misses a directed path, or leaves a back-door trail
+** from a member to y open given x; every front-door set holding I holds a
+** node of it, so the search branches on those nodes (branch i takes node
+** i and leaves out nodes 1..i-1: no set is found twice).  Each node of the
+** search is pruned by the largest-set test above (nothing between I and R
+** unless the largest set within R holds I and intercepts every path); a
+** front-door set I is reported when no member can be dropped.  A step costs
+** O(|I| (n + m)).  Polynomial delay is not guaranteed: the search may pass
+** non-minimal front-door sets between two answers (make bench shows the
+** mean and the largest delay on random graphs of 1e3 nodes).  Candidates
+** are restricted to ancestors of y: each member of a minimal set has a
+** directed path to y.
 */
 #include <stdlib.h>
 #include <string.h>
@@ -332,36 +335,39 @@ done:
 
 /* ---- listing the minimal sets ---- */
 
-typedef struct frame { int phase; int32_t v; size_t base; } frame;
-
 typedef struct lister {
   fd_ws w;
+  sl_sep_ws *sep;
   unsigned char *r, *in;    /* the allowed set R and the chosen set I */
   unsigned char *tmp;       /* scratch copy for the minimality test */
   int32_t *cand;            /* candidates by name */
-  size_t ncand, nr, ni;
+  size_t ncand, ni;
   undo_stack u;
-  frame *st;
-  int32_t *out;
+  int32_t *out, *ids, *pred;
+  sl_set_fn fn;
+  void *ctx;
+  volatile int *stop;
+  int any;
 } lister;
 
 static void lister_free(lister *L) {
-  free(L->r); free(L->in); free(L->tmp); free(L->cand); free(L->u.v); free(L->st);
-  free(L->out);
+  free(L->r); free(L->in); free(L->tmp); free(L->cand); free(L->u.v); free(L->out);
+  free(L->ids); free(L->pred);
+  sl_sep_free(L->sep);
   ws_free(&L->w);
 }
 
-/* Whether some front-door set lies within the members of r other than
-** drop: the largest such set intercepts every directed path. */
+/* Whether some front-door set lies within I without drop: the largest
+** such set intercepts every directed path. */
 static int exists_within(lister *L, int32_t drop) {
-  memcpy(L->tmp, L->r, L->w.n);
+  memcpy(L->tmp, L->in, L->w.n);
   L->tmp[drop] = 0;
   shrink_iii(&L->w, L->tmp, NULL);
   return intercepts(&L->w, L->tmp);
 }
 
-/* The leaf R = I is a minimal set when no member can be dropped. */
-static int leaf_minimal(lister *L) {
+/* I is a front-door set: minimal when no member can be dropped. */
+static int minimal(lister *L) {
   for (size_t i = 0; i < L->ncand; i++) {
     int32_t v = L->cand[i];
     if (L->in[v] && exists_within(L, v)) return 0;
@@ -369,30 +375,99 @@ static int leaf_minimal(lister *L) {
   return 1;
 }
 
-/* Put back the members removed since base. */
+/* Put back the members of R removed since base. */
 static void restore(lister *L, size_t base) {
-  while (L->u.n > base) {
-    int32_t v = L->u.v[--L->u.n];
-    L->r[v] = 1;
-    L->nr++;
-  }
+  while (L->u.n > base) L->r[L->u.v[--L->u.n]] = 1;
 }
 
-/* Enter a node of the search: shrink R to its largest (iii) set; 1 when a
-** front-door set between I and R may exist. */
-static int enter(lister *L) {
-  size_t base = L->u.n;
-  L->nr -= shrink_iii(&L->w, L->r, &L->u);
-  for (size_t i = base; i < L->u.n; i++)
-    if (L->in[L->u.v[i]]) return 0;
-  return intercepts(&L->w, L->r);
+/* A shortest directed path from x to y avoiding I: its inner nodes that R
+** allows go to br; returns -1 when there is no such path, else their count. */
+static long missed(lister *L, int32_t *br) {
+  const sl_graph *g = L->w.g;
+  size_t head = 0, tail = 0;
+  for (size_t v = 0; v < g->n; v++) L->pred[v] = -2;
+  L->pred[L->w.x] = -1;
+  L->w.queue[tail++] = L->w.x;
+  while (head < tail) {
+    int32_t v = L->w.queue[head++];
+    for (uint32_t k = g->ch.off[v]; k < g->ch.off[v + 1]; k++) {
+      int32_t u = g->ch.adj[k];
+      if (L->pred[u] != -2 || L->in[u]) continue;
+      L->pred[u] = v;
+      if (u == L->w.y) {
+        long nb = 0;
+        for (int32_t t = v; t != L->w.x; t = L->pred[t]) if (L->r[t]) br[nb++] = t;
+        return nb;
+      }
+      L->w.queue[tail++] = u;
+    }
+  }
+  return -1;
+}
+
+/* An open back-door trail from a member of I to y given x, in the graph
+** without the arrows out of I: its inner nodes that R allows go to br;
+** -1 when every member is closed off. */
+static long leak(lister *L, int32_t *br, sl_error *e, int *rc) {
+  for (size_t i = 0; i < L->ncand; i++) {
+    int32_t v = L->cand[i];
+    if (!L->in[v]) continue;
+    int sep;
+    sl_trail t;
+    *rc = sl_separated_cut(L->sep, &v, 1, &L->w.y, 1, &L->w.x, 1, L->in, NULL, &sep, &t, e);
+    if (*rc) return -1;
+    if (sep) continue;
+    long nb = 0;
+    for (size_t k = 1; k < t.len; k++)
+      if (L->r[t.nodes[k]] && !L->in[t.nodes[k]]) br[nb++] = t.nodes[k];
+    return nb;
+  }
+  return -1;
 }
 
 /* Report I, by name. */
-static int report(lister *L, sl_set_fn fn, void *ctx) {
+static int report(lister *L) {
   size_t k = 0;
   for (size_t i = 0; i < L->ncand; i++) if (L->in[L->cand[i]]) L->out[k++] = L->cand[i];
-  return fn(ctx, L->out, k);
+  return L->fn(L->ctx, L->out, k);
+}
+
+/* One node of the search: every minimal set Z with I within Z within R.
+** A front-door set Z that holds I must hold a node of each directed path
+** that I misses and of each open trail from a member to y (adding members
+** never closes such a trail but by standing on it), so we branch on those
+** nodes, the i-th branch taking node i and leaving out nodes 1..i-1. */
+static int search(lister *L, sl_error *e) {
+  if (L->stop && *L->stop) return sl_error_set(e, SL_ELIMIT, 0, 0, "interrupted");
+  size_t base = L->u.n;
+  shrink_iii(&L->w, L->r, &L->u);
+  int rc = SL_OK;
+  for (size_t i = base; i < L->u.n; i++)
+    if (L->in[L->u.v[i]]) goto done;            /* a member cannot stay */
+  if (!intercepts(&L->w, L->r)) goto done;
+  long nb = missed(L, L->ids);
+  if (nb < 0) nb = leak(L, L->ids, e, &rc);
+  if (rc) goto done;
+  if (nb < 0) {                                 /* I is a front-door set */
+    if (minimal(L)) { L->any = 1; rc = report(L); }
+    goto done;
+  }
+  int32_t *br = malloc(((size_t)nb + 1) * sizeof *br);
+  if (!br) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  memcpy(br, L->ids, (size_t)nb * sizeof *br);
+  for (long i = 0; i < nb && rc == SL_OK; i++) {
+    int32_t v = br[i];
+    if (!L->r[v]) continue;
+    L->in[v] = 1;
+    rc = search(L, e);
+    L->in[v] = 0;
+    L->r[v] = 0;                                /* later branches leave v out */
+    L->u.v[L->u.n++] = v;
+  }
+  free(br);
+done:
+  restore(L, base);
+  return rc;
 }
 
 int sl_frontdoor_each(const sl_graph *g, int32_t x, int32_t y, sl_set_fn fn, void *ctx,
@@ -405,9 +480,11 @@ int sl_frontdoor_each(const sl_graph *g, int32_t x, int32_t y, sl_set_fn fn, voi
   if ((rc = ws_init(&L.w, g, x, y, e))) return rc;
   size_t n = g->n ? g->n : 1;
   L.r = calloc(n, 1); L.in = calloc(n, 1); L.tmp = calloc(n, 1);
-  L.cand = malloc(n * sizeof *L.cand); L.u.v = malloc(n * sizeof *L.u.v);
-  L.st = malloc((2 * n + 2) * sizeof *L.st); L.out = malloc(n * sizeof *L.out);
-  if (!L.r || !L.in || !L.tmp || !L.cand || !L.u.v || !L.st || !L.out) {
+  L.cand = malloc(n * sizeof *L.cand); L.u.v = malloc(2 * n * sizeof *L.u.v);
+  L.out = malloc(n * sizeof *L.out); L.ids = malloc((n + 1) * sizeof *L.ids);
+  L.pred = malloc(n * sizeof *L.pred); L.sep = sl_sep_alloc(g);
+  L.fn = fn; L.ctx = ctx; L.stop = stop;
+  if (!L.r || !L.in || !L.tmp || !L.cand || !L.u.v || !L.out || !L.ids || !L.pred || !L.sep) {
     rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
     goto done;
   }
@@ -420,45 +497,8 @@ int sl_frontdoor_each(const sl_graph *g, int32_t x, int32_t y, sl_set_fn fn, voi
   candidates(&L.w, L.r, 1);
   for (size_t r = 0; r < g->n; r++)
     if (L.r[g->by_rank[r]]) L.cand[L.ncand++] = g->by_rank[r];
-  L.nr = L.ncand;
-  size_t top = 0;
-  L.st[top++] = (frame){0, -1, 0};
-  int any = 0;
-  while (top > 0) {
-    if (stop && *stop) { rc = sl_error_set(e, SL_ELIMIT, 0, 0, "interrupted"); break; }
-    frame *f = &L.st[top - 1];
-    if (f->phase == 0) {
-      f->base = L.u.n;
-      if (!enter(&L)) { restore(&L, f->base); top--; continue; }
-      if (L.nr == L.ni) {                   /* a leaf: R = I */
-        if (leaf_minimal(&L)) {
-          any = 1;
-          int r = report(&L, fn, ctx);
-          if (r) { rc = r; break; }
-        }
-        restore(&L, f->base);
-        top--;
-        continue;
-      }
-      int32_t v = -1;
-      for (size_t i = 0; i < L.ncand && v < 0; i++)
-        if (L.r[L.cand[i]] && !L.in[L.cand[i]]) v = L.cand[i];
-      f->v = v;
-      f->phase = 1;
-      L.r[v] = 0; L.nr--;                   /* first without v */
-      L.st[top++] = (frame){0, -1, 0};
-    } else if (f->phase == 1) {
-      L.r[f->v] = 1; L.nr++;                /* then with v */
-      L.in[f->v] = 1; L.ni++;
-      f->phase = 2;
-      L.st[top++] = (frame){0, -1, 0};
-    } else {
-      L.in[f->v] = 0; L.ni--;
-      restore(&L, f->base);
-      top--;
-    }
-  }
-  if (rc == SL_OK && !any) {
+  rc = search(&L, e);
+  if (rc == SL_OK && !L.any) {
     *none = 1;
     if (why) {
       /* a directed path that the largest candidate set misses */
