@@ -143,7 +143,7 @@ end
 
 -- ---- reading ----
 
-local function version_newer(a, b)   -- is version a newer than b?
+function T.version_newer(a, b)   -- is version a newer than b?
   local function parts(v)
     local t = {}
     for d in v:gmatch("%d+") do t[#t + 1] = tonumber(d) end
@@ -298,7 +298,7 @@ function T.parse(text, name)
     if again and #again > T.MAX_VERSION then return true, "a version of more than "
                                                   .. T.MAX_VERSION .. " characters" end
     if again then
-      if version_newer(again, res.version) then res.version = again end
+      if T.version_newer(again, res.version) then res.version = again end
       fresh = true
       return true
     end

@@ -32,16 +32,6 @@ R.MAX_TOTAL = 256 << 20   -- bytes all entries together may send
 
 local function say(...) real.fwrite(stdout, ...) end
 
--- Is version a newer than b?
-local function version_newer(a, b)
-  local function parts(v) local t = {} for d in v:gmatch("%d+") do t[#t + 1] = tonumber(d) end return t end
-  local x, y = parts(a), parts(b)
-  for i = 1, math.max(#x, #y) do
-    local p, q = x[i] or 0, y[i] or 0
-    if p ~= q then return p > q end
-  end
-  return false
-end
 
 -- ---- where a replay may write ----
 
@@ -408,7 +398,7 @@ function R.replay(o)
   if not text then return 1 end
   local parsed, perr = T.parse(text, o.log)
   if not parsed then say("sluice: ", T.escape(perr), "\n") return 1 end
-  if version_newer(parsed.version, M.version) then
+  if T.version_newer(parsed.version, M.version) then
     say(format("sluice: %s was written by sluice %s, newer than this sluice %s; "
                .. "replay it with sluice %s or later\n", lname, T.escape(parsed.version),
                M.version, T.escape(parsed.version)))

@@ -7,6 +7,7 @@
 #include <lua.h>
 #include <lauxlib.h>
 #include "graph.h"
+#include "adjust.h"
 
 #define SL_GRAPH_MT "sluice.graph"
 #define SL_LIST_MT  "sluice.list"
@@ -30,6 +31,22 @@ sl_graph *sl_bind_checkgraph(lua_State *L, int arg);
 ** raises argument errors that name the node. */
 int32_t *sl_bind_checkset(lua_State *L, const sl_graph *g, int arg, size_t *n,
                           int allow_nil);
+
+/* Sets, trails and reasons as the graph methods return them (bind_reasons.c). */
+void sl_bind_push_set(lua_State *L, const sl_graph *g, const int32_t *s, size_t n);
+void sl_bind_push_trail(lua_State *L, const sl_graph *g, const sl_trail *t,
+                        sl_mark z, sl_mark an_z);
+const char *sl_bind_reason_kind(int kind);
+/* The reasons as a list; trails are judged given z (an_z: z and its
+** ancestors), front-door trails to the outcome given xz when it is not NULL. */
+void sl_bind_push_reasons(lua_State *L, const sl_graph *g, const sl_reasons *rs,
+                          sl_mark z, sl_mark an_z, sl_mark xz, sl_mark an_xz);
+/* hooks.explain(g, set, reasons) words each reason (adds .text). */
+void sl_bind_explain(lua_State *L, int gidx, int setidx, int ridx);
+/* An empty sl_reasons owned by a userdata pushed on the stack. */
+sl_reasons *sl_bind_push_reason_box(lua_State *L);
+/* A value as the user would write it, for messages: 2.5, nan, "x", a table. */
+const char *sl_bind_value_text(lua_State *L, int idx);
 
 int sl_open_graph(lua_State *L);   /* registers the graph functions */
 int sl_open_adjust(lua_State *L);  /* adds trails and adjustment methods */

@@ -15,7 +15,6 @@ volatile int sl_bind_stop;
 #define TRAIL_LIMIT 10000
 #define SET_LIMIT 10000
 
-static const char *const kind_names[] = {"causal", "backdoor", "noncausal"};
 
 /* Push an option field of the table at idx (or nil). */
 static int opt_field(lua_State *L, int idx, const char *name) {
@@ -33,19 +32,6 @@ static int opt_error(lua_State *L, const char *fname, const char *fmt, ...) {
   e.code = SL_EARG;
   e.line = e.col = 0;
   return sl_bind_raise(L, &e, fname, NULL, 0);
-}
-
-/* A value as the user would write it, for messages: 2.5, nan, "x", a table. */
-static const char *value_text(lua_State *L, int idx) {
-  int t = lua_type(L, idx);
-  if (t == LUA_TNUMBER) {
-    lua_Number x = lua_tonumber(L, idx);
-    if (x != x) return lua_pushliteral(L, "nan");
-    return luaL_tolstring(L, idx, NULL);
-  }
-  if (t == LUA_TSTRING) return lua_pushfstring(L, "\"%s\"", lua_tostring(L, idx));
-  if (t == LUA_TNIL || t == LUA_TNONE) return lua_pushliteral(L, "nil");
-  return lua_pushfstring(L, "a %s", luaL_typename(L, idx));
 }
 
 /* The options table at idx holds only the known keys (a typo would be
@@ -74,7 +60,7 @@ static void check_options(lua_State *L, int idx, const char *fname,
     const char *names = lua_tostring(L, -1);
     if (near) opt_error(L, fname, "unknown option '%s'; did you mean '%s'?", k, near);
     opt_error(L, fname, "unknown option %s (options: %s)",
-              k ? lua_pushfstring(L, "'%s'", k) : value_text(L, -2), names);
+              k ? lua_pushfstring(L, "'%s'", k) : sl_bind_value_text(L, -2), names);
   }
 }
 
@@ -92,7 +78,7 @@ static lua_Integer opt_limit(lua_State *L, const char *fname, lua_Integer def) {
     if (ok) limit = (lua_Integer)x;
   }
   if (!ok || limit < 1)
-    opt_error(L, fname, "limit = %s must be a whole number of at least 1", value_text(L, 5));
+    opt_error(L, fname, "limit = %s must be a whole number of at least 1", sl_bind_value_text(L, 5));
   return limit;
 }
 
@@ -103,14 +89,14 @@ static int32_t *opt_set(lua_State *L, const sl_graph *g, int idx, const char *fn
   int t = lua_type(L, idx);
   size_t len = t == LUA_TSTRING ? 1 : t == LUA_TTABLE ? (size_t)luaL_len(L, idx) : 0;
   if (t != LUA_TNIL && t != LUA_TSTRING && t != LUA_TTABLE)
-    opt_error(L, fname, "%s = must be a node name or a list of names, got %s", opt, value_text(L, idx));
+    opt_error(L, fname, "%s = must be a node name or a list of names, got %s", opt, sl_bind_value_text(L, idx));
   if (len > sl_graph_nnodes(g) * 4 + 16)
     opt_error(L, fname, "%s = holds more names than the graph could", opt);
   int32_t *v = lua_newuserdatauv(L, (len ? len : 1) * sizeof *v, 0);
   for (size_t i = 0; i < len; i++) {
     if (t == LUA_TTABLE) lua_geti(L, idx, (lua_Integer)i + 1); else lua_pushvalue(L, idx);
     if (lua_type(L, -1) != LUA_TSTRING)
-      opt_error(L, fname, "%s = item %d is %s, not a node name", opt, (int)i + 1, value_text(L, -1));
+      opt_error(L, fname, "%s = item %d is %s, not a node name", opt, (int)i + 1, sl_bind_value_text(L, -1));
     size_t nl;
     const char *name = lua_tolstring(L, -1, &nl);
     sl_error e;
@@ -143,44 +129,6 @@ static unsigned char *scratch(lua_State *L, const sl_graph *g) {
   return m;
 }
 
-/* Push a trail table: nodes, text, kind, and (given marks) its status. */
-static void push_trail(lua_State *L, const sl_graph *g, const sl_trail *t,
-                       sl_mark z, sl_mark an_z) {
-  lua_createtable(L, 0, 6);
-  sl_bind_newlist(L, (int)t->len + 1);
-  for (size_t i = 0; i <= t->len; i++) {
-    lua_pushstring(L, sl_graph_name(g, t->nodes[i]));
-    lua_rawseti(L, -2, (lua_Integer)i + 1);
-  }
-  lua_setfield(L, -2, "nodes");
-  sl_buf b;
-  sl_buf_init(&b);
-  for (size_t i = 0; i <= t->len; i++) {
-    if (i) {
-      static const char *const arrows[] = {" -> ", " <- ", " <-> "};
-      sl_buf_adds(&b, arrows[t->steps[i - 1]]);
-    }
-    sl_name_write(sl_graph_name(g, t->nodes[i]), &b);
-  }
-  lua_pushlstring(L, b.data ? b.data : "", b.len);
-  sl_buf_free(&b);
-  lua_setfield(L, -2, "text");
-  lua_pushstring(L, kind_names[sl_trail_kind(t)]);
-  lua_setfield(L, -2, "kind");
-  size_t at;
-  int why;
-  int open = sl_trail_open(t, z, an_z, &at, &why);
-  lua_pushboolean(L, open);
-  lua_setfield(L, -2, "open");
-  if (!open) {
-    lua_pushstring(L, sl_graph_name(g, t->nodes[at]));
-    lua_setfield(L, -2, "blocked_at");
-    lua_pushstring(L, why == SL_BLOCK_COLLIDER ? "collider" : "conditioned");
-    lua_setfield(L, -2, "why");
-  }
-  luaL_setmetatable(L, "sluice.trail");
-}
-
 /* Z and its ancestors as marks (a userdata pushed on the stack). */
 static unsigned char *ancestors_of(lua_State *L, const sl_graph *g, const unsigned char *z,
                                    const int32_t *ids, size_t n) {
@@ -202,7 +150,7 @@ typedef struct trail_ctx {
 static int collect(void *ctx, const sl_trail *t) {
   trail_ctx *c = ctx;
   if (c->count >= c->limit) { c->truncated = 1; return 1; }
-  push_trail(c->L, c->g, t, c->z, c->an_z);
+  sl_bind_push_trail(c->L, c->g, t, c->z, c->an_z);
   lua_rawseti(c->L, -2, ++c->count);
   return 0;
 }
@@ -300,57 +248,11 @@ static int l_separated(lua_State *L) {
   int sep = 1, rc = sl_separated(w, x, nx, y, ny, zi, nz, &sep, &wit, &e);
   if (rc == SL_OK) {
     lua_pushboolean(L, sep);
-    if (!sep) push_trail(L, g, &wit, z, an);
+    if (!sep) sl_bind_push_trail(L, g, &wit, z, an);
   }
   sl_sep_free(w);
   if (rc) return raise_plain(L, &e);
   return sep ? 1 : 2;
-}
-
-/* Push the reasons as a list of tables. */
-static void push_reasons(lua_State *L, const sl_graph *g, const sl_reasons *rs,
-                         sl_mark z, sl_mark an_z) {
-  static const char *const kinds[] = {"", "hidden", "treatment", "outcome", "mediator",
-                                      "descendant", "descendant of treatment", "open",
-                                      "no causal path", "bidirected"};
-  lua_createtable(L, (int)rs->n, 0);
-  for (size_t i = 0; i < rs->n; i++) {
-    const sl_reason *r = &rs->r[i];
-    lua_createtable(L, 0, 4);
-    lua_pushstring(L, kinds[r->kind]);
-    lua_setfield(L, -2, "kind");
-    if (r->node >= 0) { lua_pushstring(L, sl_graph_name(g, r->node)); lua_setfield(L, -2, "node"); }
-    if (r->via >= 0) { lua_pushstring(L, sl_graph_name(g, r->via)); lua_setfield(L, -2, "via"); }
-    if (r->npath) {
-      sl_trail t = {r->path, r->steps, r->npath - 1};
-      push_trail(L, g, &t, z, an_z);
-      lua_setfield(L, -2, "trail");
-    }
-    luaL_setmetatable(L, "sluice.reason");
-    lua_rawseti(L, -2, (lua_Integer)i + 1);
-  }
-  luaL_setmetatable(L, "sluice.reasons");
-}
-
-/* hooks.explain(g, set, reasons) words each reason (adds .text). */
-static void explain(lua_State *L, int gidx, int setidx, int ridx) {
-  lua_getfield(L, LUA_REGISTRYINDEX, SL_HOOKS);
-  if (lua_getfield(L, -1, "explain") == LUA_TFUNCTION) {
-    lua_pushvalue(L, gidx);
-    lua_pushvalue(L, setidx);
-    lua_pushvalue(L, ridx);
-    lua_call(L, 3, 0);
-  } else lua_pop(L, 1);
-  lua_pop(L, 1);
-}
-
-/* Push a set of ids as a list of names. */
-static void push_set(lua_State *L, const sl_graph *g, const int32_t *s, size_t n) {
-  sl_bind_newlist(L, (int)n);
-  for (size_t i = 0; i < n; i++) {
-    lua_pushstring(L, sl_graph_name(g, s[i]));
-    lua_rawseti(L, -2, (lua_Integer)i + 1);
-  }
 }
 
 /* An sl_effect owned by a userdata, so that an error frees it. */
@@ -374,23 +276,6 @@ static sl_effect *push_effect(lua_State *L, const sl_graph *g, const int32_t *x,
   return q;
 }
 
-/* Reasons owned by a userdata, likewise. */
-static int reasons_gc(lua_State *L) {
-  sl_reasons_free(lua_touserdata(L, 1));
-  return 0;
-}
-
-static sl_reasons *push_reason_box(lua_State *L) {
-  sl_reasons *rs = lua_newuserdatauv(L, sizeof *rs, 0);
-  memset(rs, 0, sizeof *rs);
-  if (luaL_newmetatable(L, "sluice.reasonbox")) {
-    lua_pushcfunction(L, reasons_gc);
-    lua_setfield(L, -2, "__gc");
-  }
-  lua_setmetatable(L, -2);
-  return rs;
-}
-
 typedef int (*criterion)(const sl_effect *, const int32_t *, size_t, int *,
                          sl_reasons *, size_t, sl_error *);
 
@@ -405,19 +290,19 @@ static int check_set(lua_State *L, criterion fn) {
   check_xy(L, g, &x, &nx, &y, &ny);
   unsigned char *an = ancestors_of(L, g, z, zi, nz);
   sl_effect *q = push_effect(L, g, x, nx, y, ny);
-  sl_reasons *rs = push_reason_box(L);
+  sl_reasons *rs = sl_bind_push_reason_box(L);
   sl_error e;
   int ok = 0;
   if (fn(q, zi, nz, &ok, rs, 5, &e)) return raise_plain(L, &e);
   lua_pushboolean(L, ok);
   if (ok) return 1;
-  push_reasons(L, g, rs, z, an);
+  sl_bind_push_reasons(L, g, rs, z, an, NULL, NULL);
   int r = lua_gettop(L);
   if (lua_isnil(L, setidx)) {
     lua_newtable(L);
-    explain(L, 1, r + 1, r);
+    sl_bind_explain(L, 1, r + 1, r);
     lua_pop(L, 1);
-  } else explain(L, 1, setidx, r);
+  } else sl_bind_explain(L, 1, setidx, r);
   return 2;
 }
 static int l_admissible(lua_State *L) { return check_set(L, sl_admissible); }
@@ -428,7 +313,7 @@ typedef struct set_ctx { lua_State *L; const sl_graph *g; lua_Integer count, lim
 static int on_set(void *ctx, const int32_t *set, size_t n) {
   set_ctx *c = ctx;
   if (c->count >= c->limit) { c->truncated = 1; return 1; }
-  push_set(c->L, c->g, set, n);
+  sl_bind_push_set(c->L, c->g, set, n);
   lua_rawseti(c->L, -2, ++c->count);
   return 0;
 }
@@ -455,7 +340,7 @@ static int l_adjust(lua_State *L) {
   unsigned char *require = marks_at(L, g, 9, &ri, &nr, "adjust", "require");
   check_xy(L, g, &x, &nx, &y, &ny);
   sl_effect *q = push_effect(L, g, x, nx, y, ny);
-  sl_reasons *why = push_reason_box(L);
+  sl_reasons *why = sl_bind_push_reason_box(L);
   sl_error e;
   int none = 0;
   sl_bind_newlist(L, 0);
@@ -467,11 +352,11 @@ static int l_adjust(lua_State *L) {
   if (rc && !c.truncated) return raise_plain(L, &e);
   if (none) {
     unsigned char *empty = scratch(L, g);
-    push_reasons(L, g, why, empty, empty);
+    sl_bind_push_reasons(L, g, why, empty, empty, NULL, NULL);
     lua_newtable(L);                  /* marks the wording "no set can block" */
     lua_pushboolean(L, 1);
     lua_setfield(L, -2, "none_context");
-    explain(L, 1, lua_gettop(L), lua_gettop(L) - 1);
+    sl_bind_explain(L, 1, lua_gettop(L), lua_gettop(L) - 1);
     lua_pop(L, 1);
     lua_setfield(L, list, "none");
     lua_pop(L, 1);
@@ -507,19 +392,18 @@ static int32_t **push_ids_box(lua_State *L) {
 ** (a trade-off carries its rival set); the others go through
 ** push_reasons one at a time, so the order of rs is kept. */
 static int l_optimal(lua_State *L) {
-  static const char *const own[] = {"no valid set", "not joint", "trade-off"};
   sl_graph *g = sl_bind_checkgraph(L, 1);
   int32_t *x, *y;
   size_t nx, ny, no = 0;
   lua_settop(L, 3);
   check_xy(L, g, &x, &nx, &y, &ny);
   sl_effect *q = push_effect(L, g, x, nx, y, ny);
-  sl_reasons *rs = push_reason_box(L);
+  sl_reasons *rs = sl_bind_push_reason_box(L);
   int32_t **o = push_ids_box(L);
   sl_error e;
   int ok = 0;
   if (sl_optimal(q, o, &no, &ok, rs, &e)) return raise_plain(L, &e);
-  if (ok) { push_set(L, g, *o, no); return 1; }
+  if (ok) { sl_bind_push_set(L, g, *o, no); return 1; }
   unsigned char *z = scratch(L, g);
   for (size_t i = 0; i < no; i++) z[(*o)[i]] = 1;
   unsigned char *an = ancestors_of(L, g, z, *o, no);
@@ -531,14 +415,14 @@ static int l_optimal(lua_State *L) {
     const sl_reason *r = &rs->r[i];
     if (r->kind < SL_WHY_NO_VALID_SET) {
       sl_reasons one = {(sl_reason *)r, 1, 1};
-      push_reasons(L, g, &one, z, an);
+      sl_bind_push_reasons(L, g, &one, z, an, NULL, NULL);
       lua_rawgeti(L, -1, 1);
       lua_remove(L, -2);
     } else if (r->kind == SL_WHY_RIVAL) {
       continue;   /* read with its trade-off */
     } else {
       lua_createtable(L, 0, 5);
-      lua_pushstring(L, own[r->kind - SL_WHY_NO_VALID_SET]);
+      lua_pushstring(L, sl_bind_reason_kind(r->kind));
       lua_setfield(L, -2, "kind");
       if (r->node >= 0) { lua_pushstring(L, sl_graph_name(g, r->node)); lua_setfield(L, -2, "node"); }
       if (r->via >= 0) { lua_pushstring(L, sl_graph_name(g, r->via)); lua_setfield(L, -2, "via"); }
@@ -548,10 +432,10 @@ static int l_optimal(lua_State *L) {
         for (size_t j = 0; j < rv->npath; j++) rz[rv->path[j]] = 1;
         unsigned char *ran = ancestors_of(L, g, rz, rv->path, rv->npath);
         sl_trail t = {r->path, r->steps, r->npath - 1};
-        push_trail(L, g, &t, rz, ran);
+        sl_bind_push_trail(L, g, &t, rz, ran);
         lua_setfield(L, -4, "trail");
         lua_pop(L, 2);
-        push_set(L, g, rv->path, rv->npath);
+        sl_bind_push_set(L, g, rv->path, rv->npath);
         lua_setfield(L, -2, "rival");
       }
       luaL_setmetatable(L, "sluice.reason");
@@ -559,8 +443,8 @@ static int l_optimal(lua_State *L) {
     lua_rawseti(L, list, ++k);
   }
   luaL_setmetatable(L, "sluice.reasons");
-  push_set(L, g, *o, no);
-  explain(L, 1, at + 2, at + 1);
+  sl_bind_push_set(L, g, *o, no);
+  sl_bind_explain(L, 1, at + 2, at + 1);
   lua_pop(L, 1);
   return 2;
 }
@@ -573,13 +457,13 @@ static int l_cheapest(lua_State *L) {
   lua_settop(L, 4);
   if (!lua_isnil(L, 4)) {
     if (!lua_istable(L, 4))
-      opt_error(L, "cheapest", "costs must be a table of node name = cost, got %s", value_text(L, 4));
+      opt_error(L, "cheapest", "costs must be a table of node name = cost, got %s", sl_bind_value_text(L, 4));
     cost = lua_newuserdatauv(L, (nn ? nn : 1) * sizeof *cost, 0);
     for (size_t v = 0; v < nn; v++) cost[v] = 1;
     lua_pushnil(L);
     while (lua_next(L, 4)) {
       if (lua_type(L, -2) != LUA_TSTRING)
-        opt_error(L, "cheapest", "costs are keyed by node name, not by %s", value_text(L, -2));
+        opt_error(L, "cheapest", "costs are keyed by node name, not by %s", sl_bind_value_text(L, -2));
       size_t len;
       const char *nm = lua_tolstring(L, -2, &len);
       sl_error e;
@@ -588,7 +472,7 @@ static int l_cheapest(lua_State *L) {
       lua_Number c = lua_tonumber(L, -1);
       if (lua_type(L, -1) != LUA_TNUMBER || !(c >= 0) || c > 1e15)
         opt_error(L, "cheapest", "the cost of '%s' = %s must be a number from 0 to 1e15",
-                  nm, value_text(L, -1));
+                  nm, sl_bind_value_text(L, -1));
       cost[v] = c;
       lua_pop(L, 1);
     }
@@ -607,7 +491,7 @@ static int l_cheapest(lua_State *L) {
     lua_pushliteral(L, "no valid adjustment set exists (g:adjust shows the open trail)");
     return 2;
   }
-  push_set(L, g, *s, ns);
+  sl_bind_push_set(L, g, *s, ns);
   lua_pushnumber(L, total);
   return 2;
 }

@@ -92,121 +92,6 @@ static unsigned char *push_marks(lua_State *L, const sl_graph *g, const int32_t 
   return m;
 }
 
-/* Push a set of ids as a list of names. */
-static void push_set(lua_State *L, const sl_graph *g, const int32_t *s, size_t n) {
-  sl_bind_newlist(L, (int)n);
-  for (size_t i = 0; i < n; i++) {
-    lua_pushstring(L, sl_graph_name(g, s[i]));
-    lua_rawseti(L, -2, (lua_Integer)i + 1);
-  }
-}
-
-/* Push a trail table as g:trails gives it: nodes, text, kind, open status. */
-static void push_trail(lua_State *L, const sl_graph *g, const sl_trail *t,
-                       sl_mark z, sl_mark an_z) {
-  static const char *const kinds[] = {"causal", "backdoor", "noncausal"};
-  static const char *const arrows[] = {" -> ", " <- ", " <-> "};
-  lua_createtable(L, 0, 6);
-  sl_bind_newlist(L, (int)t->len + 1);
-  sl_buf b;
-  sl_buf_init(&b);
-  for (size_t i = 0; i <= t->len; i++) {
-    lua_pushstring(L, sl_graph_name(g, t->nodes[i]));
-    lua_rawseti(L, -2, (lua_Integer)i + 1);
-    if (i) sl_buf_adds(&b, arrows[t->steps[i - 1]]);
-    sl_name_write(sl_graph_name(g, t->nodes[i]), &b);
-  }
-  lua_setfield(L, -2, "nodes");
-  lua_pushlstring(L, b.data ? b.data : "", b.len);
-  sl_buf_free(&b);
-  lua_setfield(L, -2, "text");
-  lua_pushstring(L, kinds[sl_trail_kind(t)]);
-  lua_setfield(L, -2, "kind");
-  size_t at;
-  int why;
-  int open = sl_trail_open(t, z, an_z, &at, &why);
-  lua_pushboolean(L, open);
-  lua_setfield(L, -2, "open");
-  if (!open) {
-    lua_pushstring(L, sl_graph_name(g, t->nodes[at]));
-    lua_setfield(L, -2, "blocked_at");
-    lua_pushstring(L, why == SL_BLOCK_COLLIDER ? "collider" : "conditioned");
-    lua_setfield(L, -2, "why");
-  }
-  luaL_setmetatable(L, "sluice.trail");
-}
-
-/* The public name of a reason kind. */
-static const char *kind_name(int kind) {
-  switch (kind) {
-    case SL_WHY_HIDDEN: return "hidden";
-    case SL_WHY_TREATMENT: return "treatment";
-    case SL_WHY_OUTCOME: return "outcome";
-    case SL_WHY_FD_MISSED: return "missed path";
-    case SL_WHY_FD_FROM_X: return "back-door from treatment";
-    case SL_WHY_FD_TO_Y: return "back-door to outcome";
-    case SL_WHY_FD_NONE: return "no front-door set";
-    case SL_WHY_IV_IRRELEVANT: return "not relevant";
-    case SL_WHY_IV_OPEN: return "open to outcome";
-    case SL_WHY_IV_FORBIDDEN: return "forbidden";
-    default: return "other";
-  }
-}
-
-/* Push the reasons as a list of tables; each trail's status is given the
-** conditioning marks z (NULL: none), or x's marks (xz, an_xz) for the
-** front-door trails to y, which condition (iii) judges given x. */
-static void push_reasons(lua_State *L, const sl_graph *g, const sl_reasons *rs,
-                         sl_mark z, sl_mark an_z, sl_mark xz, sl_mark an_xz) {
-  lua_createtable(L, (int)rs->n, 0);
-  for (size_t i = 0; i < rs->n; i++) {
-    const sl_reason *r = &rs->r[i];
-    lua_createtable(L, 0, 4);
-    lua_pushstring(L, kind_name(r->kind));
-    lua_setfield(L, -2, "kind");
-    if (r->node >= 0) { lua_pushstring(L, sl_graph_name(g, r->node)); lua_setfield(L, -2, "node"); }
-    if (r->via >= 0) { lua_pushstring(L, sl_graph_name(g, r->via)); lua_setfield(L, -2, "via"); }
-    if (r->npath) {
-      sl_trail t = {r->path, r->steps, r->npath - 1};
-      if (r->kind == SL_WHY_FD_TO_Y) push_trail(L, g, &t, xz, an_xz);
-      else push_trail(L, g, &t, z, an_z);
-      lua_setfield(L, -2, "trail");
-    }
-    luaL_setmetatable(L, "sluice.reason");
-    lua_rawseti(L, -2, (lua_Integer)i + 1);
-  }
-  luaL_setmetatable(L, "sluice.reasons");
-}
-
-/* hooks.explain(g, set, reasons) words each reason (adds .text). */
-static void explain(lua_State *L, int gidx, int setidx, int ridx) {
-  lua_getfield(L, LUA_REGISTRYINDEX, SL_HOOKS);
-  if (lua_getfield(L, -1, "explain") == LUA_TFUNCTION) {
-    lua_pushvalue(L, gidx);
-    lua_pushvalue(L, setidx);
-    lua_pushvalue(L, ridx);
-    lua_call(L, 3, 0);
-  } else lua_pop(L, 1);
-  lua_pop(L, 1);
-}
-
-/* Reasons owned by a userdata, so that an error frees them. */
-static int reasons_gc(lua_State *L) {
-  sl_reasons_free(lua_touserdata(L, 1));
-  return 0;
-}
-
-static sl_reasons *push_reason_box(lua_State *L) {
-  sl_reasons *rs = lua_newuserdatauv(L, sizeof *rs, 0);
-  memset(rs, 0, sizeof *rs);
-  if (luaL_newmetatable(L, "sluice.fdreasonbox")) {
-    lua_pushcfunction(L, reasons_gc);
-    lua_setfield(L, -2, "__gc");
-  }
-  lua_setmetatable(L, -2);
-  return rs;
-}
-
 /* A set as text: {a, b} with names written as the notation writes them. */
 static void add_set_text(lua_State *L, luaL_Buffer *b, int idx) {
   luaL_addchar(b, '{');
@@ -304,7 +189,7 @@ typedef struct list_ctx { lua_State *L; const sl_graph *g; lua_Integer count, li
 static int on_set(void *ctx, const int32_t *set, size_t n) {
   list_ctx *c = ctx;
   if (c->count >= c->limit) { c->truncated = 1; return 1; }
-  push_set(c->L, c->g, set, n);
+  sl_bind_push_set(c->L, c->g, set, n);
   lua_rawseti(c->L, -2, ++c->count);
   return 0;
 }
@@ -319,7 +204,7 @@ static const char *sort_sets =
 /* g:frontdoor(x, y): every minimal front-door set. */
 static int list_frontdoor(lua_State *L, const sl_graph *g, int32_t x, int32_t y,
                           lua_Integer limit) {
-  sl_reasons *why = push_reason_box(L);
+  sl_reasons *why = sl_bind_push_reason_box(L);
   sl_bind_newlist(L, 0);
   int list = lua_gettop(L);
   list_ctx c = {L, g, 0, limit, 0};
@@ -329,9 +214,9 @@ static int list_frontdoor(lua_State *L, const sl_graph *g, int32_t x, int32_t y,
   int rc = sl_frontdoor_each(g, x, y, on_set, &c, &none, why, &sl_bind_stop, &e);
   if (rc && !c.truncated) return raise_in(L, "frontdoor", &e);
   if (none) {
-    push_reasons(L, g, why, NULL, NULL, NULL, NULL);
+    sl_bind_push_reasons(L, g, why, NULL, NULL, NULL, NULL);
     lua_newtable(L);
-    explain(L, 1, lua_gettop(L), lua_gettop(L) - 1);
+    sl_bind_explain(L, 1, lua_gettop(L), lua_gettop(L) - 1);
     lua_pop(L, 1);
     lua_setfield(L, list, "none");
   }
@@ -347,7 +232,7 @@ static int list_frontdoor(lua_State *L, const sl_graph *g, int32_t x, int32_t y,
 static int check_frontdoor(lua_State *L, const sl_graph *g, int32_t x, int32_t y) {
   size_t nz;
   int32_t *z = sl_bind_checkset(L, g, 4, &nz, 0);
-  sl_reasons *rs = push_reason_box(L);
+  sl_reasons *rs = sl_bind_push_reason_box(L);
   sl_error e;
   int ok = 0;
   if (sl_frontdoor_check(g, x, y, z, nz, &ok, rs, FD_MAX_PATHS, &e))
@@ -358,9 +243,9 @@ static int check_frontdoor(lua_State *L, const sl_graph *g, int32_t x, int32_t y
   if (sl_graph_ancestors(g, &x, 1, anx, &e)) return raise_in(L, "frontdoor", &e);
   anx[x] = 1;
   lua_pushboolean(L, 0);
-  push_reasons(L, g, rs, NULL, NULL, xm, anx);
+  sl_bind_push_reasons(L, g, rs, NULL, NULL, xm, anx);
   int r = lua_gettop(L);
-  explain(L, 1, 4, r);
+  sl_bind_explain(L, 1, 4, r);
   return 2;
 }
 
@@ -387,7 +272,7 @@ static int on_instrument(void *ctx, int32_t z, const int32_t *w, size_t nw) {
   lua_createtable(c->L, 0, 2);
   lua_pushstring(c->L, sl_graph_name(c->g, z));
   lua_setfield(c->L, -2, "z");
-  push_set(c->L, c->g, w, nw);
+  sl_bind_push_set(c->L, c->g, w, nw);
   lua_setfield(c->L, -2, "given");
   lua_rawseti(c->L, -2, ++c->count);
   return 0;
@@ -422,18 +307,18 @@ static int l_instruments(lua_State *L) {
   unsigned char *an = push_marks(L, g, w, nw);
   if (sl_graph_ancestors(g, w, nw, an, &e)) return raise_in(L, "instruments", &e);
   for (size_t i = 0; i < nw; i++) an[w[i]] = 1;
-  sl_reasons *rs = push_reason_box(L);
+  sl_reasons *rs = sl_bind_push_reason_box(L);
   int ok = 0;
   if (sl_instrument_check(g, x, y, z, w, nw, &ok, rs, &e)) return raise_in(L, "instruments", &e);
   lua_pushboolean(L, ok);
   if (ok) return 1;
-  push_reasons(L, g, rs, wm, an, NULL, NULL);
+  sl_bind_push_reasons(L, g, rs, wm, an, NULL, NULL);
   int r = lua_gettop(L);
   if (lua_isnil(L, 5)) {
     lua_newtable(L);
-    explain(L, 1, r + 1, r);
+    sl_bind_explain(L, 1, r + 1, r);
     lua_pop(L, 1);
-  } else explain(L, 1, 5, r);
+  } else sl_bind_explain(L, 1, 5, r);
   return 2;
 }
 

@@ -28,19 +28,6 @@ static int sem_gc(lua_State *L) {
   return 0;
 }
 
-/* A value as the user would write it, for messages: 2.5, nan, "x", a table. */
-static const char *value_text(lua_State *L, int idx) {
-  int t = lua_type(L, idx);
-  if (t == LUA_TNUMBER) {
-    lua_Number x = lua_tonumber(L, idx);
-    if (x != x) return lua_pushliteral(L, "nan");
-    return luaL_tolstring(L, idx, NULL);
-  }
-  if (t == LUA_TSTRING) return lua_pushfstring(L, "\"%s\"", lua_tostring(L, idx));
-  if (t == LUA_TNIL || t == LUA_TNONE) return lua_pushliteral(L, "nil");
-  return lua_pushfstring(L, "a %s", luaL_typename(L, idx));
-}
-
 /* The number at idx when it is a finite number (not a string). */
 static int finite_at(lua_State *L, int idx, double *x) {
   if (lua_type(L, idx) != LUA_TNUMBER) return 0;
@@ -67,7 +54,7 @@ static void check_options(lua_State *L, int idx, const char *fname,
   if (lua_isnoneornil(L, idx)) return;
   if (!lua_istable(L, idx))
     luaL_error(L, "%s: the options are a table such as {%s = ...}, got %s", fname, known[0],
-               value_text(L, idx));
+               sl_bind_value_text(L, idx));
   lua_pushnil(L);
   while (lua_next(L, idx)) {
     lua_pop(L, 1);
@@ -86,7 +73,7 @@ static void check_options(lua_State *L, int idx, const char *fname,
     luaL_pushresult(&b);
     const char *names = lua_tostring(L, -1);
     luaL_error(L, "%s: unknown option %s (options: %s)", fname,
-               k ? lua_pushfstring(L, "'%s'", k) : value_text(L, -2), names);
+               k ? lua_pushfstring(L, "'%s'", k) : sl_bind_value_text(L, -2), names);
   }
 }
 
@@ -131,19 +118,19 @@ static void node_numbers(lua_State *L, const sl_graph *g, int opts, const char *
   if (lua_getfield(L, opts, field) == LUA_TNIL) { lua_pop(L, 1); return; }
   if (!lua_istable(L, -1))
     luaL_error(L, "%s: %s = must be a table of node = number, got %s", fname, field,
-               value_text(L, -1));
+               sl_bind_value_text(L, -1));
   lua_pushnil(L);
   while (lua_next(L, -2)) {
     if (lua_type(L, -2) != LUA_TSTRING)
-      luaL_error(L, "%s: %s = is keyed by node names, not by %s", fname, field, value_text(L, -2));
+      luaL_error(L, "%s: %s = is keyed by node names, not by %s", fname, field, sl_bind_value_text(L, -2));
     int32_t v = node(L, g, lua_tostring(L, -2), field);
     double x = 0;
     if (!finite_at(L, -1, &x))
       luaL_error(L, "%s: %s of '%s' = %s must be a finite number", fname, field,
-                 sl_graph_name(g, v), value_text(L, -1));
+                 sl_graph_name(g, v), sl_bind_value_text(L, -1));
     if (positive && !(x > 0))
       luaL_error(L, "%s: the %s of '%s' must be positive, got %s", fname, field,
-                 sl_graph_name(g, v), value_text(L, -1));
+                 sl_graph_name(g, v), sl_bind_value_text(L, -1));
     out[v] = x;
     lua_pop(L, 1);
   }
@@ -171,7 +158,7 @@ static void build(lua_State *L, sem_box *box) {
   double defval = 0;
   if (def && !finite_at(L, -1, &defval))
     luaL_error(L, "sem: default = %s must be a finite number (the coefficient of each edge "
-               "not listed)", value_text(L, -1));
+               "not listed)", sl_bind_value_text(L, -1));
   if (!lua_isnoneornil(L, 3)) lua_pop(L, 1);
   lua_pushnil(L);
   while (lua_next(L, 2)) {
@@ -182,7 +169,7 @@ static void build(lua_State *L, sem_box *box) {
     const char *key = lua_tostring(L, -2);
     if (!finite_at(L, -1, &c))
       luaL_error(L, "sem: the coefficient of %s = %s must be a finite number", key,
-                 value_text(L, -1));
+                 sl_bind_value_text(L, -1));
     B[(size_t)t * n + (size_t)f] = c;
     have[(size_t)t * n + (size_t)f] = 1;
     lua_pop(L, 1);
@@ -220,7 +207,7 @@ static void build(lua_State *L, sem_box *box) {
       const char *key = lua_tostring(L, -2);
       if (!finite_at(L, -1, &c))
         luaL_error(L, "sem: the covariance of %s = %s must be a finite number", key,
-                   value_text(L, -1));
+                   sl_bind_value_text(L, -1));
       om[(size_t)f * n + (size_t)t] = om[(size_t)t * n + (size_t)f] = c;
       have[(size_t)f * n + (size_t)t] = have[(size_t)t * n + (size_t)f] = 2;
       lua_pop(L, 1);
@@ -243,7 +230,7 @@ static void build(lua_State *L, sem_box *box) {
     int bt = lua_gettop(L);
     if (lua_type(L, bt) == LUA_TSTRING) logi[node(L, g, lua_tostring(L, bt), "binary")] = 1;
     else if (!lua_istable(L, bt))
-      luaL_error(L, "sem: binary = must be a node name or a list of names, got %s", value_text(L, bt));
+      luaL_error(L, "sem: binary = must be a node name or a list of names, got %s", sl_bind_value_text(L, bt));
     else {
       lua_pushnil(L);
       while (lua_next(L, bt)) {   /* {"a", "b"} or {a = true} */
@@ -307,14 +294,14 @@ static size_t mc_opts(lua_State *L, int idx, uint64_t *seed, const char *fname) 
   lua_Integer v = 0;
   if (lua_getfield(L, idx, "seed") != LUA_TNIL) {
     if (!whole_at(L, -1, LUA_MININTEGER, LUA_MAXINTEGER, &v))
-      luaL_error(L, "%s: seed = %s must be a whole number", fname, value_text(L, -1));
+      luaL_error(L, "%s: seed = %s must be a whole number", fname, sl_bind_value_text(L, -1));
     *seed = (uint64_t)v;
   }
   lua_pop(L, 1);
   v = 0;
   if (lua_getfield(L, idx, "draws") != LUA_TNIL && !whole_at(L, -1, 2, MC_DRAWS_MAX, &v))
     luaL_error(L, "%s: draws = %s must be a whole number from 2 to %d", fname,
-               value_text(L, -1), MC_DRAWS_MAX);
+               sl_bind_value_text(L, -1), MC_DRAWS_MAX);
   lua_pop(L, 1);
   return (size_t)v;
 }
@@ -415,20 +402,20 @@ static int l_simulate(lua_State *L) {
   lua_Integer rows = 0, v = 0;
   if (!whole_at(L, 2, 1, SIM_ROWS_MAX, &rows))
     luaL_error(L, "simulate: n = %s must be a whole number of at least 1 (at most 10^9)",
-               value_text(L, 2));
+               sl_bind_value_text(L, 2));
   uint64_t seed = 1;
   int threads = 0;
   check_options(L, 3, "simulate", known, 3);
   if (!lua_isnil(L, 3)) {
     if (lua_getfield(L, 3, "seed") != LUA_TNIL) {
       if (!whole_at(L, -1, LUA_MININTEGER, LUA_MAXINTEGER, &v))
-        luaL_error(L, "simulate: seed = %s must be a whole number", value_text(L, -1));
+        luaL_error(L, "simulate: seed = %s must be a whole number", sl_bind_value_text(L, -1));
       seed = (uint64_t)v;
     }
     if (lua_getfield(L, 3, "threads") != LUA_TNIL) {
       if (!whole_at(L, -1, 0, SIM_THREADS_MAX, &v))
         luaL_error(L, "simulate: threads = %s must be a whole number from 0 (all cores) to %d",
-                   value_text(L, -1), SIM_THREADS_MAX);
+                   sl_bind_value_text(L, -1), SIM_THREADS_MAX);
       threads = (int)v;
     }
     lua_pop(L, 2);
@@ -436,7 +423,7 @@ static int l_simulate(lua_State *L) {
       /* binarizing: the model now describes the binarized data; every
       ** value is checked before the model changes */
       if (!lua_istable(L, -1))
-        luaL_error(L, "simulate: binarize = must be a table of node = cut, got %s", value_text(L, -1));
+        luaL_error(L, "simulate: binarize = must be a table of node = cut, got %s", sl_bind_value_text(L, -1));
       lua_getiuservalue(L, 1, 1);
       sl_graph *g = sl_bind_checkgraph(L, -1);
       lua_pop(L, 1);
@@ -445,7 +432,7 @@ static int l_simulate(lua_State *L) {
       lua_pushnil(L);
       while (lua_next(L, -3)) {
         if (lua_type(L, -2) != LUA_TSTRING)
-          luaL_error(L, "simulate: binarize = is keyed by node names, not by %s", value_text(L, -2));
+          luaL_error(L, "simulate: binarize = is keyed by node names, not by %s", sl_bind_value_text(L, -2));
         const char *nm = lua_tostring(L, -2);
         sl_error e;
         int32_t id = sl_graph_lookup(g, nm, strlen(nm), &e);
@@ -453,7 +440,7 @@ static int l_simulate(lua_State *L) {
         double x = 0;
         if (!finite_at(L, -1, &x))
           luaL_error(L, "simulate: binarize: the cut of '%s' = %s must be a finite number", nm,
-                     value_text(L, -1));
+                     sl_bind_value_text(L, -1));
         cut[id] = x;
         lua_pop(L, 1);
       }

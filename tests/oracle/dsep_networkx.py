@@ -21,9 +21,10 @@ non-zero on any failure, with the first few mismatches shown.
 """
 import os
 import random
-import subprocess
 import sys
-import tempfile
+
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "lib"))
+from oracle import lua_list, run_queries, sluice_path  # noqa: E402
 
 try:
     import networkx as nx
@@ -121,9 +122,6 @@ def random_query(rng, g):
     return x, y, z
 
 
-def lua_list(names):
-    return "{" + ",".join('"%s"' % s for s in names) + "}"
-
 
 LUA_HEAD = r"""
 local function run(id, g, x, y, z)
@@ -185,8 +183,7 @@ def check_witness(g, x, y, z, nodes, open_flag, text):
 
 
 def main():
-    build = os.environ.get("B", "build")
-    sluice = os.path.join(build, "sluice")
+    sluice = sluice_path()
     if not os.access(sluice, os.X_OK):
         print("no executable %s (run make first)" % sluice)
         return 1
@@ -204,20 +201,9 @@ def main():
             lines.append("run(%d, g, %s, %s, %s)" % (qid, lua_list(x), lua_list(y),
                                                    lua_list(z)))
         lines.append("end")
-    with tempfile.TemporaryDirectory() as tmp:
-        path = os.path.join(tmp, "dsep_queries.lua")
-        with open(path, "w") as f:
-            f.write("\n".join(lines) + "\n")
-        proc = subprocess.run([sluice, path], capture_output=True, text=True,
-                              timeout=TIMEOUT)
-    if proc.returncode != 0:
-        print("sluice exited with %d:\n%s" % (proc.returncode, proc.stderr[-2000:]))
+    answers = run_queries(sluice, "dsep_queries", lines, TIMEOUT)
+    if answers is None:
         return 1
-    answers = {}
-    for line in proc.stdout.splitlines():
-        head, _, rest = line.partition(" ")
-        if head.isdigit():
-            answers[int(head)] = rest
     passed, failed, shown = 0, 0, []
     n_sep = 0
     for qid, (gid, x, y, z) in enumerate(queries):

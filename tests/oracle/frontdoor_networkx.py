@@ -32,9 +32,10 @@ Run with env B=<build dir>.  Prints "N passed, M failed".
 import itertools
 import os
 import random
-import subprocess
 import sys
-import tempfile
+
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "lib"))
+from oracle import lua_list, run_queries, sluice_path  # noqa: E402
 
 try:
     import networkx as nx
@@ -134,9 +135,6 @@ def is_instrument(D, C, x, y, z, W, cn, forb):
     return dsep(Cc, {z}, {y}, W)
 
 
-def lua_list(names):
-    return "{" + ",".join('"%s"' % s for s in names) + "}"
-
 
 LUA_HEAD = r"""
 local function sets(id, g, x, y)
@@ -179,8 +177,7 @@ def parse_sets(s):
 
 
 def main():
-    build = os.environ.get("B", "build")
-    sluice = os.path.join(build, "sluice")
+    sluice = sluice_path()
     if not os.access(sluice, os.X_OK):
         print("no executable %s (run make first)" % sluice)
         return 1
@@ -234,20 +231,9 @@ def main():
             expect.append((qid, "I", (x, y, truth, anc_truth, text(D, bi, hidden))))
             lines.append('ivs(%d, g, "%s", "%s")' % (qid, x, y))
         lines.append("end")
-    with tempfile.TemporaryDirectory() as tmp:
-        path = os.path.join(tmp, "frontdoor_queries.lua")
-        with open(path, "w") as f:
-            f.write("\n".join(lines) + "\n")
-        proc = subprocess.run([sluice, path], capture_output=True, text=True,
-                              timeout=TIMEOUT)
-    if proc.returncode != 0:
-        print("sluice exited with %d:\n%s" % (proc.returncode, proc.stderr[-2000:]))
+    answers = run_queries(sluice, "frontdoor_queries", lines, TIMEOUT)
+    if answers is None:
         return 1
-    answers = {}
-    for line in proc.stdout.splitlines():
-        head, _, rest = line.partition(" ")
-        if head.isdigit():
-            answers[int(head)] = rest
     passed = failed = 0
     shown = []
     counts = {"S": 0, "S+": 0, "C": 0, "K": 0, "I": 0, "I+": 0, "nonanc": 0}
