@@ -48,6 +48,20 @@ sl_reasons *sl_bind_push_reason_box(lua_State *L);
 /* A value as the user would write it, for messages: 2.5, nan, "x", a table. */
 const char *sl_bind_value_text(lua_State *L, int idx);
 
+/* Raise "fname: message" (printf-style) at the user's line. */
+int sl_bind_opt_error(lua_State *L, const char *fname, const char *fmt, ...);
+/* Refuse an option of the table at idx that is not in known, suggesting the
+** closest name (bind_options.c). */
+void sl_bind_check_options(lua_State *L, int idx, const char *fname,
+                           const char *const *known, size_t nknown);
+
+/* Gathering listed sets into the list on top of the stack, up to a limit. */
+typedef struct sl_bind_sets { lua_State *L; const sl_graph *g; lua_Integer count, limit;
+                              int truncated; } sl_bind_sets;
+int sl_bind_on_set(void *ctx, const int32_t *set, size_t n);   /* an sl_set_fn */
+/* Sort the list of sets at idx by size, then by names. */
+void sl_bind_sort_sets(lua_State *L, int idx);
+
 int sl_open_graph(lua_State *L);   /* registers the graph functions */
 int sl_open_adjust(lua_State *L);  /* adds trails and adjustment methods */
 int sl_open_stats(lua_State *L);   /* models, estimators, pictures (raw) */

@@ -22,48 +22,6 @@ static int opt_field(lua_State *L, int idx, const char *name) {
   return lua_getfield(L, idx, name);
 }
 
-/* Raise "fname: message" at the caller's line. */
-static int opt_error(lua_State *L, const char *fname, const char *fmt, ...) {
-  sl_error e;
-  va_list ap;
-  va_start(ap, fmt);
-  vsnprintf(e.msg, sizeof e.msg, fmt, ap);
-  va_end(ap);
-  e.code = SL_EARG;
-  e.line = e.col = 0;
-  return sl_bind_raise(L, &e, fname, NULL, 0);
-}
-
-/* The options table at idx holds only the known keys (a typo would be
-** ignored silently otherwise). */
-static void check_options(lua_State *L, int idx, const char *fname,
-                          const char *const *known, size_t nknown) {
-  if (lua_isnoneornil(L, idx)) return;
-  if (!lua_istable(L, idx))
-    opt_error(L, fname, "the options are a table such as {%s = ...}, got %s", known[0],
-              luaL_typename(L, idx));
-  lua_pushnil(L);
-  while (lua_next(L, idx)) {
-    lua_pop(L, 1);
-    const char *k = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : NULL;
-    size_t i = 0;
-    while (k && i < nknown && strcmp(k, known[i]) != 0) i++;
-    if (k && i < nknown) continue;
-    const char *near = k ? sl_closest(k, known, nknown) : NULL;
-    luaL_Buffer b;
-    luaL_buffinit(L, &b);
-    for (i = 0; i < nknown; i++) {
-      if (i) luaL_addstring(&b, ", ");
-      luaL_addstring(&b, known[i]);
-    }
-    luaL_pushresult(&b);
-    const char *names = lua_tostring(L, -1);
-    if (near) opt_error(L, fname, "unknown option '%s'; did you mean '%s'?", k, near);
-    opt_error(L, fname, "unknown option %s (options: %s)",
-              k ? lua_pushfstring(L, "'%s'", k) : sl_bind_value_text(L, -2), names);
-  }
-}
-
 /* The limit option of the options table at 4 (its value stays pushed at
 ** index 5, so later option fields keep their stack positions): a whole
 ** number of at least 1. */
@@ -78,7 +36,7 @@ static lua_Integer opt_limit(lua_State *L, const char *fname, lua_Integer def) {
     if (ok) limit = (lua_Integer)x;
   }
   if (!ok || limit < 1)
-    opt_error(L, fname, "limit = %s must be a whole number of at least 1", sl_bind_value_text(L, 5));
+    sl_bind_opt_error(L, fname, "limit = %s must be a whole number of at least 1", sl_bind_value_text(L, 5));
   return limit;
 }
 
@@ -89,19 +47,19 @@ static int32_t *opt_set(lua_State *L, const sl_graph *g, int idx, const char *fn
   int t = lua_type(L, idx);
   size_t len = t == LUA_TSTRING ? 1 : t == LUA_TTABLE ? (size_t)luaL_len(L, idx) : 0;
   if (t != LUA_TNIL && t != LUA_TSTRING && t != LUA_TTABLE)
-    opt_error(L, fname, "%s = must be a node name or a list of names, got %s", opt, sl_bind_value_text(L, idx));
+    sl_bind_opt_error(L, fname, "%s = must be a node name or a list of names, got %s", opt, sl_bind_value_text(L, idx));
   if (len > sl_graph_nnodes(g) * 4 + 16)
-    opt_error(L, fname, "%s = holds more names than the graph could", opt);
+    sl_bind_opt_error(L, fname, "%s = holds more names than the graph could", opt);
   int32_t *v = lua_newuserdatauv(L, (len ? len : 1) * sizeof *v, 0);
   for (size_t i = 0; i < len; i++) {
     if (t == LUA_TTABLE) lua_geti(L, idx, (lua_Integer)i + 1); else lua_pushvalue(L, idx);
     if (lua_type(L, -1) != LUA_TSTRING)
-      opt_error(L, fname, "%s = item %d is %s, not a node name", opt, (int)i + 1, sl_bind_value_text(L, -1));
+      sl_bind_opt_error(L, fname, "%s = item %d is %s, not a node name", opt, (int)i + 1, sl_bind_value_text(L, -1));
     size_t nl;
     const char *name = lua_tolstring(L, -1, &nl);
     sl_error e;
     v[i] = sl_graph_lookup(g, name, nl, &e);
-    if (v[i] < 0) opt_error(L, fname, "%s: %s", opt, e.msg);
+    if (v[i] < 0) sl_bind_opt_error(L, fname, "%s: %s", opt, e.msg);
     lua_pop(L, 1);
   }
   *n = len;
@@ -194,7 +152,7 @@ static int l_trails(lua_State *L) {
   size_t nx, ny, nz;
   static const char *const known[] = {"given", "limit"};
   lua_settop(L, 4);
-  check_options(L, 4, "trails", known, 2);
+  sl_bind_check_options(L, 4, "trails", known, 2);
   lua_Integer limit = opt_limit(L, "trails", TRAIL_LIMIT);
   opt_field(L, 4, "given");                         /* index 6 */
   unsigned char *z = marks_at(L, g, 6, &zi, &nz, "trails", "given");
@@ -308,29 +266,12 @@ static int check_set(lua_State *L, criterion fn) {
 static int l_admissible(lua_State *L) { return check_set(L, sl_admissible); }
 static int l_backdoor(lua_State *L) { return check_set(L, sl_backdoor); }
 
-typedef struct set_ctx { lua_State *L; const sl_graph *g; lua_Integer count, limit; int truncated; } set_ctx;
-
-static int on_set(void *ctx, const int32_t *set, size_t n) {
-  set_ctx *c = ctx;
-  if (c->count >= c->limit) { c->truncated = 1; return 1; }
-  sl_bind_push_set(c->L, c->g, set, n);
-  lua_rawseti(c->L, -2, ++c->count);
-  return 0;
-}
-
-/* Sort a list of sets by size, then names. */
-static const char *sort_sets =
-  "local sets = ...\n"
-  "table.sort(sets, function(a, b)\n"
-  "  if #a ~= #b then return #a < #b end\n"
-  "  return table.concat(a, '\\0') < table.concat(b, '\\0') end)\n";
-
 /* g:adjust(x, y, {forbid=, require=, limit=}) */
 static int l_adjust(lua_State *L) {
   sl_graph *g = sl_bind_checkgraph(L, 1);
   static const char *const known[] = {"forbid", "require", "limit"};
   lua_settop(L, 4);
-  check_options(L, 4, "adjust", known, 3);
+  sl_bind_check_options(L, 4, "adjust", known, 3);
   lua_Integer limit = opt_limit(L, "adjust", SET_LIMIT);
   int32_t *fi, *ri, *x, *y;
   size_t nf, nr, nx, ny;
@@ -345,9 +286,9 @@ static int l_adjust(lua_State *L) {
   int none = 0;
   sl_bind_newlist(L, 0);
   int list = lua_gettop(L);
-  set_ctx c = {L, g, 0, limit, 0};
+  sl_bind_sets c = {L, g, 0, limit, 0};
   sl_bind_stop = 0;
-  int rc = sl_adjust_each(q, nf ? forbid : NULL, nr ? require : NULL, on_set, &c, &none,
+  int rc = sl_adjust_each(q, nf ? forbid : NULL, nr ? require : NULL, sl_bind_on_set, &c, &none,
                           why, &sl_bind_stop, &e);
   if (rc && !c.truncated) return raise_plain(L, &e);
   if (none) {
@@ -361,9 +302,7 @@ static int l_adjust(lua_State *L) {
     lua_setfield(L, list, "none");
     lua_pop(L, 1);
   }
-  luaL_loadstring(L, sort_sets);
-  lua_pushvalue(L, list);
-  lua_call(L, 1, 0);
+  sl_bind_sort_sets(L, list);
   luaL_setmetatable(L, "sluice.sets");
   if (c.truncated) { lua_pushinteger(L, limit); lua_setfield(L, list, "truncated"); }
   return 1;
@@ -457,21 +396,21 @@ static int l_cheapest(lua_State *L) {
   lua_settop(L, 4);
   if (!lua_isnil(L, 4)) {
     if (!lua_istable(L, 4))
-      opt_error(L, "cheapest", "costs must be a table of node name = cost, got %s", sl_bind_value_text(L, 4));
+      sl_bind_opt_error(L, "cheapest", "costs must be a table of node name = cost, got %s", sl_bind_value_text(L, 4));
     cost = lua_newuserdatauv(L, (nn ? nn : 1) * sizeof *cost, 0);
     for (size_t v = 0; v < nn; v++) cost[v] = 1;
     lua_pushnil(L);
     while (lua_next(L, 4)) {
       if (lua_type(L, -2) != LUA_TSTRING)
-        opt_error(L, "cheapest", "costs are keyed by node name, not by %s", sl_bind_value_text(L, -2));
+        sl_bind_opt_error(L, "cheapest", "costs are keyed by node name, not by %s", sl_bind_value_text(L, -2));
       size_t len;
       const char *nm = lua_tolstring(L, -2, &len);
       sl_error e;
       int32_t v = sl_graph_lookup(g, nm, len, &e);
-      if (v < 0) opt_error(L, "cheapest", "costs: %s", e.msg);
+      if (v < 0) sl_bind_opt_error(L, "cheapest", "costs: %s", e.msg);
       lua_Number c = lua_tonumber(L, -1);
       if (lua_type(L, -1) != LUA_TNUMBER || !(c >= 0) || c > 1e15)
-        opt_error(L, "cheapest", "the cost of '%s' = %s must be a number from 0 to 1e15",
+        sl_bind_opt_error(L, "cheapest", "the cost of '%s' = %s must be a number from 0 to 1e15",
                   nm, sl_bind_value_text(L, -1));
       cost[v] = c;
       lua_pop(L, 1);

@@ -184,34 +184,17 @@ static int ivlist_tostring(lua_State *L) {
   return 1;
 }
 
-typedef struct list_ctx { lua_State *L; const sl_graph *g; lua_Integer count, limit; int truncated; } list_ctx;
-
-static int on_set(void *ctx, const int32_t *set, size_t n) {
-  list_ctx *c = ctx;
-  if (c->count >= c->limit) { c->truncated = 1; return 1; }
-  sl_bind_push_set(c->L, c->g, set, n);
-  lua_rawseti(c->L, -2, ++c->count);
-  return 0;
-}
-
-/* Sort a list of sets by size, then names. */
-static const char *sort_sets =
-  "local sets = ...\n"
-  "table.sort(sets, function(a, b)\n"
-  "  if #a ~= #b then return #a < #b end\n"
-  "  return table.concat(a, '\\0') < table.concat(b, '\\0') end)\n";
-
 /* g:frontdoor(x, y): every minimal front-door set. */
 static int list_frontdoor(lua_State *L, const sl_graph *g, int32_t x, int32_t y,
                           lua_Integer limit) {
   sl_reasons *why = sl_bind_push_reason_box(L);
   sl_bind_newlist(L, 0);
   int list = lua_gettop(L);
-  list_ctx c = {L, g, 0, limit, 0};
+  sl_bind_sets c = {L, g, 0, limit, 0};
   sl_error e;
   int none = 0;
   sl_bind_stop = 0;
-  int rc = sl_frontdoor_each(g, x, y, on_set, &c, &none, why, &sl_bind_stop, &e);
+  int rc = sl_frontdoor_each(g, x, y, sl_bind_on_set, &c, &none, why, &sl_bind_stop, &e);
   if (rc && !c.truncated) return raise_in(L, "frontdoor", &e);
   if (none) {
     sl_bind_push_reasons(L, g, why, NULL, NULL, NULL, NULL);
@@ -220,9 +203,7 @@ static int list_frontdoor(lua_State *L, const sl_graph *g, int32_t x, int32_t y,
     lua_pop(L, 1);
     lua_setfield(L, list, "none");
   }
-  luaL_loadstring(L, sort_sets);
-  lua_pushvalue(L, list);
-  lua_call(L, 1, 0);
+  sl_bind_sort_sets(L, list);
   luaL_setmetatable(L, FDSETS_MT);
   if (c.truncated) { lua_pushinteger(L, limit); lua_setfield(L, list, "truncated"); }
   return 1;

@@ -141,3 +141,24 @@ const char *sl_bind_value_text(lua_State *L, int idx) {
   if (t == LUA_TNIL || t == LUA_TNONE) return lua_pushliteral(L, "nil");
   return lua_pushfstring(L, "a %s", luaL_typename(L, idx));
 }
+
+int sl_bind_on_set(void *ctx, const int32_t *set, size_t n) {
+  sl_bind_sets *c = ctx;
+  if (c->count >= c->limit) { c->truncated = 1; return 1; }
+  sl_bind_push_set(c->L, c->g, set, n);
+  lua_rawseti(c->L, -2, ++c->count);
+  return 0;
+}
+
+void sl_bind_sort_sets(lua_State *L, int idx) {
+  static const char *sort =
+    "local sets = ...\n"
+    "table.sort(sets, function(a, b)\n"
+    "  if #a ~= #b then return #a < #b end\n"
+    "  return table.concat(a, '\\0') < table.concat(b, '\\0') end)\n";
+  idx = lua_absindex(L, idx);
+  if (luaL_loadstring(L, sort) != LUA_OK)
+    lua_error(L);
+  lua_pushvalue(L, idx);
+  lua_call(L, 1, 0);
+}

@@ -47,36 +47,6 @@ static int whole_at(lua_State *L, int idx, lua_Integer lo, lua_Integer hi, lua_I
   return *out >= lo && *out <= hi;
 }
 
-/* The options table at idx holds only the known keys: a typo would be
-** ignored silently otherwise. */
-static void check_options(lua_State *L, int idx, const char *fname,
-                          const char *const *known, size_t nknown) {
-  if (lua_isnoneornil(L, idx)) return;
-  if (!lua_istable(L, idx))
-    luaL_error(L, "%s: the options are a table such as {%s = ...}, got %s", fname, known[0],
-               sl_bind_value_text(L, idx));
-  lua_pushnil(L);
-  while (lua_next(L, idx)) {
-    lua_pop(L, 1);
-    const char *k = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : NULL;
-    size_t i = 0;
-    while (k && i < nknown && strcmp(k, known[i]) != 0) i++;
-    if (k && i < nknown) continue;
-    const char *near = k ? sl_closest(k, known, nknown) : NULL;
-    if (near) luaL_error(L, "%s: unknown option '%s'; did you mean '%s'?", fname, k, near);
-    luaL_Buffer b;
-    luaL_buffinit(L, &b);
-    for (i = 0; i < nknown; i++) {
-      if (i) luaL_addstring(&b, ", ");
-      luaL_addstring(&b, known[i]);
-    }
-    luaL_pushresult(&b);
-    const char *names = lua_tostring(L, -1);
-    luaL_error(L, "%s: unknown option %s (options: %s)", fname,
-               k ? lua_pushfstring(L, "'%s'", k) : sl_bind_value_text(L, -2), names);
-  }
-}
-
 /* Parse an edge key ("a -> b" or "a <-> b") against g: ids and kind. */
 static void edge_key(lua_State *L, const sl_graph *g, const char *key, int want,
                      int32_t *from, int32_t *to) {
@@ -152,7 +122,7 @@ static void build(lua_State *L, sem_box *box) {
   memset(B, 0, n * n * sizeof *B); memset(om, 0, n * n * sizeof *om); memset(have, 0, n * n);
   for (size_t i = 0; i < n; i++) { a[i] = 0; sd[i] = 1; cut[i] = NAN; }
   static const char *const known[] = {"default", "intercept", "sd", "cov", "binary", "binarize"};
-  check_options(L, 3, "sem", known, sizeof known / sizeof *known);
+  sl_bind_check_options(L, 3, "sem", known, sizeof known / sizeof *known);
   /* coefficients */
   int def = !lua_isnoneornil(L, 3) && lua_getfield(L, 3, "default") != LUA_TNIL;
   double defval = 0;
@@ -290,7 +260,7 @@ static size_t mc_opts(lua_State *L, int idx, uint64_t *seed, const char *fname) 
   static const char *const known[] = {"draws", "seed"};
   *seed = 1;
   if (lua_isnoneornil(L, idx)) return 0;
-  check_options(L, idx, fname, known, 2);
+  sl_bind_check_options(L, idx, fname, known, 2);
   lua_Integer v = 0;
   if (lua_getfield(L, idx, "seed") != LUA_TNIL) {
     if (!whole_at(L, -1, LUA_MININTEGER, LUA_MAXINTEGER, &v))
@@ -405,7 +375,7 @@ static int l_simulate(lua_State *L) {
                sl_bind_value_text(L, 2));
   uint64_t seed = 1;
   int threads = 0;
-  check_options(L, 3, "simulate", known, 3);
+  sl_bind_check_options(L, 3, "simulate", known, 3);
   if (!lua_isnil(L, 3)) {
     if (lua_getfield(L, 3, "seed") != LUA_TNIL) {
       if (!whole_at(L, -1, LUA_MININTEGER, LUA_MAXINTEGER, &v))
