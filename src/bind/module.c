@@ -71,6 +71,7 @@ int luaopen_sluice(lua_State *L) {
   sl_open_sem(L);
   sl_open_frontdoor(L);
   sl_open_identify(L);
+  sl_open_implications(L);
   sl_open_citest(L);
   lua_pushliteral(L, SLUICE_VERSION);
   lua_setfield(L, -2, "version");
