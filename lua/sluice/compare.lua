@@ -97,6 +97,79 @@ local function forest_text(rows, truth)
   return table.concat(lines, "\n")
 end
 
+-- The multipliers of the hidden node's coefficients in compare{hidden =}.
+C.hidden_factors = {0, 0.5, 1, 1.5, 2}
+
+-- The picture beside plot = "a.svg" for the hidden-node lines: a-hidden.svg.
+local function hidden_path(path)
+  local base, ext = path:match("^(.*)(%.[^./]*)$")
+  if not base then return path .. "-hidden" end
+  return base .. "-hidden" .. ext
+end
+
+-- compare{hidden = "u"}: the truth and each adjustment set's least-squares
+-- limit in copies of the model with u's coefficients scaled, for
+-- watching the bias of each set grow with the hidden confounder.
+local function hidden_grid(a, m, x, y, rows)
+  local u = a.hidden
+  if type(u) ~= "string" then
+    fail("hidden = must name a hidden node of the model's graph, got " .. E.show(u))
+  end
+  if not m then fail("hidden = needs truth = a linear model from sem() whose graph has the hidden node") end
+  if not m:exact() then
+    fail("hidden = needs a model without binary or binarized nodes (the exact limits)")
+  end
+  local g = m:graph()
+  local hidden, is = g:hidden(), false
+  for _, h in ipairs(hidden) do if h == u then is = true end end
+  if not is then
+    for _, v in ipairs(g:nodes()) do
+      if v == u then
+        fail(string.format("hidden = '%s' is observed in the graph: name a hidden node (%s)", u,
+             #hidden > 0 and table.concat(hidden, ", ") or "the graph has none"))
+      end
+    end
+    local near = E.closest(u, hidden)
+    fail(string.format("hidden = '%s' is not a node of the model's graph%s", u,
+         near and ("; did you mean '" .. near .. "'?") or
+         (#hidden == 0 and " (the graph has no hidden node)" or "")))
+  end
+  if #g:children(u) == 0 then
+    fail(string.format("hidden = '%s' has no edges out of it: scaling them changes nothing", u))
+  end
+  local sets, which = {}, {}
+  for i, r in ipairs(rows) do
+    if not r.route then sets[#sets + 1] = r.set; which[#which + 1] = i end
+  end
+  local h = {node = u, factors = C.hidden_factors, truth = {}, rows = {}}
+  for j in ipairs(sets) do
+    h.rows[j] = {set_text = rows[which[j]].set_text, valid_text = rows[which[j]].valid_text}
+  end
+  for f, factor in ipairs(C.hidden_factors) do
+    local truth, lims = E.call("compare", S._sens_sem_grid, m, u, factor, x, y, sets)
+    h.truth[f] = truth
+    for j, v in ipairs(lims) do h.rows[j][f] = v end
+  end
+  return h
+end
+
+-- The hidden-node table: one row per set, one column per multiplier.
+local function hidden_text(h)
+  local cols = {{"set", "set_text", "left"}, {"valid", "valid_text", "left"}}
+  local truth = {set_text = "truth", valid_text = ""}
+  for f, factor in ipairs(h.factors) do
+    cols[#cols + 1] = {string.format("x%g", factor), f}
+    truth[f] = h.truth[f]
+  end
+  local list = {truth}
+  for _, r in ipairs(h.rows) do list[#list + 1] = r end
+  return string.format("as the hidden %s grows (its coefficients times %s), the value each set " ..
+                       "converges to:", P.name(h.node), table.concat(h.factors, ", ")) ..
+         "\n" .. E.table_text(list, cols) ..
+         "\n  x1 is the model as given; a set whose value leaves the truth as the factor grows\n" ..
+         "  is biased by the hidden confounder"
+end
+
 local compare_mt = {__name = "sluice.comparison"}
 function compare_mt.__tostring(c)
   local head = string.format("%s of %s on %s under each candidate set%s (%s)", c.estimand,
@@ -123,6 +196,12 @@ function compare_mt.__tostring(c)
     lines[#lines + 1] = "  limit: the value the least-squares coefficient converges to with that set"
   end
   if c.plot then lines[#lines + 1] = "  picture: " .. c.plot end
+  if c.hidden then
+    lines[#lines + 1] = ""
+    lines[#lines + 1] = hidden_text(c.hidden)
+    if c.hidden.plot then lines[#lines + 1] = "  picture: " .. c.hidden.plot end
+    lines[#lines + 1] = ""
+  end
   for _, note in ipairs(c.notes or {}) do lines[#lines + 1] = "  " .. note end
   local fd, iv = false, false
   for _, r in ipairs(c) do
@@ -139,7 +218,8 @@ end
 
 local allowed = {data = true, graph = true, treatment = true, outcome = true, truth = true,
                  sets = true, method = true, boot = true, seed = true, level = true,
-                 plot = true, estimand = true, threads = true, routes = true}
+                 plot = true, estimand = true, threads = true, routes = true, hidden = true}
+
 
 -- The rows of the front-door and IV routes the graph has: each estimated
 -- with its own method; a route the data cannot take (e.g. a treatment not
@@ -297,6 +377,7 @@ function C.compare(a)
                   or " (g:frontdoor or g:instruments is not available in this build)")
     end
   end
+  if a.hidden ~= nil then rows.hidden = hidden_grid(a, m, x, y, rows) end
   rows.routes, rows.notes = routes, notes
   rows.treatment, rows.outcome, rows.method = x, y, method
   rows.estimand = a.estimand or "ATE"
@@ -311,6 +392,18 @@ function C.compare(a)
                        (routes and " by adjustment set and route" or " by adjustment set"),
                        "estimate", labels, est, lo, hi, truth or 0 / 0,
                        truth and "truth" or nil)
+  end
+  if rows.hidden and a.plot then
+    local h = rows.hidden
+    local series, labels = {h.truth}, {"truth"}
+    for j, r in ipairs(h.rows) do
+      local v = {}
+      for f in ipairs(h.factors) do v[f] = r[f] end
+      series[j + 1], labels[j + 1] = v, r.set_text
+    end
+    h.plot = E.call("compare", S._lines, hidden_path(a.plot),
+                    "Limit of each set as the hidden " .. h.node .. " grows", "multiplier of " ..
+                    h.node .. "'s coefficients", "large-sample value", h.factors, series, labels, true)
   end
   return setmetatable(rows, compare_mt)
 end

@@ -348,6 +348,58 @@ is an error: its SMD is not defined.]],
 with plot = "file.svg" (or .png, .pdf) a picture. Propensities outside
 [0.01, 0.99] are counted and warned about (common practice).]],
     example = [[overlap{data = plots, treatment = "mulch", set = {"slope"}, plot = "overlap.svg"}]] },
+  { name = "evalue", topic = "estimate",
+    sig = "evalue(r, {sd=, data=, rare=}) or evalue{rr= | or_= | hr= | d= | diff=, sd=, lo=, hi=, rare=}",
+    brief = "How strong an unmeasured confounder would have to be (E-value)",
+    returns = "a table {point=, limit=, rr=, ...} that prints a plain reading",
+    summary = [[The E-value of VanderWeele and Ding (2017, Ann Intern Med): the least risk
+ratio that an unmeasured confounder would need with both the treatment and
+the outcome, above and beyond the measured covariates, to explain away the
+estimate: E = RR + sqrt(RR (RR - 1)), of 1/RR when RR < 1. limit is the
+E-value of the confidence limit closest to 1 (1 when the interval already
+holds 1). Other measures are first turned into an approximate risk ratio:
+an odds ratio (or_ = or ["or"] =) or hazard ratio (hr =) needs rare = true
+(outcome under about 15% by the end of follow-up: taken as the RR) or
+false (common: sqrt(OR); (1 - 0.5^sqrt(HR)) / (1 - 0.5^sqrt(1/HR))); a
+standardized mean difference d = (or diff = with sd =, the outcome's SD)
+through RR ~ exp(0.91 d). evalue(r) takes an estimate{} result: its scale
+says which (an odds ratio picks rare = from the estimated risks unless
+given; a difference in means needs sd = or data = for the outcome's SD; a
+risk difference is refused: estimate on scale = "ratio"). A ratio <= 0,
+lo above hi, or an estimate outside its interval is an error. The E-value
+says how strong confounding would have to be, not whether it exists; it is
+no substitute for qualified epidemiological or clinical judgement.]],
+    example = [[evalue{rr = 3.9, lo = 1.8, hi = 8.7}        -- 7.26, and 3.00 for the lower limit
+-- a screening programme, read from a published table (invented here)
+evalue{["or"] = 1.9, lo = 1.3, hi = 2.8, rare = false}
+r = estimate{data = wards, treatment = "screened", outcome = "readmitted", set = {"age"}, scale = "ratio"}
+evalue(r)]] },
+  { name = "sensitivity", topic = "estimate",
+    sig = "sensitivity{data=, treatment=, outcome=, set=, benchmark=, k=, q=, alpha=, plot=}",
+    brief = "How an unmeasured confounder would move a regression estimate",
+    returns = "a table {estimate=, se=, t=, df=, partial_r2=, rv=, rv_alpha=, bounds=, ...}",
+    summary = [[Omitted-variable bias of the least-squares coefficient of the treatment in
+outcome ~ treatment + set, in the partial R^2 terms of Cinelli and Hazlett
+(2020, JRSS-B). partial_r2 is the share of the outcome's residual variance
+the treatment explains (t^2 / (t^2 + df)); rv, the robustness value, the
+least share of the residual variance of both treatment and outcome that a
+confounder must explain to move the estimate by q times itself (q = 1: to
+zero); rv_alpha the least that makes the 1 - alpha interval reach that
+value. benchmark = names covariates of the set: bounds has one row per
+benchmark and k (default k = {1, 2, 3}) for a confounder k times as strong
+as it, with the implied partial R^2 of the confounder with the treatment
+and with the outcome, and the adjusted estimate, SE, t and interval.
+plot = "file.svg" (or .png, .pdf) draws the adjusted estimate as contours
+over the two partial R^2 values, the zero line dashed red and the bounds
+marked. sensitivity{estimate=, se=, df=} works from a published
+regression (no benchmarks). The treatment and outcome must be numeric; a
+benchmark that is the treatment, the outcome or not in the set is an
+error; rows with a missing value are dropped. It says how strong a
+confounder would have to be, not whether one exists: no substitute for
+qualified epidemiological or clinical judgement.]],
+    example = [[sensitivity{data = wards, treatment = "nurse hours", outcome = "stay", set = {"age", "severity"},
+            benchmark = "severity", plot = "stay.svg"}
+sensitivity{estimate = 0.42, se = 0.11, df = 640}]] },
   { name = "sem", topic = "model",
     sig = "sem(g, coefs, opts)",
     brief = "A linear structural model on a graph",
@@ -407,7 +459,7 @@ model then describes binarized data: m:effect and m:limit need draws =).]],
     summary = "False once the model has binary or binarized nodes.",
     example = [[m:exact()]] },
   { name = "compare", topic = "model",
-    sig = "compare{data=, graph=, treatment=, outcome=, truth=, sets=, method=, routes=, plot=}",
+    sig = "compare{data=, graph=, treatment=, outcome=, truth=, sets=, method=, routes=, hidden=, plot=}",
     brief = "Each candidate set's estimate beside the truth",
     returns = "a table, printed with a forest plot",
     summary = [[The estimate under each candidate adjustment set: no adjustment, all observed
@@ -423,13 +475,21 @@ bootstrap when it has no analytic SE); they are added by default when the
 graph admits no adjustment set, and routes = false leaves them out. A
 route the data cannot take (e.g. a treatment not 0/1 for the front-door)
 is left out with a note. plot = "file.svg" draws the forest plot with the
-truth as a reference line.]],
+truth as a reference line. For teaching, hidden = "u" (with truth = a
+linear model whose graph has the hidden node u) rebuilds the model with
+u's coefficients times 0, 0.5, 1, 1.5 and 2 and shows, in a table under the
+comparison, the truth and the value each adjustment set converges to
+(m:limit) as the hidden confounder grows; with plot = "a.svg" a second
+picture, a-hidden.svg, draws a line per set.]],
     example = [[compare{data = d, truth = m, treatment = "mulch", outcome = "harvest", plot = "sets.svg"}
 -- every route against the truth of a simulated clinic model
 m = sem(graph "hidden frailty; frailty -> checklist, recovery; checklist -> hygiene -> recovery",
         {["checklist -> hygiene"] = 0.9, ["hygiene -> recovery"] = 0.7}, {default = 0.8})
 d = m:simulate(20000, {seed = 3, binarize = {checklist = 0}})
-compare{data = d, truth = m, treatment = "checklist", outcome = "recovery", boot = 0}]] },
+compare{data = d, truth = m, treatment = "checklist", outcome = "recovery", boot = 0}
+-- how each set drifts as a hidden frailty grows
+m2 = sem(graph "hidden frailty; frailty -> rehab, stay; age -> rehab, stay; rehab -> stay", {}, {default = 0.6})
+compare{data = m2:simulate(5000, {seed = 1}), truth = m2, treatment = "rehab", outcome = "stay", boot = 0, hidden = "frailty"}]] },
   { name = "g:show", topic = "picture",
     sig = "g:show()",
     returns = "text",

@@ -142,3 +142,112 @@ int sl_plot_forest(const char *path, const char *title, const char *xlabel,
   plend1();
   return SL_OK;
 }
+
+/* A round step (1, 2 or 5 times a power of ten) giving about k levels. */
+static double nice_step(double range, int k) {
+  double raw = range / k, p = pow(10, floor(log10(raw))), m = raw / p;
+  return (m < 1.5 ? 1 : m < 3.5 ? 2 : m < 7.5 ? 5 : 10) * p;
+}
+
+int sl_plot_contour(const char *path, const char *title, const char *xlabel,
+                    const char *ylabel, const double *z, size_t nx, size_t ny,
+                    double xmax, double ymax, double special, const char *speciallabel,
+                    const double *px, const double *py, const char *const *plabels,
+                    size_t np, sl_error *e) {
+  if (nx < 2 || ny < 2 || nx > SL_PLOT_GRID_MAX || ny > SL_PLOT_GRID_MAX || !(xmax > 0) || !(ymax > 0))
+    return sl_error_set(e, SL_EARG, 0, 0, "a contour needs a grid of 2 to %d points a side "
+                        "and positive axis ranges", SL_PLOT_GRID_MAX);
+  double zmin = INFINITY, zmax = -INFINITY;
+  for (size_t i = 0; i < nx * ny; i++)
+    if (isfinite(z[i])) { if (z[i] < zmin) zmin = z[i]; if (z[i] > zmax) zmax = z[i]; }
+  if (!isfinite(zmin)) return sl_error_set(e, SL_EARG, 0, 0, "no finite value to draw");
+  PLFLT **rows = malloc(nx * sizeof *rows);
+  PLFLT *xg = malloc(nx * sizeof *xg), *yg = malloc(ny * sizeof *yg);
+  PLFLT lev[64];
+  if (!rows || !xg || !yg) { free(rows); free(xg); free(yg); return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); }
+  for (size_t i = 0; i < nx; i++) { rows[i] = (PLFLT *)(z + i * ny); xg[i] = xmax * (double)i / (double)(nx - 1); }
+  for (size_t j = 0; j < ny; j++) yg[j] = ymax * (double)j / (double)(ny - 1);
+  int nlev = 0;
+  if (zmax > zmin) {   /* round levels across the range, the special one apart */
+    double step = nice_step(zmax - zmin, 10);
+    for (double v = ceil(zmin / step) * step; v <= zmax && nlev < 64; v += step)
+      if (!(isfinite(special) && fabs(v - special) < step * 1e-6)) lev[nlev++] = v;
+  }
+  int rc = begin(path, e);
+  if (rc) { free(rows); free(xg); free(yg); return rc; }
+  PLcGrid grid = {xg, yg, NULL, (PLINT)nx, (PLINT)ny, 0};
+  set_colour(0, 0, 0);
+  plenv(0, xmax, 0, ymax, 0, 0);
+  pllab(xlabel, ylabel, title);
+  pl_setcontlabelformat(4, 3);
+  pl_setcontlabelparam(0.008, 0.5, 0.25, 1);
+  set_colour(90, 90, 90);
+  if (nlev) plcont((const PLFLT *const *)rows, (PLINT)nx, (PLINT)ny, 1, (PLINT)nx, 1, (PLINT)ny,
+                   lev, nlev, pltr1, &grid);
+  if (isfinite(special) && special > zmin && special < zmax) {   /* the line that matters */
+    set_colour(200, 60, 40);
+    pllsty(2);
+    plwidth(2);
+    PLFLT s = special;
+    plcont((const PLFLT *const *)rows, (PLINT)nx, (PLINT)ny, 1, (PLINT)nx, 1, (PLINT)ny,
+           &s, 1, pltr1, &grid);
+    pllsty(1);
+    plwidth(1);
+    if (speciallabel) plmtex("t", 0.5, 1.0, 1.0, speciallabel);
+  }
+  pl_setcontlabelparam(0.008, 0.5, 0.25, 0);
+  set_colour(40, 90, 180);
+  for (size_t k = 0; k < np; k++) {
+    if (!isfinite(px[k]) || !isfinite(py[k])) continue;
+    PLFLT x = px[k], y = py[k];
+    plpoin(1, &x, &y, 18);
+    if (plabels && plabels[k]) plptex(x + 0.015 * xmax, y, 1, 0, 0, plabels[k]);
+  }
+  plend1();
+  free(rows); free(xg); free(yg);
+  return SL_OK;
+}
+
+int sl_plot_lines(const char *path, const char *title, const char *xlabel,
+                  const char *ylabel, const double *x, size_t nx, const double *y,
+                  const char *const *labels, size_t ns, int first_dashed, sl_error *e) {
+  if (nx < 2 || ns == 0) return sl_error_set(e, SL_EARG, 0, 0, "a line picture needs 2 or more points and a line");
+  double ymin = INFINITY, ymax = -INFINITY;
+  for (size_t i = 0; i < nx * ns; i++)
+    if (isfinite(y[i])) { if (y[i] < ymin) ymin = y[i]; if (y[i] > ymax) ymax = y[i]; }
+  if (!isfinite(ymin)) return sl_error_set(e, SL_EARG, 0, 0, "no finite value to draw");
+  double pad = (ymax - ymin) * 0.08 + 1e-9, x0 = x[0], x1 = x[nx - 1];
+  int rc = begin(path, e);
+  if (rc) return rc;
+  static const int palette[][3] = {{40, 90, 180}, {30, 140, 70}, {150, 70, 160},
+                                   {210, 130, 20}, {20, 150, 160}, {120, 80, 40}};
+  set_colour(0, 0, 0);
+  pladv(0);
+  plvpor(0.10, 0.72, 0.12, 0.90);   /* room on the right for the names */
+  plwind(x0, x1, ymin - pad, ymax + pad);
+  plbox("bcnst", 0, 0, "bcnstv", 0, 0);
+  pllab(xlabel, ylabel, title);
+  for (size_t s = 0; s < ns; s++) {
+    const double *ys = y + s * nx;
+    if (first_dashed && s == 0) { set_colour(200, 60, 40); pllsty(2); }
+    else {
+      const int *c = palette[(s - (first_dashed ? 1 : 0)) % 6];
+      set_colour(c[0], c[1], c[2]);
+      pllsty(1);
+    }
+    plwidth(2);
+    for (size_t i = 0; i + 1 < nx; i++)
+      if (isfinite(ys[i]) && isfinite(ys[i + 1])) {
+        PLFLT xx[2] = {x[i], x[i + 1]}, yy[2] = {ys[i], ys[i + 1]};
+        plline(2, xx, yy);
+      }
+    PLFLT px = x1, py = ys[nx - 1];
+    if (isfinite(py)) {
+      plpoin(1, &px, &py, 17);
+      if (labels && labels[s]) plptex(x1 + 0.02 * (x1 - x0), py, 1, 0, 0, labels[s]);
+    }
+  }
+  pllsty(1);
+  plend1();
+  return SL_OK;
+}

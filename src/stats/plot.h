@@ -23,4 +23,24 @@ int sl_plot_forest(const char *path, const char *title, const char *xlabel,
                    const double *hi, size_t n, double ref, const char *reflabel,
                    sl_error *e);
 
+/* The most grid points a side of a contour picture. */
+#define SL_PLOT_GRID_MAX 400
+
+/* Contours of z over [0, xmax] x [0, ymax] on an nx by ny grid (z[i*ny + j]
+** at x_i = xmax i/(nx-1), y_j = ymax j/(ny-1)), at round levels; the level
+** special (NaN: none) drawn as a dashed red line and named by speciallabel
+** above the frame; np labelled points. */
+int sl_plot_contour(const char *path, const char *title, const char *xlabel,
+                    const char *ylabel, const double *z, size_t nx, size_t ny,
+                    double xmax, double ymax, double special, const char *speciallabel,
+                    const double *px, const double *py, const char *const *plabels,
+                    size_t np, sl_error *e);
+
+/* ns lines over the points x[0..nx) (y[s*nx + i] the value of line s at
+** x_i), each named by labels[s] at its right end; with first_dashed, line
+** 0 is a dashed red reference (a truth). */
+int sl_plot_lines(const char *path, const char *title, const char *xlabel,
+                  const char *ylabel, const double *x, size_t nx, const double *y,
+                  const char *const *labels, size_t ns, int first_dashed, sl_error *e);
+
 #endif
