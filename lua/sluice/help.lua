@@ -132,6 +132,32 @@ in the set. <-> counts as two arrowheads. limit (a whole number, default
 <-> edges), in time linear in the size of the graph. When they are not, an
 open trail is returned as a witness.]],
     example = [[g:separated("slope", "rainfall", {"soil moisture"})]] },
+  { name = "g:implications", topic = "adjust",
+    brief = "The conditional independences the graph claims among observed nodes",
+    sig = "g:implications({limit=, basis=})",
+    returns = "list of {a =, b =, given = {...}}, with .untestable",
+    summary = [[What the graph claims about the data: for every two observed nodes that are
+not joined by an edge and that some set of observed nodes m-separates, one
+entry a ⊥ b | given with an inclusion-minimal such set (sorted by name):
+the later node's measured parents (in g:order()) when they do it, else a
+minimal set of the two nodes' measured ancestors. Hidden nodes are never in
+a set; <-> counts as a hidden common cause. Pairs not joined by an edge that
+no measured set separates (hidden nodes or <-> edges join them) are counted
+in .untestable and named by a last line. basis = "local" (graphs without
+hidden nodes or <-> edges) lists instead each node against each of its
+non-descendants that is not a parent, given its parents (the local Markov
+property), printed one node a line. Order: by the later node in g:order(),
+then the earlier. limit (a whole number, default 10000) and Ctrl-C stop the
+listing, with a note. Passing tests of these does not prove the graph.]],
+    example = [=[g = graph [[
+  hidden drought
+  "soil pH" -> flowers -> "bee visits" -> seeds
+  drought -> flowers; drought -> seeds; "soil pH" -> seeds
+]]
+g:implications()
+--> "soil pH" ⊥ "bee visits" | flowers
+--> 1 pair is not adjacent but no measured set separates it: the hidden nodes join the two
+graph("a -> b -> c -> d"):implications({basis = "local"})   --> c ⊥ a | b / d ⊥ a, b | c]=] },
   { name = "g:admissible", topic = "adjust",
     brief = "Is the set a valid adjustment set? If not, why",
     sig = "g:admissible(x, y, set)",
