@@ -268,7 +268,7 @@ local function picture(t, path)
   end)
   local labels, est, lo, hi = {}, {}, {}, {}
   for i, r in ipairs(shown) do
-    labels[i] = r.text:gsub("⊥", "_||_") .. (r.verdict == "contradicted" and "  (contradicted)" or "")
+    labels[i] = r.text .. (r.verdict == "contradicted" and "  (contradicted)" or "")
     est[i], lo[i], hi[i] = r.effect, r.lo or 0 / 0, r.hi or 0 / 0
   end
   E.call(fname, S._forest, path, "Implications of the graph tested on the data",
