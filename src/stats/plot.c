@@ -244,7 +244,9 @@ int sl_plot_lines(const char *path, const char *title, const char *xlabel,
     PLFLT px = x1, py = ys[nx - 1];
     if (isfinite(py)) {
       plpoin(1, &px, &py, 17);
-      if (labels && labels[s]) plptex(x1 + 0.02 * (x1 - x0), py, 1, 0, 0, labels[s]);
+      /* the name right of the frame, at the line's last height */
+      double at = (py - (ymin - pad)) / (ymax - ymin + 2 * pad);
+      if (labels && labels[s]) plmtex("rv", 1.0, at, 0.0, labels[s]);
     }
   }
   pllsty(1);
