@@ -286,6 +286,47 @@ r = g:identify("irrigation", "yield")
 print(r, r:latex())
 plots = read_csv "plots.csv"       -- irrigation, "soil nitrate", yield: 0/1
 r:evaluate(plots, {at = {irrigation = 1}})]=] },
+  { name = "g:test", topic = "adjust",
+    brief = "Put the graph on trial: test each implication on the data",
+    sig = "g:test(f, {method=, alpha=, adjust=, level=, boot=, seed=, plot=, implications=})",
+    returns = "a table, one row per implication: a, b, given, test, n, dropped, effect, lo, hi, stat, df, p, p_adj, verdict, why, add; fields alpha, adjust, untestable",
+    summary = [[Tests every conditional independence of g:implications() (or the list given
+as implications =) on the data frame f. The test follows the column types:
+both continuous: the partial correlation (residuals of least squares on the
+given set) with Fisher's z test and interval (SE 1/sqrt(n - k - 3), k the
+conditioning columns, text columns as dummies); a binary (0/1 or two-level)
+or text column: the likelihood-ratio test of nested regressions, logistic for
+a binary response, linear (Gaussian likelihood) for a continuous one, the
+other column added as the last term (a text column of more levels is only
+ever the regressor); every column discrete and at most 512 cells with 5 rows
+each on average: the G-test summed over the strata of the given set, each
+stratum giving (r - 1)(c - 1) degrees of freedom over its non-empty rows and
+columns. A numeric column is continuous unless it holds only 0 and 1. method
+= "partial", "lr", "gtest" forces one; "residual" is Spearman's correlation
+of the two residuals, a rank test that does not assume straight lines. The
+effect is a correlation: the partial correlation, or for the LR and G tests
+sqrt(1 - exp(-stat / n)) (signed when df = 1); intervals where the theory
+gives one (partial and rank correlations, the linear LR with df = 1), or
+boot = B percentile intervals for all (seed = for the same bits). Rows with a
+missing value are dropped per implication (dropped counts them). p_adj:
+adjust = "holm" (default), "bh" (Benjamini-Hochberg) or "none"; verdict is
+"contradicted" when p_adj < alpha (0.05), else "consistent", or "not tested"
+with why (a column missing from f, a constant column, too few rows). For a
+contradicted one, add lists the edges (a -> b, b -> a, a <-> b) that keep
+the graph acyclic and would remove it. The printout shows the table, the
+summary, a text picture of the effects and the caution; plot = "file.svg"
+(.png, .pdf) draws them sorted with a zero line, contradicted ones marked.
+Passing does not prove the graph: hidden confounders and the direction of
+edges stay untested.]],
+    example = [=[g = graph [[
+  "home support" -> attendance -> grade
+  "home support" -> homework -> grade
+  distance -> attendance
+]]
+pupils = read_csv "pupils.csv"
+t = g:test(pupils)                  -- Holm-adjusted, alpha = 0.05
+t[1].verdict, t[1].p_adj, t[1].add
+g:test(pupils, {method = "residual", adjust = "bh", plot = "trial.svg"})]=] },
   { name = "ols", topic = "estimate",
     sig = "ols{data=, y=, x={...}}",
     brief = "Least squares regression",
