@@ -376,6 +376,10 @@ function sens_mt.__tostring(r)
       {"adjusted", "estimate"}, {"SE", "se"}, {"t", "t"},
       {string.format("%g%% interval", 100 * (1 - r.alpha)), "interval", "left"}})
     for _, b in ipairs(r.bounds) do
+      if b.impossible then
+        lines[#lines + 1] = "  " .. b.label .. ": impossible: a confounder that strong would explain all " ..
+                            "of the treatment left by the set"
+      end
       if b.capped then
         lines[#lines + 1] = "  * " .. b.label .. ": the bound on R^2 y~Z|d,X exceeds 1 and is set to 1"
       end
@@ -496,13 +500,19 @@ function V.sensitivity(a)
         local r2y = partial_r2(fname, f, y, x, b, fy)
         r.benchmarks[#r.benchmarks + 1] = {name = b, r2d = r2d, r2y = r2y}
         for _, k in ipairs(ks) do
-          local r2dz, r2yz, capped = E.call(fname, S._sens_bound, r2d, r2y, k, k)
-          local est, se, t = E.call(fname, S._sens_adjust, r.estimate, r.se, r.df, r2dz, r2yz)
-          local lo, hi = est - tcrit * se, est + tcrit * se
-          r.bounds[#r.bounds + 1] = {benchmark = b, k = k, label = string.format("%gx %s", k, P.name(b)),
-                                     r2dz = r2dz, r2yz = r2yz, capped = capped, estimate = est,
-                                     se = se, t = t, lo = lo, hi = hi,
-                                     interval = fmt(lo) .. " to " .. fmt(hi)}
+          local label = string.format("%gx %s", k, P.name(b))
+          local ok, r2dz, r2yz, capped = pcall(S._sens_bound, r2d, r2y, k, k)
+          local row = {benchmark = b, k = k, label = label}
+          if ok then
+            local est, se, t = E.call(fname, S._sens_adjust, r.estimate, r.se, r.df, r2dz, r2yz)
+            row.r2dz, row.r2yz, row.capped = r2dz, r2yz, capped
+            row.estimate, row.se, row.t = est, se, t
+            row.lo, row.hi = est - tcrit * se, est + tcrit * se
+            row.interval = fmt(row.lo) .. " to " .. fmt(row.hi)
+          else   -- no confounder can be that strong: a row that says so
+            row.impossible, row.interval = true, "impossible"
+          end
+          r.bounds[#r.bounds + 1] = row
         end
       end
     end
@@ -513,9 +523,11 @@ function V.sensitivity(a)
   if a.plot then
     local xmax, ymax = 0.4, 0.4
     local labels, px, py = {}, {}, {}
-    for i, b in ipairs(r.bounds) do
-      xmax, ymax = math.max(xmax, 1.2 * b.r2dz), math.max(ymax, 1.2 * b.r2yz)
-      labels[i], px[i], py[i] = b.label, b.r2dz, b.r2yz
+    for _, b in ipairs(r.bounds) do
+      if not b.impossible then
+        xmax, ymax = math.max(xmax, 1.2 * b.r2dz), math.max(ymax, 1.2 * b.r2yz)
+        labels[#labels + 1], px[#px + 1], py[#py + 1] = b.label, b.r2dz, b.r2yz
+      end
     end
     xmax, ymax = math.min(xmax, 0.99), math.min(ymax, 1)
     r.plot = E.call(fname, S._sens_contour, a.plot,
