@@ -11,6 +11,7 @@
 #include <gsl/gsl_cdf.h>
 
 #define CONTOUR_SIDE 81   /* grid points a side of the contour picture */
+#define SET_MAX 512       /* nodes in one set of compare{hidden =} */
 
 /* Raise e for the public function fname. */
 static int raise(lua_State *L, const sl_error *e, const char *fname) {
@@ -177,11 +178,11 @@ static int l_sem_grid(lua_State *L) {
   lua_pushnumber(L, v);
   lua_Integer nsets = luaL_len(L, 6);
   lua_createtable(L, (int)nsets, 0);
-  int ids[512];
+  int ids[SET_MAX];
   for (lua_Integer i = 1; i <= nsets; i++) {
     lua_geti(L, 6, i);
     lua_Integer k = lua_istable(L, -1) ? luaL_len(L, -1) : -1;
-    if (k < 0 || k > 512) { sl_sem_free(s); luaL_argerror(L, 6, "sets are lists of up to 512 names"); }
+    if (k < 0 || k > SET_MAX) { sl_sem_free(s); luaL_argerror(L, 6, "sets are lists of up to 512 names"); }
     for (lua_Integer j = 1; j <= k; j++) {
       lua_geti(L, -1, j);
       const char *nm = lua_tostring(L, -1);
