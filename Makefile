@@ -135,6 +135,7 @@ demo: deps
 	$(B)/sluice examples/orchard.lua
 	$(B)/sluice examples/hedgerows.lua
 	$(B)/sluice examples/extension.lua
+	$(B)/sluice examples/woodland.lua
 
 install: all
 	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(CMODDIR) \
