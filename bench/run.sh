@@ -79,6 +79,13 @@ if [ "${SECTION:-}" = implications ]; then
   echo "bench: done"
   exit $fail
 fi
+# SECTION=citest: only the g:test figures (section 15, at the end).
+if [ "${SECTION:-}" = citest ]; then
+  row "figure" "sluice" "target" "vs target" "reference" "vs ref"
+  eval "$(sed -n '/^# ---- 15: g:test/,/^# ---- end of 15/p' bench/run.sh)"
+  echo "bench: done"
+  exit $fail
+fi
 for p in gen_graph bench_parse bench_start bench_dsep bench_trails bench_adjust; do
   # shellcheck disable=SC2046
   cc -std=c11 -O2 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -Isrc/graph \
@@ -644,5 +651,54 @@ else
   failed "cannot compile bench/bench_implications.c"
 fi
 # ---- end of 14 ----
+# ---- 15: g:test, 200 implications on 1e5 rows ----
+# bench/bench_citest.lua simulates 1e5 rows of a linear model on a fixed
+# 40-node graph (seed 15) and lists the first 200 of its implications; the
+# time of g:test on them is the best of CT_REPS (default 3) wall-clock runs
+# minus the best of as many runs that only read the file.  The baseline,
+# bench/np_citest.py, computes the same partial correlations and Fisher
+# p-values with numpy (lstsq residuals, corrcoef; the read untimed).  The
+# sum of the 200 partial correlations must agree within 1e-8 (of 1: they
+# are near zero).  SECTION=citest runs this section alone.
+CT=$D/citest
+CT_REPS=${CT_REPS:-3}
+mkdir -p "$CT"
+# ct_best CMD...: the best wall time of CT_REPS runs of CMD in ct_t, the
+# output of the last in ct_out; non-zero when a run fails.
+ct_best() {
+  ct_t=""; ct_i=0
+  while [ "$ct_i" -lt "$CT_REPS" ]; do
+    ct_a=$(date +%s.%N)
+    ct_out=$("$@") || return 1
+    ct_z=$(date +%s.%N)
+    ct_t=$(awk -v a="$ct_a" -v z="$ct_z" -v t="$ct_t" 'BEGIN {
+      d = z - a; print (t == "" || d < t + 0) ? d : t }')
+    ct_i=$((ct_i + 1))
+  done
+}
+if "$B/sluice" bench/bench_citest.lua gen "$CT" 100000 200 >/dev/null; then
+  ct_read=""; ct_test=""; ct_line=""
+  if ct_best "$B/sluice" bench/bench_citest.lua read "$CT"; then ct_read=$ct_t; fi
+  if ct_best "$B/sluice" bench/bench_citest.lua test "$CT"; then ct_test=$ct_t; ct_line=$ct_out
+  else failed "bench_citest.lua test (crashed)"; fi
+  ct_s=$(awk -v a="$ct_test" -v b="$ct_read" 'BEGIN { if (a != "" && b != "") print a - b }')
+  ct_np=""
+  if ct_p=$("$PYTHON" bench/np_citest.py "$CT"); then
+    [ "$(val "$ct_p" missing)" = 1 ] || ct_np=$(val "$ct_p" total_s)
+  else
+    failed "bench/np_citest.py (crashed)"; ct_p=""
+  fi
+  if [ -n "$ct_line" ] && [ -n "$ct_np" ]; then
+    awk -v a="$(val "$ct_line" r_sum)" -v b="$(val "$ct_p" r_sum)" 'BEGIN {
+      d = a - b; if (d < 0) d = -d; exit !(d <= 1e-8) }' \
+      || failed "g:test and numpy disagree: sum of r $(val "$ct_line" r_sum) vs $(val "$ct_p" r_sum)"
+  fi
+  row "g:test 200 impl., 1e5 rows" "$(secs "${ct_s:-0}")" "-" "-" \
+      "numpy $(secs "${ct_np:-0}")" "$(ratio "$ct_s" "$ct_np")"
+  echo "         partial correlations by least squares, Fisher's z; $(val "$ct_line" contradicted) of 200 contradicted (data from the graph)"
+else
+  failed "bench_citest.lua gen"
+fi
+# ---- end of 15 ----
 echo "bench: done"
 exit $fail

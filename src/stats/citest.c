@@ -115,13 +115,22 @@ static size_t width(const var *v) {
   return v->nused - 1;
 }
 
-/* Fill row i of a design with var v's columns from frame row r. */
-static size_t put(const var *v, size_t r, double *x) {
+/* Fill the design's columns j.. with var v over the rows ix (column-wise:
+** one tight loop per column); returns the columns written. */
+static size_t put(const var *v, const size_t *ix, size_t n, double *X, size_t p, size_t j) {
   if (v->kind == CONST) return 0;
-  if (v->c->type == SL_NUMERIC) { x[0] = v->c->x[r]; return 1; }
-  int l = level(v, r);
-  for (size_t k = 1; k < v->nused; k++) x[k - 1] = l == (int)k;
-  return v->nused - 1;
+  if (v->c->type == SL_NUMERIC) {
+    const double *x = v->c->x;
+    for (size_t r = 0; r < n; r++) X[r * p + j] = x[ix[r]];
+    return 1;
+  }
+  size_t w = v->nused - 1;
+  for (size_t r = 0; r < n; r++) {
+    int l = level(v, ix[r]);
+    double *row = X + r * p + j;
+    for (size_t k = 1; k <= w; k++) row[k - 1] = l == (int)k;
+  }
+  return w;
 }
 
 /* A design [1, given..., extra] over the rows ix (extra: a var index or
@@ -145,13 +154,10 @@ static int build(const prep *P, const size_t *ix, size_t n, int extra, design *d
     if (i == P->nv && extra < 0) break;
     for (size_t w = width(&P->v[vi]); w > 0; w--) d->names[k++] = P->v[vi].c->name;
   }
-  for (size_t r = 0; r < n; r++) {
-    double *x = d->X + r * p;
-    size_t j = 0;
-    x[j++] = 1;
-    for (size_t i = 2; i < P->nv; i++) j += put(&P->v[i], ix[r], x + j);
-    if (extra >= 0) put(&P->v[extra], ix[r], x + j);
-  }
+  for (size_t r = 0; r < n; r++) d->X[r * p] = 1;
+  size_t j = 1;
+  for (size_t i = 2; i < P->nv; i++) j += put(&P->v[i], ix, n, d->X, p, j);
+  if (extra >= 0) put(&P->v[extra], ix, n, d->X, p, j);
   return SL_OK;
 }
 
