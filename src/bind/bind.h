@@ -62,6 +62,10 @@ int sl_bind_on_set(void *ctx, const int32_t *set, size_t n);   /* an sl_set_fn *
 /* Sort the list of sets at idx by size, then by names. */
 void sl_bind_sort_sets(lua_State *L, int idx);
 
+/* Add methods to the graph's method table; make a metatable that prints. */
+void sl_bind_graph_methods(lua_State *L, const luaL_Reg *methods);
+void sl_bind_printable(lua_State *L, const char *mt, lua_CFunction tostring_fn);
+
 int sl_open_graph(lua_State *L);   /* registers the graph functions */
 int sl_open_adjust(lua_State *L);  /* adds trails and adjustment methods */
 int sl_open_stats(lua_State *L);   /* models, estimators, pictures (raw) */

@@ -443,9 +443,6 @@ static const luaL_Reg methods[] = {
 };
 
 int sl_open_adjust(lua_State *L) {
-  luaL_getmetatable(L, SL_GRAPH_MT);
-  lua_getfield(L, -1, "__index");
-  luaL_setfuncs(L, methods, 0);
-  lua_pop(L, 2);
+  sl_bind_graph_methods(L, methods);
   return 0;
 }

@@ -309,17 +309,8 @@ static const luaL_Reg methods[] = {
 };
 
 int sl_open_frontdoor(lua_State *L) {
-  luaL_newmetatable(L, FDSETS_MT);
-  lua_pushcfunction(L, fdsets_tostring);
-  lua_setfield(L, -2, "__tostring");
-  lua_pop(L, 1);
-  luaL_newmetatable(L, IVLIST_MT);
-  lua_pushcfunction(L, ivlist_tostring);
-  lua_setfield(L, -2, "__tostring");
-  lua_pop(L, 1);
-  luaL_getmetatable(L, SL_GRAPH_MT);
-  lua_getfield(L, -1, "__index");
-  luaL_setfuncs(L, methods, 0);
-  lua_pop(L, 2);
+  sl_bind_printable(L, FDSETS_MT, fdsets_tostring);
+  sl_bind_printable(L, IVLIST_MT, ivlist_tostring);
+  sl_bind_graph_methods(L, methods);
   return 0;
 }

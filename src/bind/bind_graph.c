@@ -390,3 +390,19 @@ int sl_open_graph(lua_State *L) {
   luaL_setfuncs(L, graph_funcs, 0);   /* into the module table on top */
   return 0;
 }
+
+/* Add methods to the graph's method table (each binding file adds its own). */
+void sl_bind_graph_methods(lua_State *L, const luaL_Reg *methods) {
+  luaL_getmetatable(L, SL_GRAPH_MT);
+  lua_getfield(L, -1, "__index");
+  luaL_setfuncs(L, methods, 0);
+  lua_pop(L, 2);
+}
+
+/* A metatable named mt whose values print with tostring_fn. */
+void sl_bind_printable(lua_State *L, const char *mt, lua_CFunction tostring_fn) {
+  luaL_newmetatable(L, mt);
+  lua_pushcfunction(L, tostring_fn);
+  lua_setfield(L, -2, "__tostring");
+  lua_pop(L, 1);
+}

@@ -524,14 +524,8 @@ int sl_open_identify(lua_State *L) {
   lua_pushcfunction(L, id_tostring);
   lua_setfield(L, -2, "__tostring");
   lua_pop(L, 1);
-  luaL_newmetatable(L, DIST_MT);
-  lua_pushcfunction(L, dist_tostring);
-  lua_setfield(L, -2, "__tostring");
-  lua_pop(L, 1);
-  luaL_getmetatable(L, SL_GRAPH_MT);
-  lua_getfield(L, -1, "__index");
-  lua_pushcfunction(L, l_identify);
-  lua_setfield(L, -2, "identify");
-  lua_pop(L, 2);
+  sl_bind_printable(L, DIST_MT, dist_tostring);
+  static const luaL_Reg methods[] = {{"identify", l_identify}, {NULL, NULL}};
+  sl_bind_graph_methods(L, methods);
   return 0;
 }

@@ -223,21 +223,8 @@ static const luaL_Reg methods[] = {
 };
 
 int sl_open_implications(lua_State *L) {
-  luaL_newmetatable(L, IMPS_MT);
-  lua_pushcfunction(L, imps_tostring);
-  lua_setfield(L, -2, "__tostring");
-  lua_pushliteral(L, IMPS_MT);
-  lua_setfield(L, -2, "__name");
-  lua_pop(L, 1);
-  luaL_newmetatable(L, IMP_MT);
-  lua_pushcfunction(L, imp_tostring);
-  lua_setfield(L, -2, "__tostring");
-  lua_pushliteral(L, IMP_MT);
-  lua_setfield(L, -2, "__name");
-  lua_pop(L, 1);
-  luaL_getmetatable(L, SL_GRAPH_MT);
-  lua_getfield(L, -1, "__index");
-  luaL_setfuncs(L, methods, 0);
-  lua_pop(L, 2);
+  sl_bind_printable(L, IMPS_MT, imps_tostring);
+  sl_bind_printable(L, IMP_MT, imp_tostring);
+  sl_bind_graph_methods(L, methods);
   return 0;
 }
