@@ -627,7 +627,7 @@ the graph in notation, questions on which sets are valid and what each
 candidate set estimates) and key.md (the answers computed by sluice: the
 minimal and optimal sets, the true effect and the comparison table). The same
 seed gives the same files. treatment and outcome default to the graph's first
-and last nodes in causal order.]],
+and last nodes in causal order. An unknown argument is an error.]],
     example = [=[exercise{graph = g, model = m, treatment = "mulch", outcome = "harvest",
          n = 300, seed = 4, dir = "kit"}]=] },
 }

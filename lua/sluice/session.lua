@@ -450,10 +450,25 @@ local function set_text(set)
   return "{" .. table.concat(t, ", ") .. "}"
 end
 
+-- The arguments exercise{} knows; any other is a mistake the user should hear of.
+local exercise_options = {graph = true, model = true, n = true, seed = true, dir = true,
+                          treatment = true, outcome = true, scenario = true}
+
 -- exercise{graph=, model=, n=, seed=, dir=, treatment=, outcome=, scenario=}
 function S.exercise(o)
   if type(o) ~= "table" then
     error("bad argument #1 to 'exercise' (a table expected, got " .. type(o) .. ")", 2)
+  end
+  local names = {}
+  for k in pairs(exercise_options) do names[#names + 1] = k end
+  table.sort(names)
+  for k in pairs(o) do
+    if not exercise_options[k] then
+      local near = type(k) == "string" and require("sluice.estimate").closest(k, names)
+      error(string.format("exercise: unknown argument '%s'%s", tostring(k),
+            near and ("; did you mean '" .. near .. "'?")
+            or (" (arguments: " .. table.concat(names, ", ") .. ")")), 2)
+    end
   end
   local g, m, dir = o.graph, o.model, o.dir
   if getmetatable(g) ~= registry["sluice.graph"] then

@@ -121,6 +121,15 @@ test("exercise writes data, graph, handout and key, reproducibly from the seed",
   raises(function() exercise "x" end, "bad argument #1 to 'exercise'")
 end)
 
+test("exercise refuses an unknown argument and suggests the nearest", function()
+  local g = graph "a -> b"
+  local m = sem(g, {["a -> b"] = 1})
+  raises(function() exercise{graph = g, model = m, dir = tmpdir(), seeds = 3} end,
+         "exercise: unknown argument 'seeds'; did you mean 'seed'?")
+  raises(function() exercise{graph = g, model = m, dir = tmpdir(), zzzzzzzz = 1} end,
+         "exercise: unknown argument 'zzzzzzzz' (arguments: dir, graph")
+end)
+
 test("log() rejects what is not a path or false", function()
   raises(function() log(42) end, "bad argument #1 to 'log'")
   eq(log(), nil, "no log in a script")
