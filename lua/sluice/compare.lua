@@ -170,6 +170,9 @@ local function hidden_text(h)
          "  is biased by the hidden confounder"
 end
 
+-- A relative error as a reader uses it: one decimal of a percent.
+local function pct(v) return v ~= v and "NaN" or string.format("%.1f", v) end
+
 local compare_mt = {__name = "sluice.comparison"}
 function compare_mt.__tostring(c)
   local head = string.format("%s of %s on %s under each candidate set%s (%s)", c.estimand,
@@ -180,7 +183,7 @@ function compare_mt.__tostring(c)
   end
   local cols = {{"set", "set_text", "left"}, {"from", "label", "left"}, {"valid", "valid_text", "left"},
                 {"estimate", "estimate"}, {"interval", "interval", "left"}}
-  if c.truth then cols[#cols + 1] = {"error %", "error_pct"} end
+  if c.truth then cols[#cols + 1] = {"error %", "error_pct", nil, pct} end
   if c.has_limit then cols[#cols + 1] = {"limit", "limit"} end
   local lines = {head, E.table_text(c, cols), ""}
   local any = false

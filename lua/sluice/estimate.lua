@@ -191,7 +191,8 @@ local function fmt(v)
 end
 E.fmt = fmt
 
--- A table of rows as aligned text: cols is a list of {title, key, align}.
+-- A table of rows as aligned text: cols is a list of {title, key, align, format}
+-- (format, a function of a number, defaults to fmt).
 function E.table_text(rows, cols)
   local width = {}
   for j, c in ipairs(cols) do width[j] = #c[1] end
@@ -200,7 +201,7 @@ function E.table_text(rows, cols)
     cells[i] = {}
     for j, c in ipairs(cols) do
       local v = r[c[2]]
-      local s = type(v) == "number" and fmt(v) or tostring(v == nil and "" or v)
+      local s = type(v) == "number" and (c[4] or fmt)(v) or tostring(v == nil and "" or v)
       cells[i][j] = s
       if utf8.len(s) and utf8.len(s) > width[j] then width[j] = utf8.len(s) end
     end

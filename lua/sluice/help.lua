@@ -534,7 +534,7 @@ covariates, every minimal set, the optimal set, and the sets you add. For
 each: whether the graph deems it valid (with the reason when not), the
 estimate and its interval (method as in estimate{}; boot defaults to 200
 for standardize), the error in percent of the truth (a finite number, or a
-model from sem()), and for a linear model m:limit. sets = "z" adds one
+model from sem(); printed to one decimal, exact in the row's error_pct), and for a linear model m:limit. sets = "z" adds one
 set; sets = {"z", {"z", "w"}} adds a set per item. routes = true adds a
 row for the graph's front-door set (estimate{method = "frontdoor"}) and
 one for its instrument (method = "iv"), each with its own interval (the

@@ -171,6 +171,22 @@ test("compare lists the default candidates beside the truth", function()
   eq(tostring(c):find("why the invalid sets fail", 1, true) ~= nil, true)
 end)
 
+-- Issue 12: the error column showed four decimals (-14.7390); a reader
+-- uses one.
+test("compare shows the error percentage with one decimal", function()
+  local g = graph "z -> x -> y; z -> y"
+  local m = sem(g, {}, {default = 0.5})
+  local c = compare{data = m:simulate(400, {seed = 3}), truth = m, treatment = "x", outcome = "y",
+                    boot = 0}
+  local empty
+  for _, r in ipairs(c) do if r.set_text == "{}" then empty = r end end
+  -- the error % is 100 (estimate - truth) / truth, the definition in compare's help
+  eq(math.abs(empty.error_pct - 100 * (empty.estimate - 0.5) / 0.5) < 1e-9, true)
+  local line = tostring(c):match("\n(  {}[^\n]*)")
+  -- the columns end with error % and limit
+  eq(line:match("(%S+)%s+%S+$"), string.format("%.1f", empty.error_pct), "one decimal in the table")
+end)
+
 -- Issue 9: values that were taken silently (a NaN default made every
 -- coefficient NaN, "x" made them 0, a NaN covariance or cut was dropped),
 -- and messages that named stack positions ("calling 'simulate' on bad
