@@ -560,7 +560,8 @@ compare{data = m2:simulate(5000, {seed = 1}), truth = m2, treatment = "rehab", o
   { name = "g:show", topic = "picture",
     sig = "g:show()",
     returns = "text",
-    summary = [[A text view for the terminal. One line per node in causal order with its causal
+    summary = [[A text view for the terminal. One line per node in causal order (by causal
+depth, the longest path from a root, then by name) with its causal
 depth, its parents (<-) and its hidden-cause partners (<->).]],
     example = [[g:show()]] },
   { name = "g:dot", topic = "picture",

@@ -197,6 +197,17 @@ static size_t show_name(const char *nm, int hidden, sl_buf *out) {
   return w;
 }
 
+/* A node of the terminal view with the key it is listed by. */
+typedef struct { int32_t depth; const char *name; int32_t v; } show_row;
+
+/* By depth, then by name: a causal order a reader can check at a glance
+** (no node listed after one deeper than it). */
+static int show_row_cmp(const void *a, const void *b) {
+  const show_row *x = a, *y = b;
+  if (x->depth != y->depth) return x->depth < y->depth ? -1 : 1;
+  return strcmp(x->name, y->name);
+}
+
 void sl_graph_show(const sl_graph *g, sl_buf *out) {
   size_t n = g->n, nh = 0, wmax = 4;
   for (size_t v = 0; v < n; v++) {
@@ -212,15 +223,19 @@ void sl_graph_show(const sl_graph *g, sl_buf *out) {
   sl_buf_adds(out, "; nodes in causal order, each with what points into it\n");
   int32_t *order = malloc((n ? n : 1) * sizeof *order);
   int32_t *depth = calloc(n ? n : 1, sizeof *depth);
-  if (!order || !depth) { free(order); free(depth); out->failed = 1; return; }
+  show_row *rows = malloc((n ? n : 1) * sizeof *rows);
+  if (!order || !depth || !rows) { free(order); free(depth); free(rows); out->failed = 1; return; }
   sl_graph_order(g, order);
   for (size_t i = 0; i < n; i++) {     /* depth: longest path from a root */
     int32_t v = order[i];
     for (uint32_t k = g->pa.off[v]; k < g->pa.off[v + 1]; k++)
       if (depth[g->pa.adj[k]] + 1 > depth[v]) depth[v] = depth[g->pa.adj[k]] + 1;
   }
+  for (size_t i = 0; i < n; i++)
+    rows[i] = (show_row){depth[order[i]], sl_graph_name(g, order[i]), order[i]};
+  if (n > 1) qsort(rows, n, sizeof *rows, show_row_cmp);
   for (size_t i = 0; i < n; i++) {
-    int32_t v = order[i];
+    int32_t v = rows[i].v;
     sl_buf_addf(out, "  %2d  ", depth[v]);
     size_t w = show_name(sl_graph_name(g, v), g->hidden[v], out);
     for (size_t k = w; k < wmax; k++) sl_buf_add(out, " ", 1);
@@ -233,5 +248,5 @@ void sl_graph_show(const sl_graph *g, sl_buf *out) {
   }
   if (nh) sl_buf_adds(out, "  (name) marks a hidden node; the left column is the causal depth\n");
   else sl_buf_adds(out, "  the left column is the causal depth\n");
-  free(order); free(depth);
+  free(order); free(depth); free(rows);
 }

@@ -808,8 +808,9 @@ static void test_show(void **state) {
   sl_buf_init(&b);
   sl_graph_show(g, &b);
   assert_false(b.failed);
-  /* by hand: the order of test_order_classroom; depth is the longest path
-  ** from a root; names padded to the widest (9); hidden in parentheses */
+  /* by hand: depth is the longest path from a root; nodes by depth, then
+  ** by name (issue 12: tutor, depth 0, came after attention, depth 1);
+  ** names padded to the widest (9); hidden in parentheses */
   assert_string_equal(b.data,
     "9 nodes (1 hidden), 6 arrows, 2 hidden common causes; nodes in causal order, "
     "each with what points into it\n"
@@ -819,8 +820,8 @@ static void test_show(void **state) {
     "   0  noise      <-> attention, seat\n"
     "   0  seat       <-> noise\n"
     "   0  sleep\n"
-    "   1  attention  <- breakfast, mood, sleep  <-> noise\n"
     "   0  tutor\n"
+    "   1  attention  <- breakfast, mood, sleep  <-> noise\n"
     "   2  grade      <- attention, mood, tutor\n"
     "  (name) marks a hidden node; the left column is the causal depth\n");
   sl_buf_free(&b);
