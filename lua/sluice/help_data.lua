@@ -8,7 +8,8 @@ return {
     returns = "a data frame",
     summary = [[Read a CSV file with a header row (RFC 4180 quoting, a UTF-8 byte-order mark
 and CRLF allowed). The delimiter is found from the header line (comma,
-semicolon or tab) unless delim = "," ";" "|" "tab" or " " is given. Missing
+semicolon or tab) unless delim = "," ";" "|" "tab" or " " is given; a given
+delim that the header line lacks while it holds another is an error. Missing
 values: empty cells, NA, NaN, "." and the texts of na (a string or a list).
 Each column is numeric when all its other cells are numbers, categorical
 when more than 10% of them are text. A column of numbers with a few texts

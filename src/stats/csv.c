@@ -236,6 +236,47 @@ static unsigned char detect_delim(const char *s, size_t n) {
   return ',';
 }
 
+/* How often c occurs in the header line (the first line, outside quotes). */
+static size_t header_count(const char *s, size_t n, char c) {
+  size_t k = 0;
+  int quoted = 0;
+  for (size_t i = 0; i < n; i++) {
+    if (s[i] == '"') quoted = !quoted;
+    else if (!quoted && (s[i] == '\n' || s[i] == '\r')) break;
+    else if (!quoted && s[i] == c) k++;
+  }
+  return k;
+}
+
+/* A delimiter as the user writes it in the delim option. */
+static const char *delim_name(char c) {
+  switch (c) {
+  case '\t': return "tab";
+  case ' ': return "space";
+  case ',': return "','";
+  case ';': return "';'";
+  default: return "'|'";
+  }
+}
+
+/* A given delimiter the header line lacks while it holds another: reading
+** on would give one column silently, so say which one the file seems to use. */
+static int check_given_delim(reader *r, const char *s, size_t n) {
+  static const char others[] = {',', ';', '\t', '|'};
+  char d = (char)r->delim, best = 0;
+  size_t most = 0;
+  if (header_count(s, n, d) > 0) return 0;
+  for (size_t i = 0; i < sizeof others; i++) {
+    size_t k = others[i] == d ? 0 : header_count(s, n, others[i]);
+    if (k > most) { most = k; best = others[i]; }
+  }
+  if (!best) return 0;   /* one column and no delimiter at all: nothing to say */
+  fail_at(r, SL_EARG, 1, 0, ": delim = %s does not occur in the header line, which seems to "
+          "use %s (give that delimiter, or leave delim out to detect it)", delim_name(d),
+          delim_name(best));
+  return 1;
+}
+
 /* Spaces libcsv trims around unquoted fields: with a tab delimiter, only
 ** the space (otherwise libcsv's own test, space and tab, applies). */
 static int space_only(unsigned char c) { return c == ' '; }
@@ -330,6 +371,7 @@ static int read_pass(reader *r, unsigned char sha[32], uint64_t *bytes) {
       csv_set_delim(&p, r->delim);
       if (r->delim == '\t') csv_set_space_func(&p, space_only);
       first = 0;
+      if (r->opts && r->opts->delim && check_given_delim(r, s, n)) break;
     }
     feed(r, &p, s, n);
   }

@@ -116,8 +116,15 @@ test("delimiters, quoting, BOM and options", function()
   eq(q.note[2], 'said "prune"')
   eq(q.note[3], "two\nlines")
   eq(q.weight[5], -0.001)
-  local one = read_csv(D .. "orchard.csv", {delim = ";"})
-  same_list(one:names(), {"plot,variety,rain,yield,pests"})
+  -- issue 12: a delimiter the header lacks gave one column silently
+  raises(function() read_csv(D .. "orchard.csv", {delim = ";"}) end,
+         "orchard.csv, row 1: delim = ';' does not occur in the header line, which seems to use ','")
+  raises(function() read_csv(D .. "factory.tsv", {delim = ","}) end,
+         "delim = ',' does not occur in the header line, which seems to use tab")
+  local path = os.tmpname()
+  local fh = assert(io.open(path, "w")); fh:write("yield\n1\n2\n"); fh:close()
+  same_list(read_csv(path, {delim = ";"}):names(), {"yield"}, "one column, no delimiter at all")
+  os.remove(path)
   raises(function() read_csv(D .. "orchard.csv", {delim = "x"}) end, "option delim must be one of")
   raises(function() read_csv(D .. "orchard.csv", {coerse = true}) end,
          "unknown option 'coerse'; did you mean 'coerce'?")
