@@ -436,7 +436,9 @@ function estimate_mt.__tostring(r)
                                fmt(r.mu1), fmt(r.contrast or 1), fmt(r.mu0)))
   end
   if r.ess then
-    add("ESS", string.format("%.1f (treated %.1f, control %.1f)", r.ess,
+    -- Kish's ESS over all rows, then within each group: the groups' figures
+    -- are not parts of the overall one, so the label keeps them apart
+    add("ESS", string.format("%.1f overall; within groups: treated %.1f, control %.1f", r.ess,
                              r.ess_treated, r.ess_control))
     add("propensity", fmt(r.ps_min) .. " to " .. fmt(r.ps_max))
   end

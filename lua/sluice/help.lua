@@ -356,7 +356,9 @@ the optimal set of graph, which is printed with the reason; when the graph
 has no optimal set, the smallest minimal set and why). method:
 "standardize" (the g-formula, default: outcome model with treatment-by-
 covariate interactions, linear or logistic), "ipw" (normalised weights;
-stabilized = true, truncate = {1, 99}) or "aipw" (doubly robust, with its
+stabilized = true, truncate = {1, 99}; printed with the effective sample
+size (sum w)^2 / sum w^2 over all rows and within each group, which need
+not add up to the overall one) or "aipw" (doubly robust, with its
 influence-function SE). estimand "ATE", "ATT" or "ATC"; scale "difference",
 "ratio" (of means, which must both be positive) or "odds ratio";
 contrast = d (finite, not 0) for a continuous treatment. boot = B gives a

@@ -29,6 +29,20 @@ test("an exact linear design gives the exact effect", function()
   eq(math.abs(p[4] - 5) < 1e-9, true, "prediction for t=1, w=0")
 end)
 
+-- Issue 12: "ESS 1915.6 (treated 698.3, control 1522.5)" read as parts of a
+-- whole that did not add up; each figure is Kish's (sum w)^2 / sum w^2, over
+-- all rows and within each group, and the label now says so.
+test("ipw labels the overall and within-group effective sample sizes", function()
+  local r = estimate{data = d, treatment = "t", outcome = "y", set = "w", method = "ipw"}
+  -- by hand: t is independent of w here (each w has one treated and one
+  -- control row per pair), so every propensity is 1/2, every weight 2:
+  -- overall 16^2 / (8 * 4) = 8, within each group of 4 rows 8^2 / 16 = 4
+  eq(math.abs(r.ess - 8) < 1e-9, true, "overall")
+  eq(math.abs(r.ess_treated - 4) < 1e-9, true, "treated")
+  eq(tostring(r):find("ESS        8.0 overall; within groups: treated 4.0, control 4.0", 1, true) ~= nil,
+     true, tostring(r))
+end)
+
 test("the bootstrap is identical for 1 and 2 threads", function()
   local a = estimate{data = d, treatment = "t", outcome = "y", set = {"w", "v"},
                      boot = 60, seed = 11, threads = 1, interactions = false}
