@@ -9,10 +9,52 @@
 #include <lua.h>
 #include <lauxlib.h>
 
+#include "error.h"
 #include "run.h"
 #include "signals.h"
 
 #define PROGNAME "sluice"
+
+/* At most this many global functions are weighed as suggestions. */
+#define RUN_SUGGEST_MAX 512
+
+/* The names of the functions in the global table (the module's public
+** functions are copied there), at most max; returns how many. */
+static size_t global_functions(lua_State *L, const char **names, size_t max) {
+  size_t n = 0;
+  lua_pushglobaltable(L);
+  lua_pushnil(L);
+  while (lua_next(L, -2) != 0) {
+    if (n < max && lua_type(L, -2) == LUA_TSTRING && lua_isfunction(L, -1))
+      names[n++] = lua_tostring(L, -2);   /* kept alive by the global table */
+    lua_pop(L, 1);
+  }
+  lua_pop(L, 1);
+  return n;
+}
+
+/* A misspelled function name ("attempt to call a nil value (global
+** 'estimat')") gains the closest global function: the message on top is
+** replaced when there is one. */
+static void suggest_global(lua_State *L) {
+  static const char what[] = "attempt to call a nil value (global '";
+  const char *msg = lua_tostring(L, -1);
+  const char *at = msg ? strstr(msg, what) : NULL;
+  if (!at) return;
+  const char *name = at + sizeof what - 1, *end = strchr(name, '\'');
+  if (!end || end[1] != ')' || end - name >= 128) return;
+  char word[128];
+  memcpy(word, name, (size_t)(end - name));
+  word[end - name] = '\0';
+  const char *names[RUN_SUGGEST_MAX];
+  size_t n = global_functions(L, names, RUN_SUGGEST_MAX);
+  const char *near = sl_closest(word, names, n);
+  if (!near) return;
+  lua_pushlstring(L, msg, (size_t)(end + 2 - msg));
+  lua_pushfstring(L, "; did you mean '%s'?%s", near, end + 2);
+  lua_concat(L, 2);
+  lua_remove(L, -2);
+}
 
 /* Look for ":digits: " after a non-empty prefix on the first line. */
 int run_has_position(const char *msg) {
@@ -58,12 +100,14 @@ static int script_handler(lua_State *L) {
   const char *msg = error_string(L);
   if (!run_has_position(msg))
     add_position(L, msg);
+  suggest_global(L);
   return 1;
 }
 
-/* Message handler for the prompt: a string, nothing added. */
+/* Message handler for the prompt: a string, nothing added but a suggestion. */
 static int prompt_handler(lua_State *L) {
   error_string(L);
+  suggest_global(L);
   return 1;
 }
 

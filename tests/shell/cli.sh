@@ -215,5 +215,20 @@ run -e 'x = "kept"' -i -q
 check "-e then -i: the prompt sees what -e defined" all \
   'is $status 0' 'has "$T/out" "kept"'
 
+# issue 12: a misspelled function said only "attempt to call a nil value"
+run -e 'estimat{}'
+check "a misspelled global function suggests the closest public name" all \
+  'is $status 1' \
+  'has "$T/err" "attempt to call a nil value (global .estimat.); did you mean .estimate.?"'
+
+printf 'graf "a -> b"\n' > "$T/in"
+run -i -q
+check "the prompt suggests the closest name too" all \
+  'has "$T/err" "(global .graf.); did you mean .graph.?"'
+
+run -e 'zzzzzzzzzz()'
+check "no suggestion when no name is near" all \
+  'has "$T/err" "(global .zzzzzzzzzz.)$"'
+
 echo "$((checks - fails)) passed, $fails failed"
 [ "$fails" = 0 ]
