@@ -571,6 +571,36 @@ local function no_set_message(g, x, y, sets)
 end
 
 -- The covariates: set = as given, or graph = chosen from the graph.
+-- balance{} and overlap{} need covariates, not an outcome: without outcome =
+-- the treatment's parents, which block every back-door trail to any outcome
+-- when none of them is hidden and no hidden common cause touches the treatment.
+local function parent_set(fname, g, x)
+  local found = false
+  for _, v in ipairs(g:nodes()) do if v == x then found = true end end
+  if not found then
+    local near = closest(x, g:nodes())
+    fail(fname, string.format("treatment = '%s' is not a node of graph =%s", x,
+         near and ("; did you mean '" .. near .. "'?") or ""))
+  end
+  local hidden = {}
+  for _, h in ipairs(g:hidden()) do hidden[h] = true end
+  for _, p in ipairs(g:parents(x)) do
+    if hidden[p] then
+      fail(fname, string.format("graph = alone cannot choose the covariates: the treatment '%s' " ..
+           "has the hidden parent '%s'; give outcome = to use the graph's adjustment set, or set =",
+           x, p))
+    end
+  end
+  for _, e in ipairs(g:edges()) do
+    if e.kind == "<->" and (e.from == x or e.to == x) then
+      fail(fname, string.format("graph = alone cannot choose the covariates: the treatment '%s' " ..
+           "shares a hidden common cause with '%s'; give outcome = to use the graph's " ..
+           "adjustment set, or set =", x, e.from == x and e.to or e.from))
+    end
+  end
+  return as_list(g:parents(x)), "the treatment's parents in the graph (no outcome = given)"
+end
+
 local function resolve_set(fname, a)
   if a.set ~= nil and a.graph ~= nil then fail(fname, "give set = or graph =, not both") end
   if a.set ~= nil then return as_list(a.set), "as given" end
@@ -578,6 +608,7 @@ local function resolve_set(fname, a)
     fail(fname, "give set = {covariates}, or graph = g to choose them from a causal graph")
   end
   local g = a.graph
+  if a.outcome == nil then return parent_set(fname, g, a.treatment) end
   local o, why = g:optimal(a.treatment, a.outcome)
   if o then return as_list(o), "the optimal set O(X, Y) of the graph" end
   local sets = g:adjust(a.treatment, a.outcome)

@@ -400,22 +400,27 @@ estimate{data = wards, treatment = "checklist", outcome = "recovery",
 estimate{data = wards, treatment = "screened", outcome = "stage",
          method = "iv", instrument = "letter", set = {"age"}}]] },
   { name = "balance", topic = "estimate",
-    sig = "balance{data=, treatment=, set= | graph=}",
+    sig = "balance{data=, treatment=, set= | graph=, [outcome=]}",
     brief = "Covariate balance before and after weighting",
     returns = "a table of standardized mean differences",
     summary = [[The standardized mean difference of each covariate between treated and
-control, before and after inverse probability weighting; |SMD| > 0.1 is
+control, before and after inverse probability weighting. With graph = the
+covariates are the graph's adjustment set for outcome = when it is given,
+otherwise the treatment's parents (an error when one is hidden or shares a
+hidden common cause with it). |SMD| > 0.1 is
 flagged (common practice; Austin 2009). A covariate that is the treatment,
 or that takes one value among the treated and another among the controls,
 is an error: its SMD is not defined.]],
     example = [[balance{data = plots, treatment = "mulch", set = {"slope", "tree age"}}]] },
   { name = "overlap", topic = "estimate",
-    sig = "overlap{data=, treatment=, set= | graph=, plot=}",
+    sig = "overlap{data=, treatment=, set= | graph=, [outcome=], plot=}",
     brief = "Propensity overlap between the groups",
     returns = "a summary by group, with a text histogram",
     summary = [[Fitted propensities of treatment by group: quartiles, a text histogram, and
 with plot = "file.svg" (or .png, .pdf) a picture. Propensities outside
-[0.01, 0.99] are counted and warned about (common practice).]],
+[0.01, 0.99] are counted and warned about (common practice). graph = chooses
+the covariates as in balance{}: the adjustment set for outcome = when
+given, otherwise the treatment's parents.]],
     example = [[overlap{data = plots, treatment = "mulch", set = {"slope"}, plot = "overlap.svg"}]] },
   { name = "evalue", topic = "estimate",
     sig = "evalue(r, {sd=, data=, rare=}) or evalue{rr= | or_= | hr= | d= | diff=, sd=, lo=, hi=, rare=}",

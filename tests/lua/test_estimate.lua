@@ -43,6 +43,39 @@ test("ipw labels the overall and within-group effective sample sizes", function(
      true, tostring(r))
 end)
 
+-- Issue 12: the documented form balance{data =, treatment =, graph =} (and
+-- overlap{}) failed inside g:optimal for want of an outcome; without one the
+-- treatment's parents are the covariates (they block every back-door trail).
+test("balance and overlap take graph = without an outcome", function()
+  local m = sem(graph "z -> x -> y; z -> y; w -> x", {}, {default = 0.5})
+  local dd = m:simulate(300, {seed = 1}):binarize("x", 0, "t")
+  local g = graph "z -> t -> y; z -> y; w -> t"
+  local b = balance{data = dd, treatment = "t", graph = g}
+  local s = balance{data = dd, treatment = "t", set = {"w", "z"}}
+  eq(#b, 2)
+  for i = 1, 2 do
+    eq(b[i].covariate, s[i].covariate)
+    eq(b[i].after, s[i].after, "the same weights as with the parents given")
+  end
+  -- SMD before weighting by its definition (Austin 2009): difference of the
+  -- group means over the root of the mean of the two variances
+  local sum = {[0] = {0, 0, 0}, [1] = {0, 0, 0}}
+  for i = 1, #dd do
+    local g2 = sum[dd.t[i]]
+    g2[1], g2[2], g2[3] = g2[1] + 1, g2[2] + dd.w[i], g2[3] + dd.w[i] ^ 2
+  end
+  local function mv(g2) local mu = g2[2] / g2[1]; return mu, g2[3] / g2[1] - mu * mu end
+  local m1, v1 = mv(sum[1])
+  local m0, v0 = mv(sum[0])
+  eq(math.abs(b[1].before - (m1 - m0) / math.sqrt((v1 + v0) / 2)) < 1e-9, true, "SMD of w")
+  eq(overlap{data = dd, treatment = "t", graph = g}.n, 300)
+  raises(function() balance{data = dd, treatment = "t", graph = graph "z -> t -> y; w <-> t"} end,
+         "balance: graph = alone cannot choose the covariates", "hidden common cause with 'w'",
+         "give outcome =")
+  raises(function() overlap{data = dd, treatment = "t", graph = graph "z -> x -> y"} end,
+         "overlap: treatment = 't' is not a node of graph =")
+end)
+
 test("the bootstrap is identical for 1 and 2 threads", function()
   local a = estimate{data = d, treatment = "t", outcome = "y", set = {"w", "v"},
                      boot = 60, seed = 11, threads = 1, interactions = false}
