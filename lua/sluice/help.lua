@@ -517,8 +517,10 @@ large-sample bias of each adjustment set, with no sampling at all.]],
     summary = [[n rows (a whole number from 1 to 10^9) drawn with GSL's generators,
 identical for a seed on any machine and any number of threads (threads =
 0 uses every core). binarize = {node = cut} (a finite cut) turns the node
-into 1 above the cut and 0 otherwise before its children see it (and the
-model then describes binarized data: m:effect and m:limit need draws =).]],
+into 1 above the cut and 0 otherwise before its children see it, in this
+draw only: m itself is unchanged. For the truth about binarized data
+(m:effect, m:limit with draws =, compare{truth =}) build the model with
+sem(g, coefs, {binarize = {node = cut}}), which draws the same data.]],
     example = [[d = m:simulate(10000, {seed = 42, binarize = {mulch = 0}})]] },
   { name = "m:graph", topic = "model",
     sig = "m:graph()",
@@ -558,8 +560,9 @@ picture, a-hidden.svg, draws a line per set.]],
     example = [[compare{data = d, truth = m, treatment = "mulch", outcome = "harvest", plot = "sets.svg"}
 -- every route against the truth of a simulated clinic model
 m = sem(graph "hidden frailty; frailty -> checklist, recovery; checklist -> hygiene -> recovery",
-        {["checklist -> hygiene"] = 0.9, ["hygiene -> recovery"] = 0.7}, {default = 0.8})
-d = m:simulate(20000, {seed = 3, binarize = {checklist = 0}})
+        {["checklist -> hygiene"] = 0.9, ["hygiene -> recovery"] = 0.7},
+        {default = 0.8, binarize = {checklist = 0}})
+d = m:simulate(20000, {seed = 3})
 compare{data = d, truth = m, treatment = "checklist", outcome = "recovery", boot = 0}
 -- how each set drifts as a hidden frailty grows
 m2 = sem(graph "hidden frailty; frailty -> rehab, stay; age -> rehab, stay; rehab -> stay", {}, {default = 0.6})

@@ -374,7 +374,8 @@ static int l_simulate(lua_State *L) {
     luaL_error(L, "simulate: n = %s must be a whole number of at least 1 (at most 10^9)",
                sl_bind_value_text(L, 2));
   uint64_t seed = 1;
-  int threads = 0;
+  int threads = 0, draw_exact = 1;
+  double *draw_cut = NULL;
   sl_bind_check_options(L, 3, "simulate", known, 3);
   if (!lua_isnil(L, 3)) {
     if (lua_getfield(L, 3, "seed") != LUA_TNIL) {
@@ -390,8 +391,8 @@ static int l_simulate(lua_State *L) {
     }
     lua_pop(L, 2);
     if (lua_getfield(L, 3, "binarize") != LUA_TNIL) {
-      /* binarizing: the model now describes the binarized data; every
-      ** value is checked before the model changes */
+      /* binarizing this draw only: the cuts go into a copy, which the
+      ** model uses for the draw below and then drops (models are values) */
       if (!lua_istable(L, -1))
         luaL_error(L, "simulate: binarize = must be a table of node = cut, got %s", sl_bind_value_text(L, -1));
       lua_getiuservalue(L, 1, 1);
@@ -415,16 +416,18 @@ static int l_simulate(lua_State *L) {
         lua_pop(L, 1);
       }
       for (size_t i = 0; i < b->m.n; i++)
-        if (!(isnan(cut[i]) && isnan(b->m.cut[i])) && cut[i] != b->m.cut[i]) {
-          b->m.cut[i] = cut[i];
-          b->m.exact = 0;
-        }
-      lua_pop(L, 1);
+        if (!(isnan(cut[i]) && isnan(b->m.cut[i])) && cut[i] != b->m.cut[i]) draw_exact = 0;
+      draw_cut = cut;   /* stays on the stack, so alive, until the draw is done */
     }
-    lua_pop(L, 1);
   }
   sl_error e;
+  double *own_cut = b->m.cut;
+  int own_exact = b->m.exact;
+  b->m.cut = draw_cut ? draw_cut : own_cut;
+  b->m.exact = own_exact && draw_exact;
   sl_frame *f = sl_sem_simulate(&b->m, (size_t)rows, seed, threads, &e);
+  b->m.cut = own_cut;   /* restored before any error can leave this function */
+  b->m.exact = own_exact;
   if (!f) return sl_bind_raise(L, &e, "simulate", NULL, 0);
   sl_bind_pushframe(L, f);
   return 1;

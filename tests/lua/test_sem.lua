@@ -9,16 +9,25 @@
 -- effect is 1.05, no adjustment gives about 5.33, adjusting for w about 1.05.
 test("a published design: 5.33 unadjusted, 1.05 adjusted", function()
   local g = graph "w -> t -> y; w -> y"
-  local m = sem(g, {["w -> t"] = 1 / 18, ["t -> y"] = 1.05, ["w -> y"] = 2},
-                {intercept = {w = 65}, sd = {w = 5}})
+  local coefs = {["w -> t"] = 1 / 18, ["t -> y"] = 1.05, ["w -> y"] = 2}
+  local m = sem(g, coefs, {intercept = {w = 65}, sd = {w = 5}})
+  local before = tostring(m)
   local d = m:simulate(1000000, {seed = 2018, binarize = {t = 3.5}})
   local crude = estimate{data = d, treatment = "t", outcome = "y", set = {}}
   local adj = estimate{data = d, treatment = "t", outcome = "y", set = "w"}
   eq(math.abs(crude.estimate - 5.33) < 0.1, true, "unadjusted " .. crude.estimate)
   eq(math.abs(adj.estimate - 1.05) < 0.02, true, "adjusted " .. adj.estimate)
-  eq(m:exact(), false, "binarized: no closed form")
-  raises(function() return m:effect("t", "y") end, "give {draws = 100000}")
-  local v, se = m:effect("t", "y", {draws = 20000})
+  -- issue 12: models are values; binarize = applies to that draw only
+  eq(m:exact(), true, "simulate leaves the model as it was")
+  eq(tostring(m), before, "the same equations")
+  eq(math.abs(m:effect("t", "y") - 1.05) < 1e-12, true, "the closed form of the continuous model")
+  -- the model of the binarized data is built with sem's binarize =
+  local mb = sem(g, coefs, {intercept = {w = 65}, sd = {w = 5}, binarize = {t = 3.5}})
+  eq(mb:exact(), false, "binarized: no closed form")
+  eq(mb:simulate(50, {seed = 7}).y[50], m:simulate(50, {seed = 7, binarize = {t = 3.5}}).y[50],
+     "the same draw either way")
+  raises(function() return mb:effect("t", "y") end, "give {draws = 100000}")
+  local v, se = mb:effect("t", "y", {draws = 20000})
   eq(math.abs(v - 1.05) < 1e-9, true, "Monte Carlo effect of a binarized treatment")
   eq(se >= 0, true)
 end)
