@@ -44,45 +44,19 @@ if [ ! -f "$B/libsluice.a" ]; then
   exit 0
 fi
 mkdir -p "$D"
-# SECTION=model: only the structural-model and session-log figures (9, 10).
-if [ "${SECTION:-}" = model ]; then
+# SECTION=NAME runs some sections alone: model (9, 10), log (10), estimate
+# (8), routes (12), implications (14), citest (15).
+section_range() {
+  case $1 in
+    model) echo "9 10" ;; log) echo "10 10" ;; estimate) echo "8 8" ;;
+    routes) echo "12 12" ;; implications) echo "14 14" ;; citest) echo "15 15" ;;
+  esac
+}
+if [ -n "${SECTION:-}" ]; then
+  set -- $(section_range "$SECTION")
+  [ $# = 2 ] || { echo "bench: no section '$SECTION' (model, log, estimate, routes, implications, citest)"; exit 2; }
   row "figure" "sluice" "target" "vs target" "reference" "vs ref"
-  eval "$(sed -n '/^# ---- 9: structural/,/^# ---- end of 10/p' bench/run.sh)"
-  echo "bench: done"
-  exit $fail
-fi
-# SECTION=log: only the session-log and replay figures (10).
-if [ "${SECTION:-}" = log ]; then
-  row "figure" "sluice" "baseline" "ratio" "what" ""
-  eval "$(sed -n '/^# ---- 10: the session log/,/^# ---- end of 10/p' bench/run.sh)"
-  echo "bench: done"
-  exit $fail
-fi
-# SECTION=estimate: only the estimator benchmarks (section 8, at the end).
-if [ "${SECTION:-}" = estimate ]; then
-  row "figure" "sluice" "target" "vs target" "reference" "vs ref"
-  eval "$(sed -n '/^# ---- 8: estimators/,/^# ---- end of 8/p' bench/run.sh)"
-  echo "bench: done"
-  exit $fail
-fi
-# SECTION=routes: only the front-door and IV benchmarks (section 12, at the end).
-if [ "${SECTION:-}" = routes ]; then
-  row "figure" "sluice" "target" "vs target" "reference" "vs ref"
-  eval "$(sed -n '/^# ---- 12: front-door and IV/,/^# ---- end of 12/p' bench/run.sh)"
-  echo "bench: done"
-  exit $fail
-fi
-# SECTION=implications: only the g:implications figures (section 14, at the end).
-if [ "${SECTION:-}" = implications ]; then
-  row "figure" "sluice" "target" "vs target" "reference" "vs ref"
-  eval "$(sed -n '/^# ---- 14: testable implications/,/^# ---- end of 14/p' bench/run.sh)"
-  echo "bench: done"
-  exit $fail
-fi
-# SECTION=citest: only the g:test figures (section 15, at the end).
-if [ "${SECTION:-}" = citest ]; then
-  row "figure" "sluice" "target" "vs target" "reference" "vs ref"
-  eval "$(sed -n '/^# ---- 15: g:test/,/^# ---- end of 15/p' bench/run.sh)"
+  eval "$(sed -n "/^# ---- $1: /,/^# ---- end of $2 /p" bench/run.sh)"
   echo "bench: done"
   exit $fail
 fi
