@@ -3,18 +3,8 @@
 # (os.execute, io.popen, os.remove, writes outside --out, load, debug,
 # require), --trust, --update, and bad logs (not valid Lua, truncated,
 # newer version, missing data file, not a log).  Environment: B.
-B=${B:-build}
-exe=$(cd "$B" && pwd)/sluice
-tmp=$(mktemp -d "${TMPDIR:-/tmp}/sluice-replay.XXXXXX")
-trap 'rm -rf "$tmp"' EXIT
-cd "$tmp" || exit 1
-n=0
-fail() { echo "FAIL  $1"; [ -f out.txt ] && sed 's/^/      /' out.txt; exit 1; }
-ok() { n=$((n + 1)); echo "ok    $1"; }
-has() { grep -qF -- "$1" out.txt || fail "$2: the output lacks '$1'"; }
-head3='--@ sluice 0.1.0 session log
---@ started 2026-01-01T00:00:00Z
---@ lua 5.4'
+scratch=sluice-replay
+. "$(dirname "$0")/../lib/replay.sh"
 
 # ---- the sandbox ----
 mkdir out

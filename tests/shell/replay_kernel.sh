@@ -5,18 +5,8 @@
 # below reaches the kernel; nothing outside --out may change and no program
 # may run.  Also: the refusal where the kernel lacks a layer, --limit, and
 # a child that dies.  Environment: B.
-B=${B:-build}
-exe=$(cd "$B" && pwd)/sluice
-tmp=$(mktemp -d "${TMPDIR:-/tmp}/sluice-kernel.XXXXXX")
-trap 'rm -rf "$tmp"' EXIT
-cd "$tmp" || exit 1
-n=0
-fail() { echo "FAIL  $1"; [ -f out.txt ] && sed 's/^/      /' out.txt; exit 1; }
-ok() { n=$((n + 1)); echo "ok    $1"; }
-has() { grep -qF -- "$1" out.txt || fail "$2: the output lacks '$1'"; }
-head3='--@ sluice 0.1.0 session log
---@ started 2026-01-01T00:00:00Z
---@ lua 5.4'
+scratch=sluice-kernel
+. "$(dirname "$0")/../lib/replay.sh"
 listing() { find . -path ./out -prune -o ! -name out.txt -print | sort | while read -r f; do
   if [ -f "$f" ]; then sha256sum "$f"; else echo "$f"; fi; done; }
 
