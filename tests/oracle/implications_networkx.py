@@ -36,6 +36,7 @@ try:
 except ImportError:
     print("skipped: networkx not installed")
     sys.exit(0)
+from nxgraphs import canonical, dsep, random_admg  # noqa: E402
 
 SEED = 20250311
 N_GRAPHS = 300
@@ -43,42 +44,8 @@ N_LOCAL = 100
 TIMEOUT = 300
 
 
-def dsep(G, a, b, z):
-    a, b, z = set(a), set(b), set(z)
-    if hasattr(nx, "is_d_separator"):
-        return nx.is_d_separator(G, a, b, z)
-    return nx.d_separated(G, a, b, z)
-
-
 def random_graph(rng, latent=True):
-    n = rng.randint(3, 8)
-    names = ["v%d" % i for i in range(n)]
-    order = names[:]
-    rng.shuffle(order)
-    p = rng.uniform(0.15, 0.6)
-    D = nx.DiGraph()
-    D.add_nodes_from(names)
-    for i in range(n):
-        for j in range(i + 1, n):
-            if rng.random() < p:
-                D.add_edge(order[i], order[j])
-    bi, hidden = set(), set()
-    if latent:
-        q = rng.uniform(0.0, 0.3)
-        for i in range(n):
-            for j in range(i + 1, n):
-                if rng.random() < q:
-                    bi.add(tuple(sorted((names[i], names[j]))))
-        hidden = {v for v in names if rng.random() < 0.2}
-    return D, bi, hidden
-
-
-def canonical(D, bi):
-    C = D.copy()
-    for k, (a, b) in enumerate(sorted(bi)):
-        C.add_edge("L%d" % k, a)
-        C.add_edge("L%d" % k, b)
-    return C
+    return random_admg(rng, (0.15, 0.6), (0.0, 0.3), 0.2, latent)
 
 
 def text(D, bi, hidden):
