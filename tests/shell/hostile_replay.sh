@@ -433,5 +433,16 @@ n=$(LC_ALL=C tr -d '\012\040-\176\200-\377' < "$rep" | wc -c)
 grep -q '^9 commands' "$rep" && problem "the log's name forged a summary line"
 done_case
 
+setup update_injection
+replay --out out --update
+[ "$code" = 1 ] || problem "exit status $code, expected 1 (the recorded output was empty)"
+timeout -k 5 "$T" "$exe" --replay update_injection.lua --out out > "$work/$name.again" 2>&1 ||
+  problem "the updated log does not replay cleanly"
+grep -q '^1 commands: 1 matched, 0 differed$' "$work/$name.again" ||
+  problem "the updated log has more than its one entry"
+timeout -k 5 "$T" "$exe" update_injection.lua > /dev/null 2>&1
+snap > "$work/$name.before"   # the script may write only its out/ markers: none expected
+done_case
+
 echo "$passed passed, $failed failed, $skipped skipped"
 [ "$failed" = 0 ]
