@@ -144,14 +144,16 @@ local function sandbox(out_dir, blocked)
   env.package.searchpath = block("package.searchpath")
   local subst = {_G = env, debug = env.debug, package = env.package, sluice = mod}
   for _, k in ipairs(LIBS) do subst[k] = env[k] end
+  -- modules that write files or run the sandbox: not for replayed code
+  local internal = {["sluice.session"] = true, ["sluice.replay"] = true, ["sluice.exercise"] = true}
   env.package.loaded = setmetatable({}, {__index = function(_, k)
     if subst[k] then return subst[k] end
-    if k == "sluice.session" or k == "sluice.replay" then return nil end
+    if internal[k] then return nil end
     return package.loaded[k]
   end})
   env.require = function(name)
     if subst[name] then return subst[name] end
-    if name == "sluice.session" or name == "sluice.replay" then
+    if internal[name] then
       refuse("require(" .. format("%q", name) .. "): the session layer is not for replayed code")
     end
     if type(name) == "string" and package.loaded[name] ~= nil then return package.loaded[name] end

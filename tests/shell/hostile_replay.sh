@@ -201,7 +201,7 @@ done_case
 
 setup writers_require
 replay --out out
-expect 1 "1=bad 2=bad 3=bad 4=bad 5=bad 6=bad 7=bad 8=bad 9=bad 10=bad 11=ok 12=differs" \
+expect 1 "1=bad 2=bad 3=bad 4=bad 5=bad 6=bad 7=bad 8=bad 9=bad 10=bad 11=ok 12=differs 13=bad 14=bad" \
   "10" "inside out"
 done_case
 
