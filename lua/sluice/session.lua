@@ -218,7 +218,9 @@ end
 
 -- ---- writing files: pictures recorded, writes checked in the sandbox ----
 
-local guard = nil         -- in the sandbox: function(path, what) that raises
+-- In the sandbox: guard(path, what) raises for a write it refuses, and
+-- returns the path to write instead (a relative path lands in --out).
+local guard = nil
 
 local function note_picture(path)
   if current and type(path) == "string" then
@@ -256,9 +258,9 @@ local function wrap_writers()
   if gm and type(gm.__index) == "table" and gm.__index.draw then
     local draw = gm.__index.draw
     gm.__index.draw = function(g, path, ...)
-      if guard then guard(path, "g:draw") end
-      local r = as_caller(draw, g, path, ...)
-      note_picture(path)
+      local to = guard and guard(path, "g:draw") or path
+      local r = as_caller(draw, g, to, ...)
+      note_picture(to)
       return r
     end
   end
@@ -270,8 +272,8 @@ local function wrap_writers()
         error(user_position() .. "f:write_csv: a file name expected as the path, got "
               .. type(path), 0)
       end
-      if guard then guard(path, "f:write_csv") end
-      local r = table.pack(as_caller(index(f, "write_csv"), f, path, ...))
+      local to = guard and guard(path, "f:write_csv") or path
+      local r = table.pack(as_caller(index(f, "write_csv"), f, to, ...))
       return table.unpack(r, 1, r.n)    -- not a tail call: as_caller counts levels
     end
     fm.__index = function(f, k)
@@ -284,9 +286,9 @@ local function wrap_writers()
     local fn = M[name]
     if fn then
       M[name] = function(path, ...)
-        if guard then guard(path, "plot =") end
-        local r = fn(path, ...)
-        note_picture(path)
+        local to = guard and guard(path, "plot =") or path
+        local r = fn(to, ...)
+        note_picture(to)
         return r
       end
     end
@@ -301,7 +303,7 @@ S._error_text = error_text
 S._entry_text = entry_text
 S._wrap_output = wrap_output
 
--- In a replay child: writes go through guard(path, what), which raises.
+-- In a replay child: writes go through guard(path, what) (see above).
 function S._set_guard(g) guard = g end
 
 -- Run fn(cap) with the output captured as entry n of a replay; returns
