@@ -429,6 +429,7 @@ function R.replay(o)
                                    cpu = math.floor(2 * limit * (runnable + 1))}
   if child == "child" then child_main(parsed, o) end
   local total, matched, differed, notrun, blocked_all = 0, 0, 0, 0, 0
+  local blocked_n, kept = 0, 0   -- entries with a blocked call; of them, kept by --update
   local shown, stopped, first = false, nil, true
   for _, e in ipairs(parsed.entries) do
     if e.skip then
@@ -485,7 +486,12 @@ function R.replay(o)
       if r.cmsg or (at and r.failed and not recorded_error) or opens_with_paren(e.code) then
         status = "error"
       elseif at then status = "differs" end
-      if status == "ok" then matched = matched + 1 else differed = differed + 1 end
+      -- a blocked call decides the verdict: the output it left (the sandbox's
+      -- error, or one --update wrote) proves nothing about the recorded one
+      if #r.blocked > 0 then status = "blocked" end
+      if status == "ok" then matched = matched + 1
+      elseif status == "blocked" then blocked_n = blocked_n + 1
+      else differed = differed + 1 end
       say(format("in %d: %s\n", e.n, status))
       if at and not shown then
         shown = true
@@ -496,7 +502,11 @@ function R.replay(o)
         blocked_all = blocked_all + 1
         say(format("blocked: in %d: %s\n", e.n, T.escape(b)))
       end
-      if o.update then e.new_out, e.new_data, e.new_pictures = got, r.data, r.pictures end
+      -- --update keeps the recorded output of an entry with a blocked call:
+      -- the sandbox's refusal is not what the entry printed
+      if o.update and #r.blocked == 0 then
+        e.new_out, e.new_data, e.new_pictures = got, r.data, r.pictures
+      elseif o.update then kept = kept + 1 end
     end
     ::continue::
   end
@@ -509,7 +519,8 @@ function R.replay(o)
     end
   end
   child:stop()
-  say(format("%d commands: %d matched, %d differed%s\n", total, matched, differed,
+  say(format("%d commands: %d matched, %d differed%s%s\n", total, matched, differed,
+             blocked_n > 0 and format(", %d blocked", blocked_n) or "",
              notrun > 0 and format(", %d not run", notrun) or ""))
   if blocked_all > 0 then
     say(format("%d call%s blocked by the replay sandbox (--trust lifts it)\n",
@@ -532,7 +543,10 @@ function R.replay(o)
     end
     local ok, uerr = R.rewrite(o.log, text, parsed)
     if not ok then say("sluice: --update: ", uerr, "\n") return 1 end
-    say("updated ", lname, " (the old log is ", lname, ".bak)\n")
+    say("updated ", lname, " (the old log is ", lname, ".bak)",
+        kept > 0 and format("; %d entr%s with a blocked call kept %s recorded output", kept,
+                            kept == 1 and "y" or "ies", kept == 1 and "its" or "their") or "",
+        "\n")
   end
   return (differed == 0 and blocked_all == 0) and 0 or 1
 end

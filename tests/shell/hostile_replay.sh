@@ -98,7 +98,7 @@ $(diff "$work/$name.before" "$work/$name.after" | grep '^[<>]' | head -n 12 |
 
 # The verdict line of entry K: exactly one, one of the report's words; and
 # every line the report may hold (anything else is forged or new).
-VERDICT='(ok|differs|error|killed([ :].*)?|timed out after [0-9.]+ s( .*)?|not run( .*)?)'
+VERDICT='(ok|differs|error|blocked|killed([ :].*)?|timed out after [0-9.]+ s( .*)?|not run( .*)?)'
 LINES="replaying .*|in [0-9]+: ($VERDICT|error: line [0-9]+ of the log is not valid Lua.*|skipped .*)"
 LINES="$LINES|  line [0-9]+ of its output:|    (expected|got): .*|blocked: in [0-9]+: .*"
 LINES="$LINES|data (missing|changed|not checked): .*|[0-9]+ commands: .*|sluice: .*"
@@ -111,9 +111,10 @@ verdict() {
 # expect STATUS "K=CLASS ..." "K ..." MODE: the exit status, one verdict per
 # entry of the class asked (ok, differs, error, bad = not ok, stopped =
 # killed or timed out, any), a blocked line for each K of the third list,
-# and counts that agree (N entries, A matched = the ok lines, C not run =
-# the not-run lines, B differed covering the rest); MODE is what the header
-# says of the writes.
+# a "blocked" verdict for exactly the entries with a blocked line (never ok),
+# and counts that agree (N entries, A matched = the ok lines, K blocked = the
+# blocked verdicts, C not run = the not-run lines, B differed covering the
+# rest); MODE is what the header says of the writes.
 expect() {
   want_code=$1; classes=$2; blocked=$3; mode=$4
   [ "$timed_out" = 1 ] && return
@@ -146,16 +147,26 @@ expect() {
   [ "$n" = 1 ] || problem "no single header 'replaying $name.lua: $total entries, sandboxed, writes $mode'"
   matched=$(grep -c '^in [0-9]*: ok$' "$rep")
   notrun=$(grep -cE '^in [0-9]+: not run( .*)?$' "$rep")
-  SUMMARY='^[0-9]+ commands: [0-9]+ matched, [0-9]+ differed(, [0-9]+ not run)?$'
+  nblk=$(grep -c '^in [0-9]*: blocked$' "$rep")
+  SUMMARY='^[0-9]+ commands: [0-9]+ matched, [0-9]+ differed(, [0-9]+ blocked)?(, [0-9]+ not run)?$'
   n=$(grep -cE "$SUMMARY" "$rep")
   [ "$n" = 1 ] || problem "$n summary lines, expected exactly 1"
-  set -- $(grep -E "$SUMMARY" "$rep" | head -n 1 | tr -c '0-9\n' ' ') 0 0 0 0
-  if [ "$1" != "$total" ] || [ "$2" != "$matched" ] || [ "$3" -lt $((total - matched - notrun)) ] ||
-     [ "${4:-0}" != "$notrun" ]; then
-    problem "the summary is not '$total commands: $matched matched, $((total - matched - notrun)) differed' ($notrun not run)"
+  s=$(grep -E "$SUMMARY" "$rep" | head -n 1)
+  sb=$(echo "$s" | sed -n 's/.*, \([0-9]*\) blocked.*/\1/p'); sb=${sb:-0}
+  sn=$(echo "$s" | sed -n 's/.*, \([0-9]*\) not run$/\1/p'); sn=${sn:-0}
+  set -- $(echo "$s" | tr -c '0-9\n' ' ') 0 0 0
+  if [ "$1" != "$total" ] || [ "$2" != "$matched" ] || [ "$sb" != "$nblk" ] ||
+     [ "$3" -lt $((total - matched - nblk - notrun)) ] || [ "$sn" != "$notrun" ]; then
+    problem "the summary is not '$total commands: $matched matched, $((total - matched - nblk - notrun)) differed, $nblk blocked' ($notrun not run)"
   fi
   for k in $blocked; do
     grep -q "^blocked: in $k: " "$rep" || problem "no 'blocked: in $k: ...' line"
+  done
+  for k in $(sed -n 's/^blocked: in \([0-9]*\): .*/\1/p' "$rep" | sort -u); do
+    [ "$(verdict "$k")" = blocked ] || problem "in $k has a blocked call, but its verdict is $(verdict "$k")"
+  done
+  for k in $(sed -n 's/^in \([0-9]*\): blocked$/\1/p' "$rep"); do
+    grep -q "^blocked: in $k: " "$rep" || problem "in $k: blocked, but no blocked call is shown"
   done
   nb=$(grep -c '^blocked: in [0-9]*: ' "$rep")
   if [ "$nb" -gt 0 ]; then

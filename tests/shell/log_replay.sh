@@ -55,7 +55,8 @@ has "blocked: in 9: debug.getregistry" "debug is blocked"
 has "blocked: in 10: io.open(\"out/../escaped.txt\"" "a path that leaves --out through .. is blocked"
 has "in 5: ok" "an allowed write matches"
 has "in 11: ok" "replay goes on after blocked calls"
-has "11 commands: 2 matched, 9 differed" "the summary counts them"
+has "11 commands: 2 matched, 0 differed, 9 blocked" "the summary counts them"
+has "in 4: blocked" "an entry with a blocked call has the verdict blocked"
 has "9 calls were blocked by the replay sandbox" "the blocked calls are counted"
 ok "the sandbox blocks os.execute, io.popen, os.remove, os.rename, debug, writes outside --out"
 
@@ -80,6 +81,32 @@ grep -q -- '--| 41' update.lua.bak || fail "--update keeps the old log"
 "$exe" --replay update.lua > out.txt 2>&1 || fail "the updated log replays"
 has "2 commands: 2 matched, 0 differed" "the updated log matches"
 ok "--update rewrites the recorded outputs and keeps LOG.bak"
+
+# a blocked call stays blocked after --update: its entry keeps the recorded
+# output, never the sandbox's refusal, and is never counted as matched
+cat > upblock.lua <<LOG
+$head3
+--@ in 1
+g = graph "rain -> yield"
+--@ in 2 show
+show(g:draw("rain.svg"))
+--| rain.svg
+--@ in 3 show
+show(1 + 1)
+--| 3
+LOG
+"$exe" --replay upblock.lua --update > out.txt 2>&1
+[ $? = 1 ] || fail "--update of a log with a blocked call exits 1"
+has "1 entry with a blocked call kept its recorded output" "--update says what it kept"
+grep -q -- '^--| rain.svg$' upblock.lua || fail "--update keeps the blocked entry's recorded output"
+grep -q -- 'blocked by the replay sandbox' upblock.lua && fail "--update wrote the refusal into the log"
+grep -q -- '^--| 2$' upblock.lua || fail "--update rewrites the other entries"
+"$exe" --replay upblock.lua > out.txt 2>&1
+[ $? = 1 ] || fail "the updated log with a blocked call still exits 1"
+has "in 2: blocked" "the blocked entry is reported as blocked after --update"
+has "blocked: in 2: g:draw(\"rain.svg\") writes outside an --out folder" "the blocked call is named"
+has "3 commands: 2 matched, 0 differed, 1 blocked" "a blocked entry is not counted as matched"
+ok "after --update a blocked call is still reported as blocked, not as matched"
 
 # ---- bad logs ----
 cat > invalid.lua <<LOG
