@@ -29,6 +29,8 @@ R.MAX_RECORDS = 10000     -- records one entry may send
 R.MAX_BYTES = 32 << 20    -- bytes one entry may send
 R.MAX_LINES = 200000      -- lines one entry may print
 R.MAX_TOTAL = 256 << 20   -- bytes all entries together may send
+R.MAX_SHOWN = 10          -- differing lines of one entry shown in the report
+R.MAX_WIDTH = 300         -- bytes of a shown line (the rest is counted)
 
 local function say(...) real.fwrite(stdout, ...) end
 
@@ -283,6 +285,48 @@ local function first_difference(a, b)
   end
 end
 
+-- The lines at which outputs a and b differ, as {line=, expected=, got=}:
+-- past the common head and tail the rest is compared line by line, so a
+-- line added or dropped shows once rather than shifting every later line.
+local function differing_lines(a, b)
+  local na, nb, head, tail = #a, #b, 0, 0
+  while head < na and head < nb and a[head + 1] == b[head + 1] do head = head + 1 end
+  while tail < na - head and tail < nb - head and a[na - tail] == b[nb - tail] do
+    tail = tail + 1
+  end
+  local ma, mb, list = na - head - tail, nb - head - tail, {}
+  for k = 1, math.max(ma, mb) do
+    local x, y = k <= ma and a[head + k] or nil, k <= mb and b[head + k] or nil
+    if x ~= y then list[#list + 1] = {line = head + k, expected = x, got = y} end
+  end
+  return list
+end
+
+-- A line for the report, cut at MAX_WIDTH bytes (on a UTF-8 boundary).
+local function clip(l)
+  if l == nil then return "(nothing)" end
+  if #l <= R.MAX_WIDTH then return l end
+  local cut = R.MAX_WIDTH
+  while cut > 0 and find(sub(l, cut + 1, cut + 1), "^[\128-\191]") do cut = cut - 1 end
+  return sub(l, 1, cut) .. format(" ... (%d more bytes)", #l - cut)
+end
+
+-- Show where an entry's output differs: every differing line up to
+-- MAX_SHOWN, then how many more.
+local function show_differences(expected, got)
+  local list = differing_lines(expected, got)
+  for i = 1, math.min(#list, R.MAX_SHOWN) do
+    local d = list[i]
+    say(format("  line %d of its output:\n    expected: %s\n    got:      %s\n", d.line,
+               clip(d.expected), clip(d.got)))
+  end
+  if #list > R.MAX_SHOWN then
+    local more = #list - R.MAX_SHOWN
+    say(format("  (and %d more line%s differ%s)\n", more, more == 1 and "" or "s",
+               more == 1 and "s" or ""))
+  end
+end
+
 -- The records of entry e from the child: {out=, failed=, data=, pictures=,
 -- blocked=, cmsg=}, or nil, what ("timeout", "ended", "broken", "setup")
 -- and a detail.
@@ -430,7 +474,7 @@ function R.replay(o)
   if child == "child" then child_main(parsed, o) end
   local total, matched, differed, notrun, blocked_all = 0, 0, 0, 0, 0
   local blocked_n, kept = 0, 0   -- entries with a blocked call; of them, kept by --update
-  local shown, stopped, first = false, nil, true
+  local stopped, first = nil, true
   for _, e in ipairs(parsed.entries) do
     if e.skip then
       say(format("in %d: skipped (%s at the prompt)\n", e.n, T.escape(e.skip)))
@@ -493,11 +537,7 @@ function R.replay(o)
       elseif status == "blocked" then blocked_n = blocked_n + 1
       else differed = differed + 1 end
       say(format("in %d: %s\n", e.n, status))
-      if at and not shown then
-        shown = true
-        say(format("  line %d of its output:\n    expected: %s\n    got:      %s\n", at,
-                   e.out[at] and T.escape(e.out[at]) or "(nothing)", got[at] or "(nothing)"))
-      end
+      if at then show_differences(e.out, got) end
       for _, b in ipairs(r.blocked) do
         blocked_all = blocked_all + 1
         say(format("blocked: in %d: %s\n", e.n, T.escape(b)))

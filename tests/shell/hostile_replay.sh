@@ -101,6 +101,7 @@ $(diff "$work/$name.before" "$work/$name.after" | grep '^[<>]' | head -n 12 |
 VERDICT='(ok|differs|error|blocked|killed([ :].*)?|timed out after [0-9.]+ s( .*)?|not run( .*)?)'
 LINES="replaying .*|in [0-9]+: ($VERDICT|error: line [0-9]+ of the log is not valid Lua.*|skipped .*)"
 LINES="$LINES|  line [0-9]+ of its output:|    (expected|got): .*|blocked: in [0-9]+: .*"
+LINES="$LINES|  \\(and [0-9]+ more lines? differs?\\)"
 LINES="$LINES|data (missing|changed|not checked): .*|[0-9]+ commands: .*|sluice: .*"
 LINES="$LINES|in [0-9]+: its code begins with '\\(': .*"
 LINES="$LINES|[0-9]+ calls? (was|were) blocked by the replay sandbox .*"

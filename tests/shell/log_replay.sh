@@ -108,6 +108,33 @@ has "blocked: in 2: g:draw(\"rain.svg\") writes outside an --out folder" "the bl
 has "3 commands: 2 matched, 0 differed, 1 blocked" "a blocked entry is not counted as matched"
 ok "after --update a blocked call is still reported as blocked, not as matched"
 
+# ---- every differing entry shows its differing lines (issue 12) ----
+{ echo "$head3"
+  echo "--@ in 1"; echo "print(1) print(2) print(3)"
+  echo "--| 1"; echo "--| 20"; echo "--| 3"
+  echo "--@ in 2"; echo "print('same')"; echo "--| same"
+  echo "--@ in 3"; echo "for i = 1, 15 do print(i) end"
+  for i in 1 2 3 4 5 6 7 8 9 10 11 12 13 14 15; do echo "--| $((i * 100))"; done
+  echo "--@ in 4"; echo "print('a') print('b') print('c')"
+  echo "--| a"; echo "--| c"
+  echo "--@ in 5"; echo "print(string.rep('w', 1000))"; echo "--| short"
+} > many.lua
+"$exe" --replay many.lua > out.txt 2>&1
+[ $? = 1 ] || fail "a log with differing entries exits 1"
+has "5 commands: 1 matched, 4 differed" "four entries differ"
+grep -A 3 '^in 1: differs' out.txt | grep -qx '    expected: 20' || fail "the first differing entry shows its line"
+grep -A 3 '^in 3: differs' out.txt | grep -qx '    got:      1' || fail "the third entry shows its lines too, not only the first entry"
+[ "$(sed -n '/^in 3: differs/,/^in 4/p' out.txt | grep -c '^  line [0-9]* of its output:$')" = 10 ] ||
+  fail "an entry shows at most 10 differing lines"
+has "  line 10 of its output:" "the tenth differing line is shown"
+has "  (and 5 more lines differ)" "the rest is counted"
+grep -A 3 '^in 4: differs' out.txt | grep -q '^  line 2 of its output:$' || fail "an added line is shown at its place"
+grep -A 3 '^in 4: differs' out.txt | grep -qx '    got:      b' || fail "the added line is shown"
+[ "$(sed -n '/^in 4: differs/,/^in 5/p' out.txt | grep -c '^  line')" = 1 ] ||
+  fail "a line added in the middle shows once, not as a shift of every later line"
+has "    got:      $(printf 'w%.0s' $(seq 300)) ... (700 more bytes)" "a long line is cut with what is left counted"
+ok "every differing entry shows its differing lines, bounded per entry and per line"
+
 # ---- bad logs ----
 cat > invalid.lua <<LOG
 $head3
