@@ -1,8 +1,10 @@
 /*
 ** complete.h: Tab completion at the prompt.  In code it completes global
-** names, fields after "." and methods after ":"; inside a string it
-** completes the node names of the graphs held in globals, and file names
-** when no node name fits.
+** names, fields after "." and methods after ":" (for a data frame: its
+** columns after ".", its methods after ":", a column's methods after
+** f.col:); inside a string it completes the column names of a frame
+** indexed as f["..., the node names of the graphs held in globals, and
+** file names when no node name fits.  It calls no Lua function.
 */
 #ifndef SLUICE_COMPLETE_H
 #define SLUICE_COMPLETE_H
