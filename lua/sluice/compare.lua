@@ -65,8 +65,35 @@ end
 -- Whether v is a number that can be placed on the axis.
 local function finite(v) return type(v) == "number" and v == v and v > -math.huge and v < math.huge end
 
+-- The width of a text in the terminal's columns.
+local function cols(s) return utf8.len(s) or #s end
+
+-- A label broken into lines of at most width columns where it can be:
+-- breaks fall at spaces outside double quotes, between the names of a set
+-- and never inside one; a name wider than width keeps a line of its own.
+function C.wrap(label, width)
+  local lines, line, word, quoted = {}, "", "", false
+  local function put()
+    if line == "" then line = word
+    elseif cols(line) + 1 + cols(word) <= width then line = line .. " " .. word
+    else lines[#lines + 1] = line; line = word end
+    word = ""
+  end
+  for _, c in utf8.codes(label) do
+    local ch = utf8.char(c)
+    if ch == '"' then quoted = not quoted end
+    if ch == " " and not quoted then put() else word = word .. ch end
+  end
+  put()
+  lines[#lines + 1] = line
+  return lines
+end
+
+-- The widest label column of a text forest before labels wrap.
+C.label_width = 30
+
 -- A text forest plot: one line per row, the interval as [---*---], the
--- truth as |.
+-- truth as |.  Labels are never cut: a long one wraps onto more lines.
 local function forest_text(rows, truth)
   local lo, hi = math.huge, -math.huge
   local function see(v) if finite(v) then lo = math.min(lo, v); hi = math.max(hi, v) end end
@@ -76,10 +103,14 @@ local function forest_text(rows, truth)
   if hi == lo then hi = lo + 1 end
   local width = 44
   local function col(v) return math.floor((v - lo) / (hi - lo) * (width - 1) + 1.5) end
-  local lines, labw = {}, 0
-  for _, r in ipairs(rows) do labw = math.max(labw, utf8.len(r.set_text) or #r.set_text) end
-  labw = math.min(labw, 28)
-  for _, r in ipairs(rows) do
+  local lines, labw, wrapped = {}, 0, {}
+  for _, r in ipairs(rows) do labw = math.max(labw, cols(r.set_text)) end
+  labw = math.min(labw, C.label_width)
+  for _, r in ipairs(rows) do   -- a name wider than the column widens it
+    for _, l in ipairs(C.wrap(r.set_text, labw)) do labw = math.max(labw, cols(l)) end
+  end
+  for i, r in ipairs(rows) do wrapped[i] = C.wrap(r.set_text, labw) end
+  for i, r in ipairs(rows) do
     local cells = {}
     for i = 1, width do cells[i] = " " end
     if finite(truth) then cells[col(truth)] = "|" end
@@ -88,9 +119,11 @@ local function forest_text(rows, truth)
       cells[col(r.lo)] = "["; cells[col(r.hi)] = "]"
     end
     if finite(r.estimate) then cells[col(r.estimate)] = "*" end
-    local label = r.set_text
-    if (utf8.len(label) or #label) > labw then label = label:sub(1, labw - 3) .. "..." end
-    lines[#lines + 1] = (string.format("  %-" .. labw .. "s  %s", label, table.concat(cells)):gsub("%s+$", ""))
+    local parts = wrapped[i]
+    for j = 1, #parts - 1 do lines[#lines + 1] = "  " .. parts[j] end
+    local last = parts[#parts]
+    lines[#lines + 1] = ("  " .. last .. string.rep(" ", labw - cols(last)) .. "  " ..
+                         table.concat(cells)):gsub("%s+$", "")
   end
   lines[#lines + 1] = string.format("  %-" .. labw .. "s  %-22s%22s", "", E.fmt(lo), E.fmt(hi))
   if truth then lines[#lines + 1] = "  * estimate, [ ] interval, | truth" end
@@ -173,14 +206,22 @@ end
 -- A relative error as a reader uses it: one decimal of a percent.
 local function pct(v) return v ~= v and "NaN" or string.format("%.1f", v) end
 
+-- How the truth was had: said beside it, so that a Monte Carlo value is
+-- never mistaken for an exact one, nor an exact one for a noisy one.
+local function truth_note(c)
+  if c.truth_how == "exact" then
+    return " (exact: every simulated unit has this effect)"
+  elseif c.truth_how == "monte carlo" then
+    return string.format(" (Monte Carlo, %d draws, SE %s)", c.truth_draws, E.fmt(c.truth_se))
+  end
+  return ""
+end
+
 local compare_mt = {__name = "sluice.comparison"}
 function compare_mt.__tostring(c)
   local head = string.format("%s of %s on %s under each candidate set%s (%s)", c.estimand,
                              c.treatment, c.outcome, c.routes and " and route" or "", c.method)
-  if c.truth then
-    head = head .. string.format("; truth %s%s", E.fmt(c.truth),
-                                 c.truth_se and (" (Monte Carlo, SE " .. E.fmt(c.truth_se) .. ")") or "")
-  end
+  if c.truth then head = head .. "; truth " .. E.fmt(c.truth) .. truth_note(c) end
   local cols = {{"set", "set_text", "left"}, {"from", "label", "left"}, {"valid", "valid_text", "left"},
                 {"estimate", "estimate"}, {"interval", "interval", "left"}}
   if c.truth then cols[#cols + 1] = {"error %", "error_pct", nil, pct} end
@@ -221,7 +262,26 @@ end
 
 local allowed = {data = true, graph = true, treatment = true, outcome = true, truth = true,
                  sets = true, method = true, boot = true, seed = true, level = true,
-                 plot = true, estimand = true, threads = true, routes = true, hidden = true}
+                 plot = true, estimand = true, threads = true, routes = true, hidden = true,
+                 draws = true}
+
+-- The draws of the Monte Carlo truth of a model with binary or binarized
+-- nodes, unless draws = says otherwise: an SE near 0.001 for effects of order 1.
+C.truth_draws = 200000
+
+-- Below this SE (relative to the truth) every draw gave the same effect,
+-- up to rounding: the value is exact, not an estimate.
+local EXACT_SE = 1e-9
+
+-- The true effect of x on y in the model m: exact from the closed form, or
+-- by Monte Carlo with draws and seed; returns truth, its SE (nil when
+-- exact) and how it was had ("model", "exact" or "monte carlo").
+function C.model_truth(m, x, y, draws, seed)
+  if m:exact() then return m:effect(x, y), nil, "model" end
+  local truth, se = m:effect(x, y, {draws = draws or C.truth_draws, seed = seed or 1})
+  if se <= EXACT_SE * math.max(1, math.abs(truth)) then return truth, nil, "exact" end
+  return truth, se, "monte carlo"
+end
 
 
 -- The rows of the front-door and IV routes the graph has: each estimated
@@ -335,11 +395,17 @@ function C.compare(a)
   E.choice("compare", "estimand", a.estimand, {"ATE", "ATT", "ATC"}, "ATE")
   E.check_common("compare", a)
   local extra = your_sets(g, a.sets)
-  local truth, truth_se
-  if type(a.truth) == "number" then truth = a.truth
+  local draws = type(a.draws) == "number" and math.tointeger(a.draws) or nil
+  if a.draws ~= nil and not (draws and draws >= 2 and draws <= 100000000) then
+    fail("draws = " .. E.show(a.draws) .. " must be a whole number from 2 to 100000000")
+  end
+  if a.draws ~= nil and not m then
+    fail("draws = sets the Monte Carlo truth of truth = a model from sem(); there is none here")
+  end
+  local truth, truth_se, truth_how
+  if type(a.truth) == "number" then truth, truth_how = a.truth, "given"
   elseif m then
-    if m:exact() then truth = m:effect(x, y)
-    else truth, truth_se = m:effect(x, y, {draws = 200000, seed = a.seed or 1}) end
+    truth, truth_se, truth_how = E.call("compare", C.model_truth, m, x, y, draws, a.seed)
   end
   local rows = candidates(g, x, y, extra)
   local boot = a.boot
@@ -385,6 +451,8 @@ function C.compare(a)
   rows.treatment, rows.outcome, rows.method = x, y, method
   rows.estimand = a.estimand or "ATE"
   rows.truth, rows.truth_se, rows.has_limit = truth, truth_se, has_limit
+  rows.truth_how = truth_how
+  rows.truth_draws = truth_how == "monte carlo" and (draws or C.truth_draws) or nil
   if a.plot then
     local labels, est, lo, hi = {}, {}, {}, {}
     for i, r in ipairs(rows) do

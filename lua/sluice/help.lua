@@ -535,7 +535,7 @@ sem(g, coefs, {binarize = {node = cut}}), which draws the same data.]],
     summary = "False once the model has binary or binarized nodes.",
     example = [[m:exact()]] },
   { name = "compare", topic = "model",
-    sig = "compare{data=, graph=, treatment=, outcome=, truth=, sets=, method=, routes=, hidden=, plot=}",
+    sig = "compare{data=, graph=, treatment=, outcome=, truth=, sets=, method=, routes=, hidden=, plot=, draws=}",
     brief = "Each candidate set's estimate beside the truth",
     returns = "a table, printed with a forest plot",
     summary = [[The estimate under each candidate adjustment set: no adjustment, all observed
@@ -543,7 +543,11 @@ covariates, every minimal set, the optimal set, and the sets you add. For
 each: whether the graph deems it valid (with the reason when not), the
 estimate and its interval (method as in estimate{}; boot defaults to 200
 for standardize), the error in percent of the truth (a finite number, or a
-model from sem(); printed to one decimal, exact in the row's error_pct), and for a linear model m:limit. sets = "z" adds one
+model from sem(); printed to one decimal, exact in the row's error_pct), and for a linear model m:limit. The
+heading says how the truth was had: a model with binary or binarized nodes
+gives it by Monte Carlo (draws = 200000 unless given, seeded by seed =)
+with its SE, or "exact" when the effect is the same in every simulated
+unit (a binary treatment of a linear outcome). sets = "z" adds one
 set; sets = {"z", {"z", "w"}} adds a set per item. routes = true adds a
 row for the graph's front-door set (estimate{method = "frontdoor"}) and
 one for its instrument (method = "iv"), each with its own interval (the
@@ -551,7 +555,9 @@ bootstrap when it has no analytic SE); they are added by default when the
 graph admits no adjustment set, and routes = false leaves them out. A
 route the data cannot take (e.g. a treatment not 0/1 for the front-door)
 is left out with a note. plot = "file.svg" draws the forest plot with the
-truth as a reference line. For teaching, hidden = "u" (with truth = a
+truth as a reference line. Set labels are never cut: in the text forest
+and the picture a long one breaks between names onto more lines, and the
+picture widens to fit. For teaching, hidden = "u" (with truth = a
 linear model whose graph has the hidden node u) rebuilds the model with
 u's coefficients times 0, 0.5, 1, 1.5 and 2 and shows, in a table under the
 comparison, the truth and the value each adjustment set converges to

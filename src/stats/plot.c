@@ -9,6 +9,19 @@
 #include <plplot.h>
 #include "plot.h"
 
+/* The forest plot's lettering: 13 pt characters, which PLplot's drivers
+** draw at a font size 1.34 times the character height; a line of a label
+** every 1.25 font sizes. */
+#define FOREST_FONT_PT 13.0
+#define FOREST_EM_RATIO 1.34
+#define FOREST_LINE 1.25
+/* A label wider than this many em breaks between names onto more lines. */
+#define FOREST_WRAP_EM 22.0
+/* The most lines a label is broken into (the last holds the rest). */
+#define FOREST_LINES_MAX 16
+/* The frame of the forest plot is at least this many points wide. */
+#define FOREST_FRAME_PT 420.0
+
 /* The PLplot device for a path's extension, or NULL. */
 static const char *device_of(const char *path) {
   const char *dot = strrchr(path, '.');
@@ -19,8 +32,9 @@ static const char *device_of(const char *path) {
   return NULL;
 }
 
-/* Check the path can be written and open a stream on it. */
-static int begin(const char *path, sl_error *e) {
+/* Check the path can be written and open a stream on it, a page of w by
+** h points (pixels for PNG). */
+static int begin_sized(const char *path, int w, int h, sl_error *e) {
   const char *dev = device_of(path);
   if (!dev)
     return sl_error_set(e, SL_EARG, 0, 0, "cannot tell the picture format of '%s': "
@@ -32,11 +46,18 @@ static int begin(const char *path, sl_error *e) {
   plmkstrm(&strm);
   plsdev(dev);
   plsfnam(path);
-  plsetopt("geometry", "800x500");
+  char geometry[32];
+  snprintf(geometry, sizeof geometry, "%dx%d", w, h);
+  plsetopt("geometry", geometry);
   plscolbg(255, 255, 255);
   plinit();
   plfontld(1);
   return SL_OK;
+}
+
+/* The pictures of a fixed size. */
+static int begin(const char *path, sl_error *e) {
+  return begin_sized(path, SL_PLOT_WIDTH, SL_PLOT_HEIGHT, e);
 }
 
 static void set_colour(int r, int g, int b) {
@@ -96,11 +117,72 @@ int sl_plot_histograms(const char *path, const char *title, const char *xlabel,
   return SL_OK;
 }
 
+/* Advance widths of DejaVu Sans for U+0020..U+007E, in 1/2048 em, read
+** from its hmtx table.  It is among the widest common sans-serif faces, so
+** a label measured by it fits in the face a viewer picks for "sans-serif". */
+static const unsigned short dejavu_sans_ascii[95] = {
+  651, 821, 942, 1716, 1303, 1946, 1597, 563, 799, 799, 1024, 1716, 651, 739, 651, 690,
+  1303, 1303, 1303, 1303, 1303, 1303, 1303, 1303, 1303, 1303, 690, 690, 1716, 1716, 1716, 1087,
+  2048, 1401, 1405, 1430, 1577, 1294, 1178, 1587, 1540, 604, 604, 1343, 1141, 1767, 1532, 1612,
+  1235, 1612, 1423, 1300, 1251, 1499, 1401, 2025, 1403, 1251, 1403, 799, 690, 799, 1716, 1024,
+  1024, 1255, 1300, 1126, 1300, 1260, 721, 1300, 1298, 569, 569, 1186, 569, 1995, 1298, 1253,
+  1300, 1300, 842, 1067, 803, 1298, 1212, 1675, 1212, 1212, 1075, 1303, 690, 1303, 1716};
+
+/* The width in em of the n bytes of UTF-8 at s: any other character than
+** printable ASCII counts as a full em, which no common glyph exceeds. */
+static double text_em(const char *s, size_t n) {
+  double w = 0;
+  for (size_t i = 0; i < n; i++) {
+    unsigned char c = (unsigned char)s[i];
+    if (c >= 0x20 && c < 0x7f) w += dejavu_sans_ascii[c - 0x20] / 2048.0;
+    else if ((c & 0xc0) != 0x80) w += 1.0;   /* the first byte of a character */
+  }
+  return w;
+}
+
+/* The text as PLplot draws it literally: its escape character # doubled. */
+static char *plain_text(const char *s, size_t n) {
+  char *t = malloc(2 * n + 1), *o = t;
+  if (!t) return NULL;
+  for (size_t i = 0; i < n; i++) {
+    if (s[i] == '#') *o++ = '#';
+    *o++ = s[i];
+  }
+  *o = 0;
+  return t;
+}
+
+/* A label broken into lines no wider than max_em where it can be: breaks
+** fall at spaces outside double quotes (between the names of a set, never
+** inside one); a part wider than max_em keeps a line of its own.  Fills
+** start/len of at most cap lines; returns the count. */
+static size_t wrap_label(const char *s, double max_em, size_t *start, size_t *len, size_t cap) {
+  size_t n = strlen(s), k = 0, line = 0, last_break = 0;
+  int quoted = 0, have_break = 0;
+  for (size_t i = 0; i < n; i++) {
+    if (s[i] == '"') quoted = !quoted;
+    if (s[i] != ' ' || quoted || i == line) continue;
+    if (have_break && text_em(s + line, i - line) > max_em && k + 1 < cap) {
+      start[k] = line; len[k++] = last_break - line;
+      line = last_break + 1;
+    }
+    last_break = i; have_break = 1;
+  }
+  if (have_break && text_em(s + line, n - line) > max_em && last_break > line && k + 1 < cap) {
+    start[k] = line; len[k++] = last_break - line;
+    line = last_break + 1;
+  }
+  start[k] = line; len[k++] = n - line;
+  return k;
+}
+
 int sl_plot_forest(const char *path, const char *title, const char *xlabel,
                    const char *const *labels, const double *est, const double *lo,
                    const double *hi, size_t n, double ref, const char *reflabel,
                    sl_error *e) {
   if (n == 0) return sl_error_set(e, SL_EARG, 0, 0, "nothing to plot");
+  if (n > SL_PLOT_ROWS_MAX)
+    return sl_error_set(e, SL_EARG, 0, 0, "a forest plot holds at most %d rows", SL_PLOT_ROWS_MAX);
   double xmin = INFINITY, xmax = -INFINITY;
   for (size_t i = 0; i < n; i++) {
     double v[3] = {est[i], lo[i], hi[i]};
@@ -110,17 +192,55 @@ int sl_plot_forest(const char *path, const char *title, const char *xlabel,
   if (isfinite(ref)) { if (ref < xmin) xmin = ref; if (ref > xmax) xmax = ref; }
   if (!isfinite(xmin)) return sl_error_set(e, SL_EARG, 0, 0, "no finite estimate to plot");
   double pad = (xmax - xmin) * 0.08 + 1e-9;
-  int rc = begin(path, e);
-  if (rc) return rc;
+  /* the lines of every label, and the widest line and most lines of any */
+  size_t *start = malloc(n * FOREST_LINES_MAX * sizeof *start);
+  size_t *len = malloc(n * FOREST_LINES_MAX * sizeof *len), *nl = malloc(n * sizeof *nl);
+  if (!start || !len || !nl) {
+    free(start); free(len); free(nl);
+    return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  }
+  double wide = 0;
+  size_t most = 1;
+  for (size_t i = 0; i < n; i++) {
+    size_t *s0 = start + i * FOREST_LINES_MAX, *l0 = len + i * FOREST_LINES_MAX;
+    nl[i] = wrap_label(labels[i], FOREST_WRAP_EM, s0, l0, FOREST_LINES_MAX);
+    for (size_t j = 0; j < nl[i]; j++) {
+      double w = text_em(labels[i] + s0[j], l0[j]);
+      if (w > wide) wide = w;
+    }
+    if (nl[i] > most) most = nl[i];
+  }
+  /* the page: room for the labels left of the frame, a frame as wide as
+  ** the title, and rows tall enough for the most lines of a label */
+  double em = FOREST_FONT_PT * FOREST_EM_RATIO;
+  double left = (wide + 1.0) * em + FOREST_FONT_PT;   /* plmtex's gap is one height */
+  double frame = fmax(FOREST_FRAME_PT, (text_em(title, strlen(title)) + 2) * em);
+  double right = fmax(0.05 * SL_PLOT_WIDTH,
+                      (reflabel ? text_em(reflabel, strlen(reflabel)) / 2 + 1 : 1) * em);
+  double width = fmax(SL_PLOT_WIDTH, left + frame + right);
+  double row = (double)most * FOREST_LINE * em + 0.4 * em;
+  double height = fmax(SL_PLOT_HEIGHT, (double)(n + 1) * row / (0.90 - 0.12));
+  int rc = begin_sized(path, (int)ceil(width), (int)ceil(height), e);
+  if (rc) { free(start); free(len); free(nl); return rc; }
+  width = ceil(width); height = ceil(height);
+  plschr(FOREST_FONT_PT * 25.4 / 72, 1.0);
   set_colour(0, 0, 0);
   pladv(0);
-  plvpor(0.32, 0.95, 0.12, 0.90);
+  plvpor(left / width, 1 - right / width, 0.12, 0.90);
   plwind(xmin - pad, xmax + pad, 0, (double)n + 1);
   plbox("bcnst", 0, 0, "bc", 0, 0);
   pllab(xlabel, "", title);
-  for (size_t i = 0; i < n; i++) {
+  double step = FOREST_LINE * em / ((0.90 - 0.12) * height);   /* a line, as a share of the frame */
+  for (size_t i = 0; i < n && rc == SL_OK; i++) {
     double y = (double)(n - i);
-    plmtex("lv", 1.0, y / ((double)n + 1), 1.0, labels[i]);   /* left of the frame */
+    for (size_t j = 0; j < nl[i]; j++) {   /* left of the frame, centred on the row */
+      size_t at = i * FOREST_LINES_MAX + j;
+      char *t = plain_text(labels[i] + start[at], len[at]);
+      if (!t) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); break; }
+      double pos = y / ((double)n + 1) + ((double)(nl[i] - 1) / 2 - (double)j) * step;
+      plmtex("lv", 1.0, pos, 1.0, t);
+      free(t);
+    }
     if (isfinite(lo[i]) && isfinite(hi[i])) {
       PLFLT x[2] = {lo[i], hi[i]}, yy[2] = {y, y};
       plwidth(2);
@@ -131,16 +251,19 @@ int sl_plot_forest(const char *path, const char *title, const char *xlabel,
       plpoin(1, &x, &yy, 17);
     }
   }
-  if (isfinite(ref)) {
+  if (isfinite(ref) && rc == SL_OK) {
     set_colour(200, 60, 40);
     pllsty(2);
     PLFLT x[2] = {ref, ref}, y[2] = {0, (double)n + 1};
     plline(2, x, y);
     pllsty(1);
-    if (reflabel) plptex(ref, (double)n + 0.6, 1, 0, 0.5, reflabel);
+    char *t = reflabel ? plain_text(reflabel, strlen(reflabel)) : NULL;
+    if (t) plptex(ref, (double)n + 0.6, 1, 0, 0.5, t);
+    free(t);
   }
   plend1();
-  return SL_OK;
+  free(start); free(len); free(nl);
+  return rc;
 }
 
 /* A round step (1, 2 or 5 times a power of ten) giving about k levels. */

@@ -16,8 +16,18 @@ int sl_plot_histograms(const char *path, const char *title, const char *xlabel,
                        const double *b, size_t nb, const char *blabel,
                        double lo, double hi, int nbins, sl_error *e);
 
+/* The size of a picture in points (pixels for PNG); a forest plot grows
+** beyond it to show every label whole. */
+#define SL_PLOT_WIDTH 800
+#define SL_PLOT_HEIGHT 500
+
+/* The most rows of a forest plot. */
+#define SL_PLOT_ROWS_MAX 1000
+
 /* One row per estimate: a point and its interval; ref (NaN: none) is drawn
-** as a vertical line and labelled reflabel. */
+** as a vertical line and labelled reflabel.  Labels are never cut: a long
+** one breaks between names (at spaces outside double quotes) onto more
+** lines, and the page widens and grows taller until each fits. */
 int sl_plot_forest(const char *path, const char *title, const char *xlabel,
                    const char *const *labels, const double *est, const double *lo,
                    const double *hi, size_t n, double ref, const char *reflabel,
