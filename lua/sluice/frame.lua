@@ -20,6 +20,11 @@ local function cut(s, n)
   return s:sub(1, stop - 1) .. "..."
 end
 
+-- A text with its line breaks escaped, so that it keeps to one line.
+local function visible(s)
+  return (s:gsub("\n", "\\n"):gsub("\r", "\\r"))
+end
+
 -- A cell as shown in a frame: numbers in up to 6 significant digits,
 -- missing as NA, texts with line breaks escaped.
 local function cell(v)
@@ -28,7 +33,7 @@ local function cell(v)
     if v == math.floor(v) and math.abs(v) < 1e15 then return string.format("%d", v) end
     return string.format("%.6g", v)
   end
-  return cut((v:gsub("\n", "\\n"):gsub("\r", "\\r")), F.max_width)
+  return cut(visible(v), F.max_width)
 end
 
 -- A number in a summary: 4 significant digits.
@@ -56,30 +61,66 @@ function F.align(rows, right)
   return out
 end
 
--- tostring(f): names, types and the first rows.
+F.line_width = 80     -- the line of column types wraps at this width
+
+-- Words joined by sep into lines of at most F.line_width characters (a
+-- word longer than that stands alone), lines after the first indented.
+local function wrap(words, sep)
+  local lines, cur = {}, ""
+  for i, w in ipairs(words) do
+    local piece = w .. (i < #words and sep[i] or "")
+    local trimmed = (cur .. piece):gsub("%s+$", "")
+    if cur ~= "" and cur ~= "  " and width(trimmed) > F.line_width then
+      lines[#lines + 1] = (cur:gsub("%s+$", ""))
+      cur = "  "
+    end
+    cur = cur .. piece
+  end
+  lines[#lines + 1] = (cur:gsub("%s+$", ""))
+  return lines
+end
+
+-- The first line(s) of tostring(f): how many rows, which are shown, and
+-- the columns by type, in the words of c.type ("number", "category").
+local function types_line(f, names, cols, shown)
+  local n = #f
+  local head = string.format("data frame, %d %s", n, n == 1 and "row" or "rows")
+  if shown < n then head = head .. string.format(" (the first %d shown)", shown) end
+  local words, seps = {head}, {}
+  local groups = {{"number", "numbers: "}, {"category", "categories: "}}
+  for _, g in ipairs(groups) do
+    local first = true
+    for j, name in ipairs(names) do
+      if cols[j].type == g[1] then
+        seps[#words] = first and "; " or ", "
+        words[#words + 1] = (first and g[2] or "") .. visible(name)
+        first = false
+      end
+    end
+  end
+  if #names == 0 then seps[1] = "; "; words[2] = "no columns" end
+  return wrap(words, seps)
+end
+
+-- tostring(f): a line saying the size and the column types, then a
+-- table of the first rows, each led by its row number.
 function F.frame_text(f)
   local names = f:names()
-  local head = {"", table.unpack(names)}
-  local types, right = {""}, {true}
-  local cols = {}
+  local head, right, cols = {"row"}, {true}, {}
   for j, name in ipairs(names) do
-    local c = f:column(name)
-    cols[j] = c
-    types[j + 1] = c.type == "number" and "<num>" or "<cat>"
-    right[j + 1] = c.type == "number"
+    head[j + 1] = visible(name)
+    cols[j] = f:column(name)
+    right[j + 1] = cols[j].type == "number"
   end
-  local rows = {head, types}
+  local rows = {head}
   local shown = math.min(#f, F.max_rows)
   for i = 1, shown do
     local r = {tostring(i)}
     for j, c in ipairs(cols) do r[j + 1] = cell(c[i]) end
     rows[#rows + 1] = r
   end
-  local lines = F.align(rows, right)
-  if #f > shown then
-    lines[#lines + 1] = string.format("... %d more rows", #f - shown)
-  end
-  lines[#lines + 1] = string.format("(%d rows, %d columns)", #f, #names)
+  local lines = types_line(f, names, cols, shown)
+  for _, l in ipairs(F.align(rows, right)) do lines[#lines + 1] = l end
   return table.concat(lines, "\n")
 end
 
@@ -94,12 +135,13 @@ end
 
 local summary_cols = {"mean", "sd", "min", "q1", "median", "q3", "max"}
 
--- tostring(f:summary()): one line per column.
+-- tostring(f:summary()): one line per column, its type in the words of
+-- c.type.
 function F.summary_text(s)
-  local rows = {{"column", "n", "missing", "levels", table.unpack(summary_cols)}}
-  local right = {false, true, true, true, true, true, true, true, true, true, true}
+  local rows = {{"column", "type", "n", "missing", "levels", table.unpack(summary_cols)}}
+  local right = {false, false, true, true, true, true, true, true, true, true, true, true}
   for _, r in ipairs(s) do
-    local line = {r.column, tostring(r.n), tostring(r.missing),
+    local line = {r.column, r.type or "", tostring(r.n), tostring(r.missing),
                   r.levels and tostring(r.levels) or ""}
     for _, k in ipairs(summary_cols) do line[#line + 1] = num4(r[k]) end
     rows[#rows + 1] = line

@@ -57,15 +57,20 @@ name suggests the closest one.]],
     brief = "Counts, mean, sd and quartiles of every column",
     returns = "list of {column=, type=, n=, missing=, mean=, sd=, min=, q1=, median=, q3=, max=}",
     summary = [[One row per column over its non-missing values; it prints as a table (4
-significant digits). sd divides by n - 1; quartiles by the type-7 rule
-(R's default). A categorical column has n, missing and levels (how many).]],
+significant digits) with each column's type ("number" or "category"). sd
+divides by n - 1; quartiles by the type-7 rule (R's default). A categorical
+column has n, missing and levels (how many).]],
     example = [[plots:summary()]] },
   { name = "f:head", topic = "data",
     sig = "f:head([n])",
     brief = "The first rows of a frame",
     returns = "a frame of the first n rows (default 6)",
-    summary = [[The first n rows as a new frame. tostring(f) shows the first 10 rows of any
-frame with the column types.]],
+    summary = [[The first n rows as a new frame. tostring(f) (what the prompt shows for a
+frame) begins with one line that gives the number of rows and the columns by
+type, in the words of c.type: "data frame, 200 rows (the first 10 shown);
+numbers: age, yield; categories: soil", wrapped at 80 columns; then a table
+of the first 10 rows, each led by its row number (as for f:row(i)), missing
+values shown as NA.]],
     example = [[plots:head(3)]] },
   { name = "f:binarize", topic = "data",
     sig = "f:binarize(col, cut, [name])",

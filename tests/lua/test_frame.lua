@@ -78,26 +78,26 @@ test("summary (pandas) and its printed table", function()
   eq(s[2].levels, 3)
   eq(s[2].mean, nil)
   local text = tostring(s)
-  eq(text:find("column%s+n%s+missing%s+levels%s+mean%s+sd%s+min%s+q1%s+median%s+q3%s+max") ~= nil,
-     true, "header line")
+  eq(text:find("column%s+type%s+n%s+missing%s+levels%s+mean%s+sd%s+min%s+q1%s+median%s+q3%s+max")
+     ~= nil, true, "header line")
   -- 4 significant digits: 67.43, 8.547, 61.88
-  eq(text:find("rain%s+7%s+1%s+67.43%s+8.547%s+55%s+61.88%s+68.5%s+72.25%s+80.25") ~= nil,
-     true, "rain line:\n" .. text)
-  eq(text:find("variety%s+8%s+0%s+3\n") ~= nil, true, "variety line")
+  eq(text:find("rain%s+number%s+7%s+1%s+67.43%s+8.547%s+55%s+61.88%s+68.5%s+72.25%s+80.25")
+     ~= nil, true, "rain line:\n" .. text)
+  eq(text:find("variety%s+category%s+8%s+0%s+3\n") ~= nil, true, "variety line")
 end)
 
-test("tostring of a frame: first rows, types, more rows", function()
+test("tostring of a frame: types, first rows, more rows (see test_frame_print.lua)", function()
   local f = read_csv(D .. "orchard.csv")
   local text = tostring(f)
   local lines = {}
   for l in text:gmatch("[^\n]+") do lines[#lines + 1] = l end
-  eq(lines[1]:match("^%s+plot%s+variety%s+rain%s+yield%s+pests$") ~= nil, true, lines[1])
-  eq(lines[2]:find("<num>%s+<cat>%s+<num>") ~= nil, true, lines[2])
-  eq(lines[3]:find("^1%s+1%s+gala%s+71.5%s+12.25%s+3$") ~= nil, true, lines[3])
-  eq(lines[#lines], "(8 rows, 5 columns)")
+  eq(lines[1], "data frame, 8 rows; numbers: plot, rain, yield, pests; categories: variety")
+  eq(lines[2]:match("^row%s+plot%s+variety%s+rain%s+yield%s+pests$") ~= nil, true, lines[2])
+  eq(lines[3]:find("^%s*1%s+1%s+gala%s+71.5%s+12.25%s+3$") ~= nil, true, lines[3])
+  eq(#lines, 10, "the types, the header and 8 rows")
   local big
   warnings_of(function() big = read_csv(D .. "typo.csv", {coerce = true}) end)
-  eq(tostring(big):find("... 10 more rows", 1, true) ~= nil, true, "20 rows show 10")
+  eq(tostring(big):find("20 rows (the first 10 shown)", 1, true) ~= nil, true, "20 rows show 10")
   eq(tostring(f.yield), "yield (number, 8 rows, 2 missing): 12.25, 10.5, NA, 8.75, 11, NA, 9.5, 10.25")
 end)
 
