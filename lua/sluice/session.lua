@@ -11,7 +11,9 @@ local M, hooks            -- the module and the hooks table, set by install
 local P = require "sluice.print"
 -- kept now: a replay child hides the debug library before the log runs
 local getinfo, registry = debug.getinfo, debug.getregistry()
+local getupvalue, upvaluejoin = debug.getupvalue, debug.upvaluejoin
 local T = require "sluice.logtext"
+local K = require "sluice.chunks"
 
 local stdout = io.stdout
 local file_methods = getmetatable(io.stdout).__index
@@ -214,6 +216,139 @@ function S.show(...)
     io.stdout:write(s)
   end
   io.stdout:flush()
+end
+
+-- ---- top-level locals: kept from one input to the next ----
+--
+-- An input runs as its own chunk, so a top-level "local x" would end with
+-- it.  Instead each input is compiled inside a wrapper that declares the
+-- session's locals the input names, and whose inner function (the input)
+-- has its upvalues joined to the variables themselves: a closure of an
+-- earlier input and the input now share one variable, as they would in one
+-- script.  The input's own declarations stay real locals; at its end a
+-- hidden call hands over a closure for each, through which the next input
+-- reaches the variable.  So shadowing, closures and "local function f" keep
+-- Lua's meaning.  A <const> local is passed on as a value and redeclared
+-- <const>; a <close> local is closed when its input ends and is not kept.
+-- An input that fails keeps none of its locals.
+
+-- At most this many session locals named in one input (Lua allows 200
+-- locals in a function).
+S.MAX_LOCALS = 180
+local KEEP = "__sluice_keep"   -- the wrapper's name for the hand-over call
+
+-- A fresh set of session locals: kind[name] is "cell" (cell[name] is a
+-- closure whose first upvalue is the variable) or "const" (value[name]).
+function S.locals_new() return {kind = {}, cell = {}, value = {}} end
+S.locals = S.locals_new()     -- the shell's own session
+
+-- The last top-level declaration of each name, in order; <close> ones and
+-- names the wrapper needs for itself are left out.
+local function kept_decls(decls)
+  local last, order, out = {}, {}, {}
+  for _, d in ipairs(decls) do
+    if not last[d.name] then order[#order + 1] = d.name end
+    last[d.name] = d
+  end
+  for _, name in ipairs(order) do
+    local d = last[name]
+    if d.attrib ~= "close" and name ~= KEEP then out[#out + 1] = d end
+  end
+  return out
+end
+
+-- The hand-over call of one input: it takes one closure per kept local,
+-- each defined in this very chunk (source) over the variable of that name,
+-- and records them in st.  Anything else is ignored, so code that calls it
+-- itself can only hand over its own variables.
+local function hand_over(st, source, decls)
+  return function(...)
+    if select("#", ...) ~= #decls then return end
+    local got = {}
+    for i, d in ipairs(decls) do
+      local f = select(i, ...)
+      if type(f) ~= "function" then return end
+      local info = getinfo(f, "S")
+      local up = getupvalue(f, 1)
+      if not info or info.source ~= source or info.what ~= "Lua" then return end
+      if up ~= d.name and not (d.attrib == "const" and up == nil) then return end
+      got[i] = f
+    end
+    for i, d in ipairs(decls) do
+      if d.attrib == "const" then
+        st.kind[d.name], st.cell[d.name], st.value[d.name] = "const", nil, got[i]()
+      else
+        st.kind[d.name], st.cell[d.name], st.value[d.name] = "cell", got[i], nil
+      end
+    end
+  end
+end
+
+local function compile(text, name, env)
+  if env == nil then return real.load(text, name, "t") end
+  return real.load(text, name, "t", env)
+end
+
+-- The text of the wrapper around code: consts (passed as values), cells
+-- (joined afterwards), and the hand-over call of decls before a top-level
+-- return or at the end.
+local function wrapper_text(code, consts, cells, decls, ret)
+  local head = {"local ", KEEP}
+  for _, name in ipairs(consts) do head[#head + 1] = ", " .. name .. " <const>" end
+  head[#head + 1] = " = ...;"
+  if #cells > 0 then head[#head + 1] = " local " .. table.concat(cells, ", ") .. ";" end
+  head[#head + 1] = " return function(...) "
+  local body = code
+  if #decls > 0 then
+    local ks = {}
+    for i, d in ipairs(decls) do ks[i] = "function() return " .. d.name .. " end" end
+    local call = ";" .. KEEP .. "(" .. table.concat(ks, ", ") .. ")"
+    if ret then body = code:sub(1, ret - 1) .. call .. " " .. code:sub(ret)
+    else body = code .. "\n" .. call end
+  end
+  return table.concat(head) .. body .. "\nend"
+end
+
+-- Compile one input of a session: like load(code, name, "t", env), but
+-- the input sees the session locals of st (default: the shell's own) and
+-- leaves its own top-level locals there when it ends.  Returns the
+-- function, or nil and the message of a syntax error (the same message as
+-- load gives).
+function S.load_entry(code, name, env, st)
+  st = st or S.locals
+  local fn, err = compile(code, name, env)
+  if not fn then return nil, err end
+  local sc = K.scan(code)
+  local consts, cells = {}, {}
+  for nm in pairs(sc.names) do
+    if st.kind[nm] == "const" then consts[#consts + 1] = nm
+    elseif st.kind[nm] == "cell" then cells[#cells + 1] = nm end
+  end
+  local decls = kept_decls(sc.locals)
+  if #consts + #cells + #decls == 0 then return fn end
+  if #consts + #cells > S.MAX_LOCALS then
+    return nil, string.format("%s: more than %d of the session's locals named in one input",
+                              (name:gsub("^[=@]", "")), S.MAX_LOCALS)
+  end
+  table.sort(consts)
+  table.sort(cells)
+  local wrap = compile(wrapper_text(code, consts, cells, decls, sc.ret), name, env)
+  if not wrap then   -- a label at the end that the hand-over would follow
+    decls = {}
+    wrap, err = compile(wrapper_text(code, consts, cells, decls, nil), name, env)
+    if not wrap then return nil, err end
+  end
+  local values = {}
+  for i, nm in ipairs(consts) do values[i] = st.value[nm] end
+  local inner = wrap(hand_over(st, name, decls), table.unpack(values, 1, #consts))
+  local is_cell = {}
+  for _, nm in ipairs(cells) do is_cell[nm] = true end
+  for i = 1, 255 do
+    local up = getupvalue(inner, i)
+    if up == nil then break end
+    if is_cell[up] then upvaluejoin(inner, i, st.cell[up], 1) end
+  end
+  return inner
 end
 
 -- ---- writing files: pictures recorded, writes checked in the sandbox ----
@@ -461,6 +596,7 @@ function S.install(mod, metas, hk)
   hooks.session_out = out
   hooks.session_end = finish
   hooks.session_skip = skipped
+  hooks.session_load = function(code, name) return S.load_entry(code, name) end
   hooks.session_start = function()
     S.started = S.started or stamp()
     wrap_output()

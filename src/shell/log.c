@@ -183,3 +183,24 @@ void log_skip(lua_State *L, int n, const char *text, const char *msg) {
   lua_pushstring(L, msg ? msg : "");
   call_hook(L, "session_skip", 3, 0);
 }
+
+/* hooks.session_load(code, name): the input as a function, or nil and the
+** message of a syntax error. */
+int log_load(lua_State *L, const char *code, size_t len, const char *name) {
+  if (!get_hook(L, "session_load"))
+    return luaL_loadbuffer(L, code, len, name);
+  lua_pushlstring(L, code, len);
+  lua_pushstring(L, name);
+  if (lua_pcall(L, 2, 2, 0) != LUA_OK)
+    return LUA_ERRSYNTAX;            /* the message is on top */
+  if (lua_isfunction(L, -2)) {
+    lua_pop(L, 1);
+    return LUA_OK;
+  }
+  lua_remove(L, -2);
+  if (!lua_isstring(L, -1)) {
+    lua_pop(L, 1);
+    lua_pushstring(L, "the input could not be compiled");
+  }
+  return LUA_ERRSYNTAX;
+}

@@ -26,4 +26,10 @@ void log_out(lua_State *L, const char *s, size_t len);
 void log_end(lua_State *L, const char *msg, int nres);
 void log_skip(lua_State *L, int n, const char *text, const char *msg);
 
+/* Compile one input of the session as lua_load does (status, and the
+** function or the message on top), so that it sees the session's
+** top-level locals and keeps its own (sluice.session's load_entry); plain
+** luaL_loadbuffer when the session layer is missing. */
+int log_load(lua_State *L, const char *code, size_t len, const char *name);
+
 #endif

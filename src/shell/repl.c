@@ -102,19 +102,29 @@ static int append(repl *R, const char *line) {
   return 1;
 }
 
-/* Compile the chunk, first as "return chunk", then as it is. */
+/* Compile the chunk, first as "return chunk", then as it is.  Once the
+** text compiles, the session compiles it again, so that the input sees the
+** top-level locals of the inputs before it (log_load). */
 static int compile(repl *R) {
   lua_State *L = R->L;
   char name[32];
   snprintf(name, sizeof name, "=[input %d]", R->count);
   const char *code = lua_pushfstring(L, "return %s", R->chunk);
-  int status = luaL_loadbuffer(L, code, lua_rawlen(L, -1), name);
-  lua_remove(L, -2);
+  size_t len = lua_rawlen(L, -1);
+  int status = luaL_loadbuffer(L, code, len, name);
   R->expr = status == LUA_OK;
-  if (status == LUA_OK)
+  if (status == LUA_OK) {
+    lua_pop(L, 1);
+    status = log_load(L, code, len, name);
+    lua_remove(L, -2);
+    return status;
+  }
+  lua_pop(L, 2);
+  status = luaL_loadbuffer(L, R->chunk, R->len, name);
+  if (status != LUA_OK)
     return status;
   lua_pop(L, 1);
-  return luaL_loadbuffer(L, R->chunk, R->len, name);
+  return log_load(L, R->chunk, R->len, name);
 }
 
 /* Is the syntax error on top one that more lines could mend? */
