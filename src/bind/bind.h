@@ -48,6 +48,19 @@ sl_reasons *sl_bind_push_reason_box(lua_State *L);
 /* A value as the user would write it, for messages: 2.5, nan, "x", a table. */
 const char *sl_bind_value_text(lua_State *L, int idx);
 
+/* Push "file:line: " of the line the user wrote: the first frame from
+** level up outside the embedded Lua layer, or "" when that is a C
+** function (bind_public.c). */
+void sl_bind_where(lua_State *L, int level);
+/* Raise the message on top as the error of public function name: at the
+** user's line (found from level up), under the public name, without
+** sluice's insides; "interrupted" is raised as it is. */
+int sl_bind_public_error(lua_State *L, const char *name, int level);
+/* Call every function of the table at idx (but names beginning with '_')
+** through a wrapper that raises its errors as public function
+** prefix..name would (sl_bind_public_error). */
+void sl_bind_publish(lua_State *L, int idx, const char *prefix);
+
 /* Raise "fname: message" (printf-style) at the user's line. */
 int sl_bind_opt_error(lua_State *L, const char *fname, const char *fmt, ...);
 /* Refuse an option of the table at idx that is not in known, suggesting the

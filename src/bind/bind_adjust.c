@@ -181,6 +181,7 @@ static int l_count_trails(lua_State *L) {
   sl_graph *g = sl_bind_checkgraph(L, 1);
   int32_t *x, *y;
   size_t nx, ny;
+  lua_settop(L, 3);   /* a missing outcome is nil, not the set pushed for x */
   check_xy(L, g, &x, &nx, &y, &ny);
   trail_ctx c = {L, g, NULL, NULL, 0, 0, 0};
   sl_error e;

@@ -793,13 +793,12 @@ static void new_meta(lua_State *L, const char *name, const luaL_Reg *meta,
                      const luaL_Reg *methods, lua_CFunction index) {
   luaL_newmetatable(L, name);
   luaL_setfuncs(L, meta, 0);
-  lua_newtable(L);
-  luaL_setfuncs(L, methods, 0);
+  lua_newtable(L);                   /* listed for help and completion, */
+  luaL_setfuncs(L, methods, 0);      /* and made public (bind_public.c) */
+  lua_pushvalue(L, -1);
+  lua_setfield(L, -3, "methods");
   lua_pushcclosure(L, index, 1);
   lua_setfield(L, -2, "__index");
-  lua_newtable(L);                   /* listed for help and completion */
-  luaL_setfuncs(L, methods, 0);
-  lua_setfield(L, -2, "methods");
   lua_pop(L, 1);
 }
 

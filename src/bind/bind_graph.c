@@ -8,24 +8,11 @@
 
 typedef struct graph_box { sl_graph *g; } graph_box;
 
-/* Push "file:line: " of the caller the user wrote: the first frame outside
-** the embedded Lua layer (lua/sluice), or "" when that is a C function. */
-static void where(lua_State *L) {
-  lua_Debug ar;
-  for (int level = 1; lua_getstack(L, level, &ar); level++) {
-    lua_getinfo(L, "Sl", &ar);
-    if (ar.source && strncmp(ar.source, "@lua/sluice/", 12) == 0) continue;
-    if (ar.currentline > 0) { lua_pushfstring(L, "%s:%d: ", ar.short_src, ar.currentline); return; }
-    break;
-  }
-  lua_pushliteral(L, "");
-}
-
 int sl_bind_raise(lua_State *L, const sl_error *e, const char *prefix,
                   const char *src, size_t srclen) {
   char buf[SL_MSG_MAX + 512];
   sl_error_format(e, src, srclen, buf, sizeof buf);
-  where(L);
+  sl_bind_where(L, 1);
   if (prefix) lua_pushfstring(L, "%s: %s", prefix, buf);
   else lua_pushstring(L, buf);
   lua_concat(L, 2);

@@ -313,8 +313,8 @@ static int l_limit(lua_State *L) {
   int32_t *ids = sl_bind_checkset(L, g, 4, &k, 1);
   int *set = lua_newuserdatauv(L, (k ? k : 1) * sizeof *set, 0);
   for (size_t i = 0; i < k; i++) {
-    if (ids[i] == x || ids[i] == y) luaL_argerror(L, 3, "the set may not hold the treatment or the outcome");
-    if (sl_graph_is_hidden(g, ids[i])) luaL_argerror(L, 3, "a hidden node has no data");
+    if (ids[i] == x || ids[i] == y) luaL_argerror(L, 4, "the set may not hold the treatment or the outcome");
+    if (sl_graph_is_hidden(g, ids[i])) luaL_argerror(L, 4, "a hidden node has no data");
     set[i] = ids[i];
   }
   uint64_t seed;

@@ -41,6 +41,27 @@ static void require(lua_State *L, const char *name) {
   lua_call(L, 1, 1);
 }
 
+/* Every public function and method raises its errors at the user's line
+** under its public name (bind_public.c); the model of ols{} and logit{}
+** is metas.model, dressed by the Lua layer. */
+static void publish(lua_State *L, int module, int metas) {
+  static const struct { const char *mt, *field, *prefix; } tables[] = {
+    {SL_GRAPH_MT, "__index", "g:"}, {"sluice.frame", "methods", "f:"},
+    {"sluice.column", "methods", "c:"}, {"sluice.sem", "__index", "m:"},
+    {"sluice.identified", "__index", "r:"},
+  };
+  int top = lua_gettop(L);
+  sl_bind_publish(L, module, "");
+  for (size_t i = 0; i < sizeof tables / sizeof tables[0]; i++) {
+    luaL_getmetatable(L, tables[i].mt);
+    if (lua_istable(L, -1) && lua_getfield(L, -1, tables[i].field) == LUA_TTABLE)
+      sl_bind_publish(L, -1, tables[i].prefix);
+    lua_settop(L, top);
+  }
+  if (lua_getfield(L, metas, "model") == LUA_TTABLE) sl_bind_publish(L, -1, "m:");
+  lua_settop(L, top);
+}
+
 int luaopen_sluice(lua_State *L) {
   luaL_checkversion(L);
   /* GSL's default handler aborts the process; the library checks the
@@ -90,6 +111,7 @@ int luaopen_sluice(lua_State *L) {
     } else lua_pop(L, 1);
     lua_pop(L, 1);
   }
+  publish(L, metas_at - 1, metas_at);
   lua_replace(L, metas_at - 1);             /* leave just the module */
   lua_settop(L, metas_at - 1);
   return 1;

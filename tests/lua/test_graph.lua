@@ -91,10 +91,10 @@ end)
 
 test("argument errors name the position and suggest names", function()
   raises(function() return orchard:parents "soill" end,
-         "bad argument #1 to 'parents'", "no node 'soill' in the graph; did you mean 'soil'?")
-  raises(function() return orchard:ancestors {"rain", 3} end, "bad argument #1 to 'ancestors'",
+         "bad argument #1 to 'g:parents'", "no node 'soill' in the graph; did you mean 'soil'?")
+  raises(function() return orchard:ancestors {"rain", 3} end, "bad argument #1 to 'g:ancestors'",
          "node names are strings")
-  raises(function() return orchard.parents(nil, "x") end, "sluice.graph expected")
+  raises(function() return orchard.parents(nil, "x") end, "g:parents: call it on a graph")
 end)
 
 test("read_graph names the file on an error", function()

@@ -145,7 +145,7 @@ test("errors of the wrapped writers point at the caller's line, not at sluice", 
   local e = at(function() return d["nope"] end)
   eq(e:find("^tests/lua/test_session.lua:%d+: no column 'nope'") ~= nil, true, e)
   e = at(function() return d:write_csv("/nonexistent-folder/x.csv") end)
-  eq(e:find("^tests/lua/test_session.lua:%d+: write_csv: cannot write") ~= nil, true, e)
+  eq(e:find("^tests/lua/test_session.lua:%d+: f:write_csv: cannot write") ~= nil, true, e)
   e = at(function() return d:write_csv() end)
   eq(e:find("^tests/lua/test_session.lua:%d+: f:write_csv: a file name expected") ~= nil, true, e)
   e = at(function() return graph("a -> b"):draw("/nonexistent-folder/x.svg") end)
