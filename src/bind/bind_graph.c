@@ -94,7 +94,7 @@ static int l_graph(lua_State *L) {
   const char *text = check_text(L, 1, &len);
   sl_error e;
   sl_graph *g = sl_graph_parse(text, len, &e);
-  if (!g) return sl_bind_raise(L, &e, "graph notation", text, len);
+  if (!g) return sl_bind_raise(L, &e, "graph", text, len);
   sl_bind_pushgraph(L, g);
   return 1;
 }

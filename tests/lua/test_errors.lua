@@ -394,3 +394,74 @@ test("the known failures are all real cases", function()
   end
   for id in pairs(KNOWN) do eq(ids[id], true, "KNOWN names a case that does not exist: " .. id) end
 end)
+
+-- ---- the shell's own printer adds nothing of sluice's insides ----
+
+-- Run the program on input (a script, or lines for the prompt with -i);
+-- its standard error and output together.
+local function run_program(args, input)
+  local prog = arg and arg[-1]
+  local path = os.tmpname()
+  local f = assert(io.open(path, "w"))
+  f:write(input)
+  f:close()
+  local p = io.popen(string.format("%s %s %s 2>&1 < %s", prog, args, args == "" and path or "",
+                                   args == "" and "/dev/null" or path))
+  local out = p:read("a")
+  p:close()
+  os.remove(path)
+  return out, path
+end
+
+-- A check that fails today because of a file this test's author does not
+-- own: it must keep failing until that is fixed, then move out of here.
+local function known_test(name, why, fn)
+  test(name .. " [known: " .. why .. "]", function()
+    local ok = pcall(fn)
+    if ok then error("passes now: make it an ordinary test", 0) end
+  end)
+end
+
+local script = table.concat({
+  'local d = read_csv("tests/data/orchard.csv")',
+  'local function cut(f) return f:binarize("rian", 70) end',
+  'local ok, e = pcall(cut, d)',
+  'io.stderr:write(e, "\\n")',
+  'return estimate{data = d, treatment = "rain", outcome = "yeld", set = {}}',
+}, "\n") .. "\n"
+
+test("a script's error as the shell prints it: the script's line, the public name", function()
+  local out, path = run_program("", script)
+  local last = out:match("([^\n]*)\n$")
+  eq(last, "sluice: " .. path .. ":5: estimate: outcome: no column 'yeld'; did you mean 'yield'?",
+     "the error that ended the script")
+end)
+
+-- src/shell/script.c and lua/sluice/session.lua (A): a script runs each
+-- top-level statement as a chunk "[input K]", and only the message that
+-- ends the script is mapped back to the file; an error the script catches
+-- itself names "[input 2]:1".  Fix: load each statement with the script's
+-- own chunk name ("@" .. path) and as many newlines before it as lines
+-- precede it in the file, so every position is the file's from the start.
+known_test("an error a script catches names the script's file and line", "A, script chunks", function()
+  local out, path = run_program("", script)
+  local first = out:match("^([^\n]*)\n")
+  eq(first, path .. ":2: bad argument #1 to 'f:binarize' (no column 'rian'; did you mean 'rain'?)")
+end)
+
+test("an error at the prompt: the public name, nothing of sluice's insides", function()
+  local out = run_program("-i", table.concat({
+    'd = read_csv("tests/data/orchard.csv")',
+    'd:binarize(1, 2)',
+    'r = estimate{data = d, treatment = "rain", outcome = "yeld", set = {}}',
+    'graph("a ->")',
+  }, "\n") .. "\n")
+  local errors = {}
+  for l in out:gmatch("error: [^\n]*") do errors[#errors + 1] = l end
+  same_list(errors, {
+    "error: bad argument #1 to 'f:binarize' (no column '1' (the columns: plot, variety, rain, yield, pests))",
+    "error: estimate: outcome: no column 'yeld'; did you mean 'yield'?",
+    "error: graph: line 1, column 5: expected a node name after '->', found end of text",
+  }, "the errors shown")
+  eq(out:find("lua/sluice/", 1, true), nil, "no path inside sluice")
+end)
