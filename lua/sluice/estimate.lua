@@ -41,7 +41,7 @@ local function show(v)
     if v == math.huge then return "inf" elseif v == -math.huge then return "-inf" end
     return tostring(v)
   end
-  if v == nil then return "nil" end
+  if v == nil or type(v) == "boolean" then return tostring(v) end
   return "a " .. type(v)
 end
 E.show = show
@@ -72,7 +72,7 @@ local function choice(fname, key, value, allowed, default)
   if value == nil then return default end
   for _, a in ipairs(allowed) do if value == a then return value end end
   local near = type(value) == "string" and closest(value, allowed)
-  fail(fname, string.format("%s = %q is not one of %s%s", key, tostring(value),
+  fail(fname, string.format("%s = %s is not one of %s%s", key, show(value),
        table.concat(allowed, ", "), near and ("; did you mean '" .. near .. "'?") or ""))
 end
 
@@ -251,7 +251,10 @@ end
 
 -- Predictions for the rows of a frame: a list (NaN where a value is missing).
 function model_mt:predict(f)
-  if not is_frame(f) then error("predict: expects a data frame", 2) end
+  if getmetatable(self) ~= model_mt then
+    error("m:predict: call it on a model from ols{} or logit{}, as m:predict(f)", 0)
+  end
+  if not is_frame(f) then error("m:predict: expects a data frame, got " .. show(f), 0) end
   local n, out = #f, {}
   local cols = {}
   for i, term in ipairs(self.terms) do
@@ -259,7 +262,7 @@ function model_mt:predict(f)
       local col, level = term:match("^(.-)=(.*)$")
       if not (col and self._categorical[col]) then col, level = term, nil end
       local ok, c = pcall(function() return f[col] end)
-      if not ok or c == nil then error("predict: the frame has no column '" .. col .. "'", 2) end
+      if not ok or c == nil then error("m:predict: the frame has no column '" .. col .. "'", 0) end
       cols[#cols + 1] = {c = c, level = level, b = self.coef[term]}
     end
   end
@@ -1027,8 +1030,9 @@ function E.overlap(a)
   return setmetatable(o, overlap_mt)
 end
 
-function E.install(M)
+function E.install(M, metas)
   S = M
+  metas.model = model_mt   -- its methods are made public with the module's
   M.ols = function(a) return fit("ols", a) end
   M.logit = function(a) return fit("logit", a) end
   M.estimate = E.estimate
