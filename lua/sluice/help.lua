@@ -80,11 +80,13 @@ compares graphs).]],
     example = [[g:hidden()]] },
   { name = "g:parents", topic = "structure",
     sig = "g:parents(v)",
+    brief = "Nodes with an arrow into v (or into any of a list)",
     returns = "list of names, sorted",
     summary = "Nodes with an arrow into v (for a list of nodes, into any of them).",
     example = [[g:parents "yield"]] },
   { name = "g:children", topic = "structure",
     sig = "g:children(v)",
+    brief = "Nodes v has an arrow into (for a list, the union)",
     returns = "list of names, sorted",
     summary = "Nodes v has an arrow into (for a list of nodes, the union).",
     example = [[g:children "rain"]] },
@@ -133,7 +135,7 @@ in the set. <-> counts as two arrowheads. limit (a whole number, default
 open trail is returned as a witness.]],
     example = [[g:separated("slope", "rainfall", {"soil moisture"})]] },
   { name = "g:implications", topic = "adjust",
-    brief = "The conditional independences the graph claims among observed nodes",
+    brief = "The conditional independences the graph implies",
     sig = "g:implications({limit=, basis=})",
     returns = "list of {a =, b =, given = {...}}, with .untestable",
     summary = [[What the graph claims about the data: for every two observed nodes that are
@@ -215,7 +217,7 @@ node = cost (a number from 0 to 1e15; default 1 each, so the smallest
 set). Use it when some covariates are expensive or unreliable to measure.]],
     example = [[g:cheapest("mulch", "harvest", {slope = 5})]] },
   { name = "g:frontdoor", topic = "adjust",
-    brief = "Front-door sets: the route through a fully mediating node",
+    brief = "Front-door sets: routes through fully mediating nodes",
     sig = "g:frontdoor(x, y [, set]) or g:frontdoor(x, y, {limit=})",
     returns = "list of minimal sets; or, given a set, true, or false and a list of reasons",
     summary = [[Pearl's front-door criterion (Causality 2009, definition 3.3.3) for the
@@ -254,7 +256,7 @@ from z to y). x, y and z are single nodes; hidden nodes are errors.]],
 g:instruments("irrigation", "yield")               --> rainfall  given {}
 g:instruments("irrigation", "yield", "rainfall", {})  --> true]] },
   { name = "g:identify", topic = "adjust",
-    brief = "Is the effect identified at all, and by which formula?",
+    brief = "Is the effect identified, and by which formula?",
     sig = "g:identify(x, y, {given=})",
     returns = "r: identified, formula, hedge, why, adjustment, frontdoor; r:latex(); r:evaluate(f, {at=, weights=})",
     summary = [[Whether P(y | do(x)) can be computed from the distribution of the observed
@@ -287,7 +289,7 @@ print(r, r:latex())
 plots = read_csv "plots.csv"       -- irrigation, "soil nitrate", yield: 0/1
 r:evaluate(plots, {at = {irrigation = 1}})]=] },
   { name = "g:test", topic = "adjust",
-    brief = "Put the graph on trial: test each implication on the data",
+    brief = "Put the graph on trial: test its implications",
     sig = "g:test(f, {method=, alpha=, adjust=, level=, boot=, seed=, plot=, implications=})",
     returns = "a table, one row per implication: a, b, given, test, n, dropped, effect, lo, hi, stat, df, p, p_adj, verdict, why, add; fields alpha, adjust, untestable",
     summary = [[Tests every conditional independence of g:implications() (or the list given
@@ -424,7 +426,7 @@ given, otherwise the treatment's parents.]],
     example = [[overlap{data = plots, treatment = "mulch", set = {"slope"}, plot = "overlap.svg"}]] },
   { name = "evalue", topic = "estimate",
     sig = "evalue(r, {sd=, data=, rare=}) or evalue{rr= | or_= | hr= | d= | diff=, sd=, lo=, hi=, rare=}",
-    brief = "How strong an unmeasured confounder would have to be (E-value)",
+    brief = "How strong an unmeasured confounder must be (E-value)",
     returns = "a table {point=, limit=, rr=, ...} that prints a plain reading",
     summary = [[The E-value of VanderWeele and Ding (2017, Ann Intern Med): the least risk
 ratio that an unmeasured confounder would need with both the treatment and
@@ -450,7 +452,7 @@ r = estimate{data = wards, treatment = "screened", outcome = "readmitted", set =
 evalue(r)]] },
   { name = "sensitivity", topic = "estimate",
     sig = "sensitivity{data=, treatment=, outcome=, set=, benchmark=, k=, q=, alpha=, plot=}",
-    brief = "How an unmeasured confounder would move a regression estimate",
+    brief = "How an unmeasured confounder would move the estimate",
     returns = "a table {estimate=, se=, t=, df=, partial_r2=, rv=, rv_alpha=, bounds=, ...}",
     summary = [[Omitted-variable bias of the least-squares coefficient of the treatment in
 outcome ~ treatment + set, in the partial R^2 terms of Cinelli and Hazlett
@@ -593,9 +595,14 @@ dashed; <-> edges are dashed with two heads.]],
 extension: .svg, .png or .pdf.]],
     example = [[g:draw "orchard.svg"]] },
   { name = "help", topic = "session",
-    sig = "help([name])",
+    sig = "help([name] | {pager=})",
+    brief = "Describe the functions",
     returns = "nothing; prints",
-    summary = "Describe the functions. Without a name, every function by topic; with one, its signature, result and an example.",
+    summary = [[Describe the functions. Without a name, every function by topic, one line
+each; with one, its signature, result and an example. At the prompt, on a
+terminal, the list by topic goes through the pager ($PAGER, else less -R;
+PAGER=cat or an empty PAGER for none); help{pager = false} prints it
+instead. A script, a log run as a script and a replay always print it.]],
     example = [[help "g:parents"]] },
   { name = "version", topic = "session",
     sig = "version",
@@ -604,6 +611,7 @@ extension: .svg, .png or .pdf.]],
     example = [[print(version)]] },
   { name = "log", topic = "session",
     sig = "log([path | false])",
+    brief = "The session log: where it is, starting, stopping",
     returns = "the path of the session log, or nil",
     summary = [[The session log: a Lua script of every input, what it printed (as "--| "
 lines) and the data files read (path, size, SHA-256, as "--@ " lines), each
@@ -626,6 +634,7 @@ a script and prints what the prompt printed.]],
     example = [[show(graph "rain -> yield")]] },
   { name = "report", topic = "session",
     sig = "report(path)",
+    brief = "Write the session as a Markdown or HTML report",
     returns = "path",
     summary = [[Write the session so far as a Markdown report: the metadata (version, start,
 log, data files with their SHA-256), each command in a code block with its
@@ -697,7 +706,41 @@ function H.entry_text(e)
                        e.sig, e.returns, e.summary, (e.example:gsub("\n", "\n  ")))
 end
 
--- The overview: every function by topic.
+H.width = 80          -- the overview's lines fit a terminal of this width
+local SIG_COL = 24    -- the column of signatures in the overview
+
+-- The sentence that stands for e in the overview: its brief, else the
+-- first sentence of its summary.
+local function brief_of(e)
+  return e.brief or (e.summary:gsub("\n", " ") .. " "):match("^(.-)[.;]%s") or e.summary
+end
+
+-- The line that lists e in the overview: its signature when short enough,
+-- and its brief (a longer signature goes on lines of its own above).
+function H.summary_line(e)
+  local sig = #e.sig > SIG_COL and "" or e.sig
+  return string.format("  %-" .. SIG_COL .. "s %s", sig, brief_of(e))
+end
+
+-- A long signature on lines of at most H.width columns, broken after the
+-- commas between its arguments, never inside one.
+local function signature_lines(sig)
+  local parts, out, cur = {}, {}, "  "
+  for piece in (sig .. ", "):gmatch("(.-, )") do parts[#parts + 1] = piece end
+  parts[#parts] = parts[#parts]:sub(1, -3)
+  for _, piece in ipairs(parts) do
+    local word = piece:gsub(" $", "")
+    if cur:match("%S") and #cur + #word > H.width then
+      out[#out + 1] = (cur:gsub("%s+$", ""))
+      cur = "    "
+    end
+    cur = cur .. piece
+  end
+  out[#out + 1] = (cur:gsub("%s+$", ""))
+  return out
+end
+
+-- The overview: every function by topic, one line each.
 function H.overview()
   local out = {"sluice " .. (H.version or "") .. ": functions by topic " ..
                "(help \"name\" for one of them)"}
@@ -706,14 +749,10 @@ function H.overview()
     out[#out + 1] = topic[2]
     for _, e in ipairs(H.entries) do
       if e.topic == topic[1] then
-        local first = e.brief or (e.summary:gsub("\n", " ") .. " "):match("^(.-)[.;]%s")
-                      or e.summary
-        if #e.sig > 24 then
-          out[#out + 1] = "  " .. e.sig
-          out[#out + 1] = string.format("  %-24s %s", "", first)
-        else
-          out[#out + 1] = string.format("  %-24s %s", e.sig, first)
+        if #e.sig > SIG_COL then
+          for _, l in ipairs(signature_lines(e.sig)) do out[#out + 1] = l end
         end
+        out[#out + 1] = H.summary_line(e)
       end
     end
   end
@@ -734,9 +773,48 @@ function H.text(name)
                       near and ("; did you mean '" .. near .. "'?") or ""), 3)
 end
 
-function H.install(M)
+local hooks   -- the hooks table: hooks.page, when the prompt set it up
+
+-- help{pager = false}: the options checked; whether to page.
+local function pager_option(o)
+  for k in pairs(o) do
+    if k ~= "pager" then
+      local near = type(k) == "string" and distance(k, "pager") <= 2
+      error(string.format("help: unknown option %s%s", type(k) == "string" and
+                          ("'" .. k .. "'") or tostring(k),
+                          near and "; did you mean 'pager'?" or
+                          " (help \"name\" for one function, help{pager = false})"), 3)
+    end
+  end
+  if o.pager ~= nil and type(o.pager) ~= "boolean" then
+    error("help: pager = must be true or false, got " .. type(o.pager), 3)
+  end
+  return o.pager ~= false
+end
+
+-- help(), help "name", help{pager = false}.  The overview goes through
+-- hooks.page, which only the interactive prompt provides: the shell runs
+-- the printing with its output sent to the terminal's pager, so that the
+-- session log still records the text.  Elsewhere, or when the hook
+-- declines (no terminal), it is printed.
+local function help(name)
+  local paged = true
+  if type(name) == "table" then
+    paged = pager_option(name)
+    name = nil
+  end
+  local text = H.text(name)
+  if name == nil and paged and hooks and type(hooks.page) == "function" and
+     hooks.page(function() print(text) end) then
+    return
+  end
+  print(text)
+end
+
+function H.install(M, metas, hk)
   H.version = M.version
-  M.help = function(name) print(H.text(name)) end
+  hooks = hk
+  M.help = help
 end
 
 return H

@@ -22,6 +22,7 @@
 
 #include "complete.h"
 #include "history.h"
+#include "pager.h"
 #include "prompt.h"
 #include "signals.h"
 
@@ -123,6 +124,7 @@ void prompt_run(repl *R) {
   rl_catch_signals = 0;     /* signals.c owns the signal handlers */
   rl_catch_sigwinch = 0;
   complete_install(R->L);
+  pager_install(R->L);   /* only here: scripts and replays never page */
   history_open(&h);
   install(R);
   for (;;) {
