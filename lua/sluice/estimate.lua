@@ -154,11 +154,13 @@ local known = {
   estimate = {data = true, treatment = true, outcome = true, set = true, graph = true,
               method = true, estimand = true, scale = true, interactions = true,
               contrast = true, stabilized = true, truncate = true, boot = true,
-              level = true, seed = true, threads = true, via = true, instrument = true},
+              level = true, seed = true, threads = true, via = true, instrument = true,
+              se = true, interval = true, cluster = true},
 }
 known.balance = {}
 for k in pairs(known.estimate) do known.balance[k] = true end
 known.balance.via, known.balance.instrument = nil, nil
+known.balance.se, known.balance.interval, known.balance.cluster = nil, nil, nil
 known.overlap = {data = true, treatment = true, outcome = true, set = true, graph = true,
                  plot = true, bins = true}
 
@@ -411,6 +413,40 @@ local function route_text(r)
   return table.concat(lines, "\n")
 end
 
+-- Where the SE comes from, in words.
+local function se_text(r)
+  local log = r.se_log_scale and "of the log " .. (r.scale == "ratio" and "ratio" or "odds ratio")
+              .. ", " or ""
+  if r.se_method == "bootstrap" then
+    return string.format("bootstrap, %d replicates%s", r.boot, r.se_analytic and
+                         ("; sandwich " .. (r.se_log_scale and "(log scale) " or "") ..
+                          fmt(r.se_analytic)) or "")
+  elseif r.se_method == "ps known" then
+    return log .. "sandwich, propensities taken as known"
+  elseif r.method == "ipw" then
+    return log .. "sandwich with the propensity model (M-estimation)"
+  elseif r.method == "aipw" then
+    return log .. "influence function"
+  end
+  return log .. "sandwich with the outcome model (M-estimation)"
+end
+
+-- Which interval lo and hi are, and the others beside it.
+local function interval_text(r)
+  local others = {}
+  local function other(name, lo, hi)
+    if lo and r.interval ~= name then others[#others + 1] = name .. " " .. fmt(lo) .. " to " .. fmt(hi) end
+  end
+  other("percentile", r.lo_percentile, r.hi_percentile)
+  other("bca", r.lo_bca, r.hi_bca)
+  if r.boot then other("normal", r.lo_normal, r.hi_normal) end
+  local own = r.interval == "bca" and "BCa" or r.interval
+  if r.interval == "normal" and r.se_log_scale and r.se_method ~= "bootstrap" then
+    own = "normal on the log scale"
+  end
+  return own .. (#others > 0 and ("; " .. table.concat(others, "; ")) or "")
+end
+
 function estimate_mt.__tostring(r)
   if r.method == "frontdoor" or r.method == "iv" then return route_text(r) end
   local lines = {string.format("%s: %s of %s on %s, %s scale", method_names[r.method],
@@ -418,13 +454,9 @@ function estimate_mt.__tostring(r)
   local function add(k, v) lines[#lines + 1] = string.format("  %-10s %s", k, v) end
   add("estimate", fmt(r.estimate))
   if r.se then
-    add("SE", fmt(r.se) .. (r.boot and string.format("   (bootstrap, %d replicates)", r.boot)
-                                    or (r.method == "aipw" and "   (influence function)"
-                                        or "   (sandwich, propensities as known)")))
-    add(string.format("%g%% CI", r.level * 100),
-        fmt(r.lo) .. " to " .. fmt(r.hi) ..
-        (r.boot and ("   (percentile; normal " .. fmt(r.lo_normal) .. " to " ..
-                     fmt(r.hi_normal) .. ")") or ""))
+    add("SE", fmt(r.se) .. "   (" .. se_text(r) .. ")")
+    add(string.format("%g%% CI", r.level * 100), fmt(r.lo) .. " to " .. fmt(r.hi) ..
+        "   (" .. interval_text(r) .. ")")
   else
     add("SE", "none: give boot = 200 or more")
   end
@@ -633,6 +665,7 @@ local function spec(fname, a)
   local set, why = resolve_set(fname, a)
   for _, name in ipairs(set) do check_column(fname, "set", a.data, name) end
   local boot, seed, threads = E.check_common(fname, a)
+  if a.cluster ~= nil then check_column(fname, "cluster", a.data, a.cluster) end
   for _, k in ipairs({"interactions", "stabilized"}) do
     if a[k] ~= nil and type(a[k]) ~= "boolean" then
       fail(fname, k .. " = " .. show(a[k]) .. " must be true or false")
@@ -651,6 +684,9 @@ local function spec(fname, a)
     scale = choice(fname, "scale", a.scale, {"difference", "ratio", "odds ratio"}, "difference"),
     interactions = a.interactions, contrast = a.contrast, stabilized = a.stabilized,
     boot = boot, level = a.level, seed = seed, threads = threads,
+    se = choice(fname, "se", a.se, {"sandwich", "ps known"}, "sandwich"),
+    interval = choice(fname, "interval", a.interval, {"percentile", "bca", "normal"}, nil),
+    cluster = a.cluster,
   }
   if a.truncate ~= nil then
     local t = a.truncate

@@ -246,6 +246,14 @@ static void read_spec(lua_State *L, sl_est_spec *s) {
   const char *sc = opt_string(L, 5, "scale", "difference");
   s->scale = strcmp(sc, "ratio") == 0 ? SL_RATIO : strcmp(sc, "odds ratio") == 0 ? SL_ODDS_RATIO
            : SL_DIFFERENCE;
+  const char *se = opt_string(L, 5, "se", "sandwich");
+  s->se_kind = strcmp(se, "ps known") == 0 ? SL_SE_PS_KNOWN : SL_SE_SANDWICH;
+  lua_getfield(L, 5, "cluster");
+  s->cluster = lua_isnil(L, -1) ? 0 : 1 + column(L, f, 5, luaL_checkstring(L, -1));
+  lua_pop(L, 1);
+  const char *ci = opt_string(L, 5, "interval", "");
+  s->interval = strcmp(ci, "percentile") == 0 ? SL_CI_PERCENTILE : strcmp(ci, "bca") == 0 ? SL_CI_BCA
+              : strcmp(ci, "normal") == 0 ? SL_CI_NORMAL : SL_CI_DEFAULT;
   lua_getfield(L, 5, "interactions");
   s->interactions = lua_isnil(L, -1) ? 1 : lua_toboolean(L, -1);
   lua_pop(L, 1);
@@ -272,13 +280,25 @@ static void read_spec(lua_State *L, sl_est_spec *s) {
 static void push_result(lua_State *L, const sl_est_spec *sp, const sl_est_result *rp) {
   const sl_est_spec s = *sp;
   const sl_est_result r = *rp;
-  lua_createtable(L, 0, 24);
+  static const char *const sources[] = {"none", "sandwich", "ps known", "route", "bootstrap"};
+  static const char *const intervals[] = {"", "percentile", "bca", "normal"};
+  lua_createtable(L, 0, 32);
   SETNUM("estimate", r.estimate);
   if (r.has_se) { SETNUM("se", r.se); SETNUM("lo", r.lo); SETNUM("hi", r.hi);
                   SETNUM("lo_normal", r.lo_normal); SETNUM("hi_normal", r.hi_normal); }
+  lua_pushstring(L, sources[r.se_source]); lua_setfield(L, -2, "se_method");
+  lua_pushstring(L, intervals[r.interval]); lua_setfield(L, -2, "interval");
+  if (!isnan(r.se_analytic)) {
+    SETNUM("se_analytic", r.se_analytic);
+    lua_pushboolean(L, r.se_log); lua_setfield(L, -2, "se_log_scale");
+  }
+  if (!isnan(r.lo_pct)) { SETNUM("lo_percentile", r.lo_pct); SETNUM("hi_percentile", r.hi_pct); }
+  if (!isnan(r.lo_bca)) { SETNUM("lo_bca", r.lo_bca); SETNUM("hi_bca", r.hi_bca);
+                          SETNUM("bca_accel", r.accel); SETNUM("bca_z0", r.bias_z0); }
   SETNUM("mu1", r.mu1); SETNUM("mu0", r.mu0);
   lua_pushinteger(L, (lua_Integer)r.n); lua_setfield(L, -2, "n");
   lua_pushinteger(L, (lua_Integer)r.dropped); lua_setfield(L, -2, "dropped");
+  if (s.cluster) { lua_pushinteger(L, (lua_Integer)r.nclusters); lua_setfield(L, -2, "clusters"); }
   if (s.boot) {
     lua_pushinteger(L, (lua_Integer)r.boot_done); lua_setfield(L, -2, "boot");
     lua_pushinteger(L, (lua_Integer)r.boot_failed); lua_setfield(L, -2, "boot_failed");

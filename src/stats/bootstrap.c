@@ -29,11 +29,35 @@ typedef struct job {
   atomic_int failed_hard;          /* out of memory in a worker */
 } job;
 
+/* The rows of replicate b: n draws of rows, or with clusters as many
+** draws of whole clusters as there are (the cluster bootstrap; e.g.
+** Cameron and Miller 2015, section VI.C, from memory).  Returns the rows
+** drawn, growing *ix (capacity *cap) as needed; 0 when out of memory. */
+static size_t draw(const sl_prep *P, gsl_rng *r, size_t **ix, size_t *cap) {
+  if (!P->cluster) {
+    for (size_t k = 0; k < P->n; k++) (*ix)[k] = (size_t)gsl_rng_uniform_int(r, P->n);
+    return P->n;
+  }
+  size_t m = 0;
+  for (size_t g = 0; g < P->nclusters; g++) {
+    size_t c = (size_t)gsl_rng_uniform_int(r, P->nclusters);
+    size_t lo = P->cl_start[c], hi = P->cl_start[c + 1];
+    if (m + (hi - lo) > *cap) {
+      size_t nc = 2 * (m + (hi - lo));
+      size_t *grown = realloc(*ix, nc * sizeof *grown);
+      if (!grown) return 0;
+      *ix = grown; *cap = nc;
+    }
+    for (size_t k = lo; k < hi; k++) (*ix)[m++] = P->cl_rows[k];
+  }
+  return m;
+}
+
 /* Take replicates until none are left. */
 static void *worker(void *arg) {
   job *J = arg;
-  size_t n = J->P->n;
-  size_t *ix = malloc(n * sizeof *ix);
+  size_t cap = J->P->n;
+  size_t *ix = malloc(cap * sizeof *ix);
   gsl_rng *r = gsl_rng_alloc(gsl_rng_mt19937);
   if (!ix || !r) { atomic_store(&J->failed_hard, 1); free(ix); if (r) gsl_rng_free(r); return NULL; }
   for (;;) {
@@ -41,11 +65,12 @@ static void *worker(void *arg) {
     size_t b = atomic_fetch_add(&J->next, 1);
     if (b >= J->s->boot) break;
     gsl_rng_set(r, (unsigned long)replicate_seed(J->s->seed, b));
-    for (size_t k = 0; k < n; k++) ix[k] = (size_t)gsl_rng_uniform_int(r, n);
+    size_t n = draw(J->P, r, &ix, &cap);
+    if (n == 0) { atomic_store(&J->failed_hard, 1); break; }
     sl_point pt;
     sl_error e;
     char warn[SL_WARN_MAX] = "";
-    J->est[b] = sl_est_point(J->s, J->P, ix, n, &pt, warn, &e) == SL_OK ? pt.est : NAN;
+    J->est[b] = sl_est_point(J->s, J->P, ix, n, 0, &pt, warn, &e) == SL_OK ? pt.est : NAN;
     atomic_fetch_add(&J->done, 1);
   }
   free(ix);

@@ -33,7 +33,7 @@ static void outcome_row(const sl_prep *P, size_t i, double tv, int inter, double
 ** t = b for every sample row go to m_a and m_b. */
 static int outcome_fit(const sl_prep *P, const size_t *ix, size_t n, int inter,
                        const double *ta, const double *tb, double *m_a, double *m_b,
-                       char *warn, sl_error *e) {
+                       double *beta, char *warn, sl_error *e) {
   size_t p = 2 + P->q * (inter ? 2 : 1);
   double *X = malloc(n * p * sizeof *X), *y = malloc(n * sizeof *y);
   double *row = malloc(p * sizeof *row);
@@ -56,6 +56,7 @@ static int outcome_fit(const sl_prep *P, const size_t *ix, size_t n, int inter,
     outcome_row(P, ix[k], tb ? tb[ix[k]] : 0, inter, row);
     sl_predict(&fit, row, 1, P->bin_y, &m_b[k]);
   }
+  if (beta) memcpy(beta, fit.coef, p * sizeof *beta);
   sl_fit_free(&fit);
 done:
   free(X); free(y); free(row);
@@ -106,7 +107,7 @@ double sl_est_contrast(int scale, double mu1, double mu0) {
 ** prediction per row.  ta/tb: the treatment values to set (NULL: 1 / 0). */
 static int linear_means(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
                         int inter, const double *ta, const double *tb, double *mu_a,
-                        double *mu_b, char *warn, sl_error *e) {
+                        double *mu_b, double *beta, char *warn, sl_error *e) {
   size_t p = 2 + P->q * (inter ? 2 : 1);
   double *X = malloc(n * p * sizeof *X), *y = malloc(n * sizeof *y);
   double *ra = calloc(p, sizeof *ra), *rb = calloc(p, sizeof *rb), *row = malloc(p * sizeof *row);
@@ -132,6 +133,7 @@ static int linear_means(const sl_est_spec *s, const sl_prep *P, const size_t *ix
   for (size_t j = 0; j < p; j++) { a += fit.coef[j] * ra[j]; b += fit.coef[j] * rb[j]; }
   *mu_a = a / (double)m;
   *mu_b = b / (double)m;
+  if (beta) memcpy(beta, fit.coef, p * sizeof *beta);
   sl_fit_free(&fit);
   (void)warn;
 done:
@@ -139,43 +141,96 @@ done:
   return rc;
 }
 
-/* Standardization (g-formula). */
-static int standardize(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
-                       sl_point *out, char *warn, sl_error *e) {
-  double *ma = malloc(n * sizeof *ma), *mb = malloc(n * sizeof *mb), *tp = NULL;
+/* The outcome model's fitted value at a design row: linear or logistic. */
+static double fitted(const double *beta, const double *row, size_t p, int logistic) {
+  double eta = 0;
+  for (size_t j = 0; j < p; j++) eta += beta[j] * row[j];
+  return logistic ? 1 / (1 + exp(-eta)) : eta;
+}
+
+/* Influence values of the standardized means (influence.c): the mean
+** equations over the target rows, and the outcome model's score equations
+** through D_a = mean over the target of g'(x(a)' beta) x(a). */
+static int standardize_se(const sl_est_spec *s, const sl_prep *P, int inter, const double *ta,
+                          const double *tb, const double *beta, sl_point *out, sl_error *e) {
+  size_t n = P->n, p = 2 + P->q * (inter ? 2 : 1);
+  int lg = P->bin_y;
+  double *X = malloc(n * p * sizeof *X), *v = malloc(n * sizeof *v), *r = malloc(n * sizeof *r);
+  double *phi1 = malloc(n * sizeof *phi1), *phi0 = malloc(n * sizeof *phi0);
+  double *row = malloc(p * sizeof *row), *D = calloc(2 * p, sizeof *D), *u = malloc(2 * p * sizeof *u);
   int rc = SL_OK;
-  if (!ma || !mb) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
-  int inter = s->interactions && P->q > 0;
-  if (!P->bin_y) {   /* linear: the means at the mean design rows */
-    if (!P->bin_t) {
-      tp = malloc(P->n * sizeof *tp);
-      if (!tp) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
-      for (size_t i = 0; i < P->n; i++) tp[i] = P->t[i] + s->contrast;
-      rc = linear_means(s, P, ix, n, inter, tp, P->t, &out->mu1, &out->mu0, warn, e);
-    } else rc = linear_means(s, P, ix, n, inter, NULL, NULL, &out->mu1, &out->mu0, warn, e);
-    if (rc) goto done;
-    out->est = sl_est_contrast(s->scale, out->mu1, out->mu0);
-    out->has_se = 0;
+  if (!X || !v || !r || !phi1 || !phi0 || !row || !D || !u) {
+    rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
     goto done;
   }
+  size_t m = 0;
+  for (size_t k = 0; k < n; k++) {
+    outcome_row(P, k, P->t[k], inter, X + k * p);
+    double f = fitted(beta, X + k * p, p, lg);
+    v[k] = lg ? f * (1 - f) : 1;
+    r[k] = P->y[k] - f;
+    phi1[k] = phi0[k] = 0;
+    if (P->bin_t && !in_target(s, P->t[k])) continue;
+    m++;
+    for (int a = 0; a < 2; a++) {
+      outcome_row(P, k, a == 0 ? (ta ? ta[k] : 1) : (tb ? tb[k] : 0), inter, row);
+      double g = fitted(beta, row, p, lg), gd = lg ? g * (1 - g) : 1;
+      for (size_t j = 0; j < p; j++) D[a * p + j] += gd * row[j];
+      (a == 0 ? phi1 : phi0)[k] = g - (a == 0 ? out->mu1 : out->mu0);
+    }
+  }
+  for (size_t j = 0; j < 2 * p; j++) D[j] /= (double)m;
+  if ((rc = sl_infl_solve(X, v, n, p, D, 2, u, e))) {
+    if (rc == SL_EARG) rc = SL_OK;   /* singular: no analytic SE, said by the caller */
+    goto done;
+  }
+  for (size_t k = 0; k < n; k++) {
+    double c1 = 0, c0 = 0;
+    for (size_t j = 0; j < p; j++) { c1 += X[k * p + j] * u[j]; c0 += X[k * p + j] * u[p + j]; }
+    phi1[k] = phi1[k] * (double)n / (double)m + c1 * r[k];
+    phi0[k] = phi0[k] * (double)n / (double)m + c0 * r[k];
+  }
+  rc = sl_infl_finish(P, s->scale, out->mu1, out->mu0, phi1, phi0, out, e);
+done:
+  free(X); free(v); free(r); free(phi1); free(phi0); free(row); free(D); free(u);
+  return rc;
+}
+
+/* Standardization (g-formula). */
+static int standardize(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
+                       int want_se, sl_point *out, char *warn, sl_error *e) {
+  double *ma = NULL, *mb = NULL, *tp = NULL;
+  int inter = s->interactions && P->q > 0;
+  size_t p = 2 + P->q * (inter ? 2 : 1);
+  double *beta = malloc(p * sizeof *beta);
+  int rc = SL_OK;
+  if (!beta) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
   if (!P->bin_t) {   /* the average effect of moving every unit by +contrast */
     tp = malloc(P->n * sizeof *tp);
     if (!tp) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
     for (size_t i = 0; i < P->n; i++) tp[i] = P->t[i] + s->contrast;
-    rc = outcome_fit(P, ix, n, inter, tp, P->t, ma, mb, warn, e);
-  } else rc = outcome_fit(P, ix, n, inter, NULL, NULL, ma, mb, warn, e);
+  }
+  const double *ta = tp, *tb = tp ? P->t : NULL;
+  if (!P->bin_y) {   /* linear: the means at the mean design rows */
+    rc = linear_means(s, P, ix, n, inter, ta, tb, &out->mu1, &out->mu0, beta, warn, e);
+  } else {
+    ma = malloc(n * sizeof *ma); mb = malloc(n * sizeof *mb);
+    if (!ma || !mb) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+    if ((rc = outcome_fit(P, ix, n, inter, ta, tb, ma, mb, beta, warn, e))) goto done;
+    double s1 = 0, s0 = 0;
+    size_t m = 0;
+    for (size_t k = 0; k < n; k++)
+      if (!P->bin_t || in_target(s, P->t[ix[k]])) { s1 += ma[k]; s0 += mb[k]; m++; }
+    if (m == 0) { rc = sl_error_set(e, SL_EARG, 0, 0, "no rows in the target population"); goto done; }
+    out->mu1 = s1 / (double)m;
+    out->mu0 = s0 / (double)m;
+  }
   if (rc) goto done;
-  double s1 = 0, s0 = 0;
-  size_t m = 0;
-  for (size_t k = 0; k < n; k++)
-    if (!P->bin_t || in_target(s, P->t[ix[k]])) { s1 += ma[k]; s0 += mb[k]; m++; }
-  if (m == 0) { rc = sl_error_set(e, SL_EARG, 0, 0, "no rows in the target population"); goto done; }
-  out->mu1 = s1 / (double)m;
-  out->mu0 = s0 / (double)m;
   out->est = sl_est_contrast(s->scale, out->mu1, out->mu0);
   out->has_se = 0;
+  if (want_se) rc = standardize_se(s, P, inter, ta, tb, beta, out, e);
 done:
-  free(ma); free(mb); free(tp);
+  free(ma); free(mb); free(tp); free(beta);
   return rc;
 }
 
@@ -193,18 +248,22 @@ double sl_est_quantile(double *v, size_t n, double q) {
   return v[lo] + (h - (double)lo) * (v[lo + 1] - v[lo]);
 }
 
-/* IPW weights for the estimand, stabilised and truncated on request. */
+/* IPW weights for the estimand, stabilised and truncated on request.
+** kappa (may be NULL) gets each weight's log-derivative along the
+** propensity model's linear predictor, dw/d(gamma) = w kappa x: 0 for a
+** constant or a truncated weight. */
 int sl_est_ipw_weights(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
-                       const double *ps, double *w, sl_error *e) {
+                       const double *ps, double *w, double *kappa, sl_error *e) {
   double pt = 0;
   for (size_t k = 0; k < n; k++) pt += P->t[ix[k]];
   pt /= (double)n;
   for (size_t k = 0; k < n; k++) {
-    double t = P->t[ix[k]], p = ps[k];
-    if (s->estimand == SL_ATE) w[k] = t ? 1 / p : 1 / (1 - p);
-    else if (s->estimand == SL_ATT) w[k] = t ? 1 : p / (1 - p);
-    else w[k] = t ? (1 - p) / p : 1;
+    double t = P->t[ix[k]], p = ps[k], kp;
+    if (s->estimand == SL_ATE) { w[k] = t ? 1 / p : 1 / (1 - p); kp = t ? -(1 - p) : p; }
+    else if (s->estimand == SL_ATT) { w[k] = t ? 1 : p / (1 - p); kp = t ? 0 : 1; }
+    else { w[k] = t ? (1 - p) / p : 1; kp = t ? -1 : 0; }
     if (s->stabilized && s->estimand == SL_ATE) w[k] *= t ? pt : 1 - pt;
+    if (kappa) kappa[k] = kp;
   }
   if (s->trunc_lo > 0 || s->trunc_hi < 100) {
     double *tmp = malloc(n * sizeof *tmp);
@@ -212,7 +271,11 @@ int sl_est_ipw_weights(const sl_est_spec *s, const sl_prep *P, const size_t *ix,
     memcpy(tmp, w, n * sizeof *tmp);
     double lo = sl_est_quantile(tmp, n, s->trunc_lo), hi = sl_est_quantile(tmp, n, s->trunc_hi);
     free(tmp);
-    for (size_t k = 0; k < n; k++) w[k] = w[k] < lo ? lo : w[k] > hi ? hi : w[k];
+    for (size_t k = 0; k < n; k++)
+      if (w[k] < lo || w[k] > hi) {
+        w[k] = w[k] < lo ? lo : hi;
+        if (kappa) kappa[k] = 0;
+      }
   }
   return SL_OK;
 }
@@ -236,14 +299,67 @@ static void ps_stats(const double *ps, size_t n, sl_point *out) {
   }
 }
 
+/* The propensity model's design: the intercept and the covariates. */
+static double *propensity_design(const sl_prep *P) {
+  size_t n = P->n, p = 1 + P->q;
+  double *X = malloc(n * p * sizeof *X);
+  if (!X) return NULL;
+  for (size_t k = 0; k < n; k++) {
+    X[k * p] = 1;
+    memcpy(X + k * p + 1, P->C + k * P->q, P->q * sizeof *X);
+  }
+  return X;
+}
+
+/* Influence values of the IPW means: arm a's mean equation
+** w (y - mu_a) over its rows, scaled by n / (sum of its weights), plus
+** (unless the propensities count as known) the propensity model's part
+** through d_a = mean of w kappa (y - mu_a) x over arm a's rows. */
+static int ipw_se(const sl_est_spec *s, const sl_prep *P, const double *ps, const double *w,
+                  const double *kappa, sl_point *out, sl_error *e) {
+  size_t n = P->n, p = 1 + P->q;
+  double *X = propensity_design(P), *v = malloc(n * sizeof *v);
+  double *phi1 = malloc(n * sizeof *phi1), *phi0 = malloc(n * sizeof *phi0);
+  double *d = calloc(2 * p, sizeof *d), *u = malloc(2 * p * sizeof *u);
+  int rc = SL_OK;
+  if (!X || !v || !phi1 || !phi0 || !d || !u) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  double sw[2] = {0, 0};
+  for (size_t k = 0; k < n; k++) {
+    int a = P->t[k] == 1;
+    double res = P->y[k] - (a ? out->mu1 : out->mu0);
+    sw[a] += w[k];
+    (a ? phi1 : phi0)[k] = w[k] * res;
+    (a ? phi0 : phi1)[k] = 0;
+    for (size_t j = 0; j < p; j++) d[(1 - a) * p + j] += w[k] * kappa[k] * res * X[k * p + j];
+    v[k] = ps[k] * (1 - ps[k]);
+  }
+  for (size_t j = 0; j < 2 * p; j++) d[j] /= (double)n;
+  int known = s->se_kind == SL_SE_PS_KNOWN;
+  if (!known && (rc = sl_infl_solve(X, v, n, p, d, 2, u, e))) {
+    if (rc == SL_EARG) rc = SL_OK;   /* singular: no analytic SE, said by the caller */
+    goto done;
+  }
+  for (size_t k = 0; k < n; k++) {
+    double c1 = 0, c0 = 0;
+    for (size_t j = 0; !known && j < p; j++) { c1 += X[k * p + j] * u[j]; c0 += X[k * p + j] * u[p + j]; }
+    double r = P->t[k] - ps[k];
+    phi1[k] = (phi1[k] + c1 * r) * (double)n / sw[1];
+    phi0[k] = (phi0[k] + c0 * r) * (double)n / sw[0];
+  }
+  rc = sl_infl_finish(P, s->scale, out->mu1, out->mu0, phi1, phi0, out, e);
+done:
+  free(X); free(v); free(phi1); free(phi0); free(d); free(u);
+  return rc;
+}
+
 /* Inverse probability weighting with normalised (Hajek) weights. */
 static int ipw(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
-               sl_point *out, char *warn, sl_error *e) {
-  double *ps = malloc(n * sizeof *ps), *w = malloc(n * sizeof *w);
+               int want_se, sl_point *out, char *warn, sl_error *e) {
+  double *ps = malloc(n * sizeof *ps), *w = malloc(n * sizeof *w), *kappa = malloc(n * sizeof *kappa);
   int rc = SL_OK;
-  if (!ps || !w) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  if (!ps || !w || !kappa) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
   if ((rc = sl_est_propensity(P, ix, n, ps, warn, e))) goto done;
-  if ((rc = sl_est_ipw_weights(s, P, ix, n, ps, w, e))) goto done;
+  if ((rc = sl_est_ipw_weights(s, P, ix, n, ps, w, kappa, e))) goto done;
   double a1 = 0, b1 = 0, a0 = 0, b0 = 0;
   for (size_t k = 0; k < n; k++) {
     double t = P->t[ix[k]], y = P->y[ix[k]];
@@ -252,91 +368,72 @@ static int ipw(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t 
   out->mu1 = a1 / b1;
   out->mu0 = a0 / b0;
   out->est = sl_est_contrast(s->scale, out->mu1, out->mu0);
-  /* a sandwich standard error that treats the propensities as known: on
-  ** the difference scale only, and conservative for the ATE */
-  if (s->scale == SL_DIFFERENCE) {
-    double sum = 0, sum2 = 0;
-    for (size_t k = 0; k < n; k++) {
-      double t = P->t[ix[k]], y = P->y[ix[k]];
-      double f = t ? w[k] * (y - out->mu1) / (b1 / (double)n)
-                   : -w[k] * (y - out->mu0) / (b0 / (double)n);
-      sum += f; sum2 += f * f;
-    }
-    double var = (sum2 - sum * sum / (double)n) / (double)(n - 1);
-    out->se = sqrt(var / (double)n);
-    out->has_se = 1;
-  }
   out->ess = ess(P, ix, n, w, -1);
   out->ess1 = ess(P, ix, n, w, 1);
   out->ess0 = ess(P, ix, n, w, 0);
   ps_stats(ps, n, out);
+  if (want_se) rc = ipw_se(s, P, ps, w, kappa, out, e);
 done:
-  free(ps); free(w);
+  free(ps); free(w); free(kappa);
   return rc;
 }
 
-/* Augmented IPW, doubly robust, with its influence-function standard error. */
+/* Augmented IPW, doubly robust.  Its standard error takes the rows'
+** values of the two means' estimating functions as their influence values
+** (Tsiatis 2006, ch. 13): exact when both working models hold. */
 static int aipw(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
-                sl_point *out, char *warn, sl_error *e) {
+                int want_se, sl_point *out, char *warn, sl_error *e) {
   double *ps = malloc(n * sizeof *ps), *m1 = malloc(n * sizeof *m1);
-  double *m0 = malloc(n * sizeof *m0), *psi = malloc(n * sizeof *psi);
+  double *m0 = malloc(n * sizeof *m0), *a = malloc(n * sizeof *a), *b = malloc(n * sizeof *b);
   int rc = SL_OK;
-  if (!ps || !m1 || !m0 || !psi) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  if (!ps || !m1 || !m0 || !a || !b) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
   if ((rc = sl_est_propensity(P, ix, n, ps, warn, e))) goto done;
   /* arm-specific outcome models: the full treatment-by-covariate model */
-  if ((rc = outcome_fit(P, ix, n, P->q > 0, NULL, NULL, m1, m0, warn, e))) goto done;
-  double pt = 0, sum = 0;
+  if ((rc = outcome_fit(P, ix, n, P->q > 0, NULL, NULL, m1, m0, NULL, warn, e))) goto done;
+  double pt = 0;
   for (size_t k = 0; k < n; k++) pt += P->t[ix[k]];
   pt /= (double)n;
+  /* a and b: each row's term of the treated and the control mean; the
+  ** target's own arm is its observed mean */
   double s1 = 0, s0 = 0;
   for (size_t k = 0; k < n; k++) {
     double t = P->t[ix[k]], y = P->y[ix[k]], p = ps[k];
     if (s->estimand == SL_ATE) {
-      double a = m1[k] + t * (y - m1[k]) / p, b = m0[k] + (1 - t) * (y - m0[k]) / (1 - p);
-      psi[k] = a - b; s1 += a; s0 += b;
+      a[k] = m1[k] + t * (y - m1[k]) / p;
+      b[k] = m0[k] + (1 - t) * (y - m0[k]) / (1 - p);
     } else if (s->estimand == SL_ATT) {
-      psi[k] = t * (y - m0[k]) - (1 - t) * p / (1 - p) * (y - m0[k]);
-      s1 += t * y;
+      a[k] = t * y;
+      b[k] = t * m0[k] + (1 - t) * p / (1 - p) * (y - m0[k]);
     } else {
-      psi[k] = t * (1 - p) / p * (y - m1[k]) + (1 - t) * (m1[k] - y);
-      s0 += (1 - t) * y;
+      a[k] = (1 - t) * m1[k] + t * (1 - p) / p * (y - m1[k]);
+      b[k] = (1 - t) * y;
     }
-    sum += psi[k];
+    s1 += a[k]; s0 += b[k];
   }
-  double est;
-  if (s->estimand == SL_ATE) {
-    est = sum / (double)n;
-    out->mu1 = s1 / (double)n; out->mu0 = s0 / (double)n;
-  } else if (s->estimand == SL_ATT) {
-    est = sum / (pt * (double)n);
-    out->mu1 = s1 / (pt * (double)n); out->mu0 = out->mu1 - est;
-  } else {
-    est = sum / ((1 - pt) * (double)n);
-    out->mu0 = s0 / ((1 - pt) * (double)n); out->mu1 = out->mu0 + est;
-  }
-  /* influence function of the estimator, centred */
-  double f = 0, f2 = 0;
-  for (size_t k = 0; k < n; k++) {
-    double t = P->t[ix[k]], v;
-    if (s->estimand == SL_ATE) v = psi[k] - est;
-    else if (s->estimand == SL_ATT) v = (psi[k] - t * est) / pt;
-    else v = (psi[k] - (1 - t) * est) / (1 - pt);
-    f += v; f2 += v * v;
-  }
-  out->est = est;
-  out->se = sqrt((f2 - f * f / (double)n) / (double)(n - 1) / (double)n);
-  out->has_se = 1;
+  double share = s->estimand == SL_ATE ? 1 : s->estimand == SL_ATT ? pt : 1 - pt;
+  out->mu1 = s1 / (share * (double)n);
+  out->mu0 = s0 / (share * (double)n);
+  out->est = sl_est_contrast(s->scale, out->mu1, out->mu0);
   ps_stats(ps, n, out);
+  if (want_se) {   /* influence values: (term - in-target * mean) / share */
+    for (size_t k = 0; k < n; k++) {
+      double t = P->t[ix[k]];
+      double in = s->estimand == SL_ATE ? 1 : s->estimand == SL_ATT ? t : 1 - t;
+      a[k] = (a[k] - in * out->mu1) / share;
+      b[k] = (b[k] - in * out->mu0) / share;
+    }
+    if ((rc = sl_infl_finish(P, s->scale, out->mu1, out->mu0, a, b, out, e))) goto done;
+  }
   double *w = m0;  /* reuse for the IPW weights behind the ESS */
   for (size_t k = 0; k < n; k++) { double t = P->t[ix[k]]; w[k] = t ? 1 / ps[k] : 1 / (1 - ps[k]); }
   out->ess = ess(P, ix, n, w, -1); out->ess1 = ess(P, ix, n, w, 1); out->ess0 = ess(P, ix, n, w, 0);
 done:
-  free(ps); free(m1); free(m0); free(psi);
+  free(ps); free(m1); free(m0); free(a); free(b);
   return rc;
 }
 
 int sl_est_point(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
-                 sl_point *out, char *warn, sl_error *e) {
+                 int want_se, sl_point *out, char *warn, sl_error *e) {
   memset(out, 0, sizeof *out);
   /* a resample may lose one arm: no estimate from it */
   if (P->bin_t && s->method != SL_IV) {
@@ -346,10 +443,10 @@ int sl_est_point(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_
       return sl_error_set(e, SL_EARG, 0, 0, "the sample holds one treatment level only");
   }
   switch (s->method) {
-    case SL_IPW: return ipw(s, P, ix, n, out, warn, e);
-    case SL_AIPW: return aipw(s, P, ix, n, out, warn, e);
+    case SL_IPW: return ipw(s, P, ix, n, want_se, out, warn, e);
+    case SL_AIPW: return aipw(s, P, ix, n, want_se, out, warn, e);
     case SL_FRONTDOOR: return sl_est_frontdoor(s, P, ix, n, out, warn, e);
     case SL_IV: return sl_est_iv(s, P, ix, n, out, warn, e);
-    default: return standardize(s, P, ix, n, out, warn, e);
+    default: return standardize(s, P, ix, n, want_se, out, warn, e);
   }
 }

@@ -29,6 +29,19 @@ enum sl_method { SL_STANDARDIZE = 0, SL_IPW = 1, SL_AIPW = 2, SL_FRONTDOOR = 3, 
 #define SL_ROUTE_BINARY_MAX 10
 enum sl_estimand { SL_ATE = 0, SL_ATT = 1, SL_ATC = 2 };
 enum sl_scale { SL_DIFFERENCE = 0, SL_RATIO = 1, SL_ODDS_RATIO = 2 };
+/* The analytic standard error: the full sandwich (default), or for ipw
+** one that treats the fitted propensities as known. */
+enum sl_se_kind { SL_SE_SANDWICH = 0, SL_SE_PS_KNOWN = 1 };
+/* Which interval lo and hi hold: percentile with a bootstrap and normal
+** without (default), or one asked for.  BCa needs SL_BCA_MIN replicates
+** (common practice: Efron and Tibshirani 1993, ch. 14, from memory) and an
+** estimator with influence values (standardize, ipw, aipw). */
+enum sl_interval { SL_CI_DEFAULT = 0, SL_CI_PERCENTILE = 1, SL_CI_BCA = 2, SL_CI_NORMAL = 3 };
+#define SL_BCA_MIN 1000
+/* Fewer clusters than this get a warning: the cluster sandwich is biased
+** downwards with few clusters (common practice; e.g. Cameron and Miller
+** 2015, J. Human Resources 50, 317-372, section VI, from memory). */
+#define SL_CLUSTERS_FEW 30
 
 /* Called now and then from the calling thread during a bootstrap. */
 typedef void (*sl_progress_fn)(void *ctx, size_t done, size_t total);
@@ -45,6 +58,10 @@ typedef struct sl_est_spec {
   int interactions;              /* standardize: treatment x covariate terms */
   double contrast;               /* continuous treatment: effect of +contrast (default 1) */
   int stabilized;                /* ipw: multiply weights by P(T = t) */
+  int se_kind;                   /* enum sl_se_kind */
+  int interval;                  /* enum sl_interval */
+  int cluster;                   /* 1 + the cluster column's index; 0: none.
+                                    Clustered SEs and a bootstrap of clusters */
   double trunc_lo, trunc_hi;     /* ipw/aipw: truncate weights at these percentiles
                                     (0 and 100: none) */
   size_t boot;                   /* bootstrap replicates (0: none) */
@@ -78,12 +95,25 @@ typedef struct sl_route_info {
   double wald, wald_itt, wald_uptake;
 } sl_route_info;
 
+/* Where the reported standard error comes from. */
+enum sl_se_source { SL_SE_NONE = 0, SL_SE_FROM_SANDWICH, SL_SE_FROM_PS_KNOWN, SL_SE_FROM_ROUTE,
+                    SL_SE_FROM_BOOT };
+
 typedef struct sl_est_result {
   double estimate, se;
-  double lo, hi;                 /* percentile bootstrap; or normal when no bootstrap */
-  double lo_normal, hi_normal;   /* estimate +- z se */
+  int se_source;                 /* enum sl_se_source */
+  int se_log;                    /* the analytic se is of log(estimate) */
+  double se_analytic;            /* NaN when none (e.g. frontdoor with logistic models) */
+  double lo, hi;                 /* the interval asked for (enum sl_interval) */
+  int interval;                  /* which one lo and hi are */
+  double lo_normal, hi_normal;   /* estimate +- z se (exp of log(estimate) +- z se for a
+                                    ratio with the analytic se) */
+  double lo_pct, hi_pct;         /* bootstrap percentile (NaN without a bootstrap) */
+  double lo_bca, hi_bca;         /* bootstrap BCa (NaN when not available) */
+  double accel, bias_z0;         /* BCa's acceleration and bias correction */
   double mu1, mu0;               /* mean potential outcomes (the contrast's two ends) */
   size_t n, dropped;             /* rows used; rows dropped for missing values */
+  size_t nclusters;              /* with cluster: the clusters in the rows used */
   size_t boot_done, boot_failed;
   double ess, ess1, ess0;        /* ipw/aipw: effective sample sizes */
   double ps_min, ps_max;         /* ipw/aipw: fitted propensity range */

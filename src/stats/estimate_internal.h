@@ -22,12 +22,18 @@ typedef struct sl_prep {
   double *A;             /* n x k, row-major */
   const char *anames[SL_ROUTE_MAX];
   int abin[SL_ROUTE_MAX];   /* column j takes only 0 and 1 */
+  size_t *cluster;       /* NULL, or each row's cluster, 0 .. nclusters - 1 */
+  size_t nclusters;
+  size_t *cl_start, *cl_rows;   /* the rows of cluster c: cl_rows[cl_start[c] ..
+                                   cl_start[c + 1]) */
 } sl_prep;
 
 /* One point estimate on a sample of the complete rows. */
 typedef struct sl_point {
   double est, se, mu1, mu0;
   int has_se;
+  int se_log;            /* se is of log(est): a ratio or odds ratio */
+  double accel;          /* BCa acceleration from the influence values */
   double ess, ess1, ess0, ps_min, ps_max;
   size_t ps_extreme;
   sl_route_info route;
@@ -35,12 +41,13 @@ typedef struct sl_point {
 
 int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *e);
 void sl_est_prep_free(sl_prep *P);
+/* want_se: also the analytic standard error (the whole sample only). */
 int sl_est_point(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
-                 sl_point *out, char *warn, sl_error *e);
+                 int want_se, sl_point *out, char *warn, sl_error *e);
 int sl_est_propensity(const sl_prep *P, const size_t *ix, size_t n, double *ps,
                       char *warn, sl_error *e);
 int sl_est_ipw_weights(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
-                       const double *ps, double *w, sl_error *e);
+                       const double *ps, double *w, double *kappa, sl_error *e);
 double sl_est_contrast(int scale, double mu1, double mu0);
 double sl_est_quantile(double *v, size_t n, double q);
 void sl_est_warn(char *buf, const char *msg);
@@ -51,6 +58,19 @@ int sl_est_frontdoor(const sl_est_spec *s, const sl_prep *P, const size_t *ix, s
                      sl_point *out, char *warn, sl_error *e);
 int sl_est_iv(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
               sl_point *out, char *warn, sl_error *e);
+
+/* Analytic standard errors (influence.c): u = H^-1 d for nd vectors d,
+** H = sum v x x' / n over X's n rows (SL_EARG when H is singular); and
+** the contrast's SE from the rows' influence values of mu1 and mu0. */
+int sl_infl_solve(const double *X, const double *v, size_t n, size_t p, const double *d,
+                  size_t nd, double *u, sl_error *e);
+int sl_infl_finish(const sl_prep *P, int scale, double mu1, double mu0, const double *phi1,
+                   const double *phi0, sl_point *out, sl_error *e);
+
+/* The SE and intervals of the result from the whole sample's point and the
+** replicates (boot: s->boot entries, NaN for a failed one; reordered). */
+int sl_est_intervals(const sl_est_spec *s, const sl_point *pt, double *boot,
+                     sl_est_result *res, sl_error *e);
 
 /* The bootstrap: replicate estimates into est[0..B) (NaN when a replicate
 ** failed). */

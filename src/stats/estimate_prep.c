@@ -6,12 +6,12 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <gsl/gsl_cdf.h>
 #include "estimate_internal.h"
 
 void sl_est_prep_free(sl_prep *P) {
   free(P->rows); free(P->t); free(P->y); free(P->C); free(P->A);
   free(P->cnames); free(P->onames); free(P->pnames); free(P->namebuf);
+  free(P->cluster); free(P->cl_start); free(P->cl_rows);
   memset(P, 0, sizeof *P);
 }
 
@@ -115,8 +115,17 @@ static int check_roles(const sl_est_spec *s, sl_error *e) {
                         s->contrast);
   if ((s->method == SL_IPW || s->method == SL_AIPW) && s->contrast != 1)
     return sl_error_set(e, SL_EARG, 0, 0, "a contrast applies to a continuous treatment with standardize");
-  if (s->method == SL_AIPW && s->scale != SL_DIFFERENCE)
-    return sl_error_set(e, SL_EARG, 0, 0, "aipw estimates differences only; use standardize or ipw for ratios");
+  if (s->se_kind == SL_SE_PS_KNOWN && s->method != SL_IPW)
+    return sl_error_set(e, SL_EARG, 0, 0, "se = \"ps known\" applies to method = \"ipw\"");
+  if (s->interval == SL_CI_PERCENTILE && s->boot == 0)
+    return sl_error_set(e, SL_EARG, 0, 0, "interval = \"percentile\" needs a bootstrap: give boot = "
+                        "200 or more");
+  if (s->interval == SL_CI_BCA && (s->method == SL_FRONTDOOR || s->method == SL_IV))
+    return sl_error_set(e, SL_EARG, 0, 0, "interval = \"bca\" applies to standardize, ipw and aipw, "
+                        "whose influence values give its acceleration");
+  if (s->interval == SL_CI_BCA && s->boot < SL_BCA_MIN)
+    return sl_error_set(e, SL_EARG, 0, 0, "interval = \"bca\" needs boot = %d or more (it reads "
+                        "the replicates' tails); got boot = %zu", SL_BCA_MIN, s->boot);
   if (s->method == SL_AIPW && (s->trunc_lo > 0 || s->trunc_hi < 100))
     return sl_error_set(e, SL_EARG, 0, 0, "weight truncation applies to ipw");
   if (s->trunc_lo < 0 || s->trunc_hi > 100 || s->trunc_lo >= s->trunc_hi)
@@ -162,6 +171,62 @@ static int fill_aux(const sl_est_spec *s, sl_prep *P, sl_error *e) {
   return SL_OK;
 }
 
+/* A row's cluster value: a number, or a category's code. */
+static double cluster_value(const sl_column *c, size_t r) {
+  return c->type == SL_NUMERIC ? c->x[r] : (double)c->code[r];
+}
+
+/* Order frame rows by cluster value, then row. */
+static const sl_column *sort_col;
+static int by_cluster(const void *a, const void *b) {
+  size_t i = *(const size_t *)a, j = *(const size_t *)b;
+  double x = cluster_value(sort_col, i), y = cluster_value(sort_col, j);
+  return x < y ? -1 : x > y ? 1 : (i > j) - (i < j);
+}
+
+/* Each complete row's cluster, numbered in the order of the values, and
+** the rows of each cluster; one cluster only is an error.  P is freed on
+** an error. */
+static int fill_clusters(const sl_est_spec *s, sl_prep *P, sl_error *e) {
+  if (!s->cluster) return SL_OK;
+  size_t n = P->n;
+  const sl_column *c = &s->data->col[s->cluster - 1];
+  P->cluster = malloc(n * sizeof *P->cluster);
+  P->cl_rows = malloc(n * sizeof *P->cl_rows);
+  P->cl_start = malloc((n + 1) * sizeof *P->cl_start);
+  if (!P->cluster || !P->cl_rows || !P->cl_start) {
+    sl_est_prep_free(P);
+    return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  }
+  for (size_t k = 0; k < n; k++) P->cl_rows[k] = k;
+  /* sort positions among the complete rows by their frame rows' values */
+  for (size_t k = 0; k < n; k++) P->cluster[k] = P->rows[k];
+  sort_col = c;   /* estimates are prepared one at a time */
+  qsort(P->cluster, n, sizeof *P->cluster, by_cluster);
+  size_t g = 0;
+  for (size_t k = 0; k < n; k++) {   /* frame row -> position: rows increase */
+    size_t r = P->cluster[k], lo = 0, hi = n;
+    while (lo < hi) { size_t mid = (lo + hi) / 2; if (P->rows[mid] < r) lo = mid + 1; else hi = mid; }
+    if (k > 0 && cluster_value(c, r) != cluster_value(c, P->rows[P->cl_rows[k - 1]])) {
+      g++;
+      P->cl_start[g] = k;
+    }
+    P->cl_rows[k] = lo;
+  }
+  P->cl_start[0] = 0;
+  P->nclusters = g + 1;
+  P->cl_start[P->nclusters] = n;
+  for (size_t c2 = 0; c2 < P->nclusters; c2++)
+    for (size_t k = P->cl_start[c2]; k < P->cl_start[c2 + 1]; k++) P->cluster[P->cl_rows[k]] = c2;
+  if (P->nclusters < 2) {
+    int rc = sl_error_set(e, SL_EARG, 0, 0, "cluster = '%s' holds one cluster in the %zu complete "
+                          "rows: clustered standard errors need two or more", c->name, n);
+    sl_est_prep_free(P);
+    return rc;
+  }
+  return SL_OK;
+}
+
 int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *e) {
   memset(P, 0, sizeof *P);
   int rc = check_roles(s, e);
@@ -176,6 +241,7 @@ int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *
              (s->outcome < 0 || !missing(&f->col[s->outcome], r));
     for (size_t i = 0; ok && i < s->nset; i++) ok = !missing(&f->col[s->set[i]], r);
     for (size_t i = 0; ok && i < s->naux; i++) ok = !missing(&f->col[s->aux[i]], r);
+    if (ok && s->cluster) ok = !missing(&f->col[s->cluster - 1], r);
     keep[r] = (unsigned char)ok;
     n += (size_t)ok;
   }
@@ -242,6 +308,7 @@ int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *
   P->bin_t = is_binary(P->t, n);
   P->bin_y = is_binary(P->y, n);
   if ((rc = fill_aux(s, P, e))) return rc;
+  if ((rc = fill_clusters(s, P, e))) return rc;
   double t0 = P->t[0];
   int one = 1;
   for (size_t m = 1; m < n && one; m++) one = P->t[m] == t0;
@@ -283,7 +350,7 @@ int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
   if (!ix) { sl_est_prep_free(&P); return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); }
   for (size_t i = 0; i < P.n; i++) ix[i] = i;
   sl_point pt;
-  rc = sl_est_point(s, &P, ix, P.n, &pt, res->warnings, e);
+  rc = sl_est_point(s, &P, ix, P.n, 1, &pt, res->warnings, e);
   if (rc) goto done;
   if (s->scale == SL_RATIO && !(pt.mu0 > 0 && pt.mu1 >= 0)) {
     rc = sl_error_set(e, SL_EARG, 0, 0, "scale = \"ratio\" needs positive mean outcomes, and the "
@@ -292,15 +359,20 @@ int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
                       s->data->col[s->outcome].name, pt.mu0, pt.mu1);
     goto done;
   }
-  res->estimate = pt.est; res->se = pt.se; res->has_se = pt.has_se;
+  res->estimate = pt.est;
   res->mu1 = pt.mu1; res->mu0 = pt.mu0;
   res->n = P.n;
   res->ess = pt.ess; res->ess1 = pt.ess1; res->ess0 = pt.ess0;
   res->ps_min = pt.ps_min; res->ps_max = pt.ps_max; res->ps_extreme = pt.ps_extreme;
   res->binary_outcome = P.bin_y; res->binary_treatment = P.bin_t;
   res->route = pt.route;
-  double level = s->level > 0 && s->level < 1 ? s->level : 0.95;
-  double z = gsl_cdf_ugaussian_Pinv(0.5 + level / 2);
+  if (P.cluster && P.nclusters < SL_CLUSTERS_FEW) {
+    char m[200];
+    snprintf(m, sizeof m, "%zu clusters: clustered standard errors are too small with fewer "
+             "than %d (common practice); read the interval with care", P.nclusters, SL_CLUSTERS_FEW);
+    sl_est_warn(res->warnings, m);
+  }
+  res->nclusters = P.nclusters;
   if (s->method != SL_STANDARDIZE && pt.ps_extreme) {
     char m[160];
     snprintf(m, sizeof m, "%zu fitted propensities fall outside [0.01, 0.99]: check overlap{}",
@@ -311,49 +383,8 @@ int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
     boot = malloc(s->boot * sizeof *boot);
     if (!boot) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
     if ((rc = sl_est_bootstrap(s, &P, boot, e))) goto done;
-    size_t ok = 0;
-    for (size_t b = 0; b < s->boot; b++) if (!isnan(boot[b])) boot[ok++] = boot[b];
-    res->boot_done = ok;
-    res->boot_failed = s->boot - ok;
-    if (ok < 2) { rc = sl_error_set(e, SL_EARG, 0, 0, "fewer than two bootstrap replicates succeeded"); goto done; }
-    double mean = 0, ss = 0;
-    for (size_t b = 0; b < ok; b++) mean += boot[b];
-    mean /= (double)ok;
-    for (size_t b = 0; b < ok; b++) ss += (boot[b] - mean) * (boot[b] - mean);
-    res->se = sqrt(ss / (double)(ok - 1));
-    res->has_se = 1;
-    res->lo = sl_est_quantile(boot, ok, 50 * (1 - level));
-    res->hi = sl_est_quantile(boot, ok, 100 - 50 * (1 - level));
-    if (res->boot_failed) {
-      char m[192];
-      snprintf(m, sizeof m, "%zu of %zu bootstrap replicates failed (e.g. one treatment level only%s) "
-               "and were left out", res->boot_failed, s->boot,
-               s->scale == SL_RATIO ? ", or a mean outcome at or below 0" : "");
-      sl_est_warn(res->warnings, m);
-    }
-  } else if (!res->has_se) {
-    sl_est_warn(res->warnings, s->method == SL_STANDARDIZE
-                ? "no standard error without a bootstrap: give boot = 200 or more"
-                : s->method == SL_FRONTDOOR
-                ? "no analytic standard error for this front-door estimate (it has one only when "
-                  "every model is linear without interactions, on the difference scale): give "
-                  "boot = 200 or more"
-                : s->method == SL_IV
-                ? "no standard error: the outcome is an exact linear function of the fitted "
-                  "treatment and the set; give boot = 200 or more"
-                : "no standard error on a ratio scale without a bootstrap: give boot = 200 or more");
-  } else if (s->method == SL_IPW) {
-    sl_est_warn(res->warnings, "the IPW standard error treats the propensities as known "
-                "(conservative for the ATE); boot = 200 or more gives a bootstrap interval");
   }
-  if (res->has_se) {
-    res->lo_normal = res->estimate - z * res->se;
-    res->hi_normal = res->estimate + z * res->se;
-    if (s->boot == 0) { res->lo = res->lo_normal; res->hi = res->hi_normal; }
-  } else {
-    res->lo = res->hi = res->lo_normal = res->hi_normal = NAN;
-    res->se = NAN;
-  }
+  rc = sl_est_intervals(s, &pt, boot, res, e);
 done:
   free(ix); free(boot);
   sl_est_prep_free(&P);
@@ -378,7 +409,7 @@ int sl_est_weights(const sl_est_spec *s, sl_weights *out, sl_error *e) {
   for (size_t i = 0; i < n; i++) { ix[i] = i; out->t[i] = P.t[i]; out->rows[i] = P.rows[i]; }
   char warn[SL_WARN_MAX] = "";
   if ((rc = sl_est_propensity(&P, ix, n, out->ps, warn, e))) goto done;
-  if ((rc = sl_est_ipw_weights(s, &P, ix, n, out->ps, out->w, e))) goto done;
+  if ((rc = sl_est_ipw_weights(s, &P, ix, n, out->ps, out->w, NULL, e))) goto done;
   out->n = n;
 done:
   free(ix);

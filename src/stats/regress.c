@@ -53,7 +53,6 @@
 
 #define SL_QR_BLOCK_WORK 9216u     /* (p+1) x (rows + p + 1) per block */
 #define SL_QR_BLOCK_MAX 4096u
-#define SL_GEMM_WORK 262144u      /* rows x p x p per matrix product */
 #define SL_HALVINGS 30             /* step-halvings before giving up */
 #define SL_EXTREME (10 * DBL_EPSILON)  /* "numerically 0 or 1" */
 #define SL_DRIFT 0.1               /* logit units per iteration: diverging */

@@ -18,6 +18,10 @@
 ** most this.  Scale-free; NIST's Filip (tenth-degree polynomial) has 5e-8. */
 #define SL_RANK_TOL 1e-9
 
+/* Rows x p x p per matrix product: below this OpenBLAS runs a product on
+** one thread, so sums come out in the same order whatever the threads. */
+#define SL_GEMM_WORK 262144u
+
 typedef struct sl_fit {
   size_t n, p;
   double *coef;          /* p */

@@ -116,7 +116,8 @@ def expected(m, est, out, trt, scale):
         psi = t * (yv - m0) - (1 - t) * ps / (1 - ps) * (yv - m0)
         tau = psi.sum() / t.sum()
         inf = (psi - t * tau) / p
-    return tau, inf.std(ddof=1) / np.sqrt(n)
+    # the sandwich's 1/n (HC0), as in Stefanski and Boos 2002
+    return tau, inf.std(ddof=0) / np.sqrt(n)
 
 
 passed = failed = 0
