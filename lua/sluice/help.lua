@@ -643,19 +643,32 @@ caution. A path ending in .html gives a self-contained page (CommonMark through
 libcmark, pictures inlined). In a replay the path must be inside --out.]],
     example = [[report "orchard-report.html"]] },
   { name = "exercise", topic = "session",
-    sig = "exercise{graph=, model=, treatment=, outcome=, n=, seed=, dir=, scenario=}",
+    sig = "exercise{graph=, model=, dir=, treatment=, outcome=, n=, seed=, scenario=, sets=, questions=, digits=, draws=}",
     brief = "A teaching kit: data, graph, handout and answer key",
     returns = "a table of the files written",
-    summary = [[For teaching: writes into dir (made, with any missing folders above it)
-data.csv simulated from the
-model (m:simulate(n, {seed = seed})), graph.svg, handout.md (the scenario,
-the graph in notation, questions on which sets are valid and what each
-candidate set estimates) and key.md (the answers computed by sluice: the
-minimal and optimal sets, the true effect and the comparison table). The same
-seed gives the same files. treatment and outcome default to the graph's first
-and last nodes in causal order. An unknown argument is an error.]],
+    summary = [[For teaching: writes into the folder dir data.csv, n rows (default 200)
+simulated from the model with the seed (m:simulate) and rounded to digits
+significant digits (default 4), graph.svg, handout.md (the scenario, the
+graph, the candidate adjustment sets and the questions, each naming the
+sluice calls that answer it, with no answers) and key.md (the answers,
+computed from data.csv as the students have it: the true effect, exact or
+by Monte Carlo with draws draws (default 200000) and its SE for binary or
+binarized nodes; the minimal and optimal sets, or why there is none; each
+candidate set's estimate and interval, and the reasons an invalid set
+fails; the comparison table). sets = adds candidate sets as in compare{}
+(e.g. sets = {"m"} for the middle of an M-structure). questions = picks
+the parts, in this order: "trails", "valid", "estimate", "choose", "test"
+(g:test of the graph's implications); the default is {"valid",
+"estimate", "choose"}. treatment and outcome default to the graph's first
+and last nodes in causal order. The same seed gives the same files.
+Everything is computed before anything is written; the kit is written
+into a temporary folder beside dir and then moved into place, so an
+error leaves no part of a kit. A dir that exists must be empty, hold an
+earlier kit (whose four files are replaced) or hold none of the kit's
+file names; other files in it are left alone. An unknown argument or
+part is an error naming the closest.]],
     example = [=[exercise{graph = g, model = m, treatment = "mulch", outcome = "harvest",
-         n = 300, seed = 4, dir = "kit"}]=] },
+         n = 300, seed = 4, dir = "kit", questions = {"valid", "estimate"}}]=] },
 }
 
 -- The entries of the data frame functions live beside their binding.
