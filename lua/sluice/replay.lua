@@ -16,7 +16,8 @@ local T = require "sluice.logtext"
 -- string library in its own environment cannot reach these.
 local real = S._real
 local concat, pack, format = table.concat, table.pack, string.format
-local find, sub, match, gsub = string.find, string.sub, string.match, string.gsub
+local find, sub, match, gsub, gmatch = string.find, string.sub, string.match, string.gsub,
+                                      string.gmatch
 local tostring, type, pairs, ipairs, select = tostring, type, pairs, ipairs, select
 local setmetatable, getmetatable, rawequal = setmetatable, getmetatable, rawequal
 local stdout = io.stdout
@@ -31,6 +32,7 @@ R.MAX_LINES = 200000      -- lines one entry may print
 R.MAX_TOTAL = 256 << 20   -- bytes all entries together may send
 R.MAX_SHOWN = 10          -- differing lines of one entry shown in the report
 R.MAX_WIDTH = 300         -- bytes of a shown line (the rest is counted)
+R.MAX_PLACED = 1024       -- relative writes whose place in --out is shown as typed
 
 local function say(...) real.fwrite(stdout, ...) end
 
@@ -69,6 +71,73 @@ local function inside(root, path)
   return under(hooks.realpath(dir))
 end
 
+-- ---- where a replay's writes go ----
+--
+-- With --out DIR a write to a relative path p goes to DIR/p (realpath of
+-- DIR), so a session that drew pictures replays into DIR; an absolute path
+-- must already be beneath DIR.  inside() then decides on the place, as the
+-- kernel does: Landlock allows writes beneath DIR only.  Reads are left as
+-- recorded, relative to the working directory.
+
+-- The place of a write to path, or nil when it is not beneath root.
+local function place(root, path)
+  if math.type(path) then path = tostring(path) end   -- Lua passes numbers as names
+  if not root or type(path) ~= "string" or path == "" then return nil end
+  local to = sub(path, 1, 1) == "/" and path or root .. "/" .. path
+  if not inside(root, to) then return nil end
+  return to
+end
+
+-- Make the folders of relative path p beneath root that the working
+-- directory has, so that g:draw("figs/a.svg") finds figs/ as it did in the
+-- session.  Only after place() accepted p; no ".." is followed, and each
+-- folder made is checked to be beneath root.
+local function mirror(root, p)
+  local dir = match(p, "^(.*)/[^/]*$")
+  if not dir or dir == "" or hooks.file_kind(dir) ~= "directory" then return end
+  for c in gmatch(dir, "[^/]+") do if c == ".." then return end end
+  local at = root
+  for c in gmatch(dir, "[^/]+") do
+    if c ~= "." then
+      at = at .. "/" .. c
+      if not inside(root, at) then return end
+      if not hooks.file_kind(at, true) then hooks.mkdir(at) end
+    end
+  end
+end
+
+-- s with each plain occurrence of a replaced by b.
+local function replace_plain(s, a, b)
+  local out, i = {}, 1
+  while true do
+    local j = find(s, a, i, true)
+    if not j then break end
+    out[#out + 1] = sub(s, i, j - 1)
+    out[#out + 1] = b
+    i = j + #a
+  end
+  if i == 1 then return s end
+  out[#out + 1] = sub(s, i)
+  return concat(out)
+end
+
+-- The relative writes placed in --out, so that what an entry prints shows
+-- the path as typed (root/p as p): {root=, list = {{to, from}}, seen = {}}.
+local function new_placed(root) return {root = root, list = {}, seen = {}} end
+
+local function note_placed(placed, to, from)
+  if placed.seen[to] or #placed.list >= R.MAX_PLACED then return end
+  placed.seen[to] = true
+  placed.list[#placed.list + 1] = {to, from}
+  table.sort(placed.list, function(a, b) return #a[1] > #b[1] end)
+end
+
+local function as_typed(placed, s)
+  if not placed or #placed.list == 0 or not find(s, placed.root .. "/", 1, true) then return s end
+  for _, m in ipairs(placed.list) do s = replace_plain(s, m[1], m[2]) end
+  return s
+end
+
 local function copy(t)
   local c = {}
   for k, v in pairs(t) do c[k] = v end
@@ -80,18 +149,27 @@ end
 local LIBS = {"string", "table", "math", "utf8", "coroutine", "os", "io"}
 
 -- An environment for replayed code.  blocked(name) hears of every refusal.
-local function sandbox(out_dir, blocked)
-  local root = out_dir and hooks.realpath(out_dir) or nil
+-- placed (new_placed) hears of every relative write placed in --out.
+local function sandbox(out_dir, blocked, placed)
+  local root = placed.root
   local where = out_dir and ("--out " .. out_dir) or "an --out folder"
   local function refuse(name, level)
     blocked(name)
     error("blocked by the replay sandbox: " .. name, level or 3)
   end
   local function block(name) return function() refuse(name) end end
-  local function guard(path, what)
-    if not inside(root, path) then
-      refuse(what .. "(" .. format("%q", tostring(path)) .. ") writes outside " .. where, 4)
+  -- The place of a write to path; refuses with the message what(path).
+  local function put(path, message, level)
+    local to = place(root, path)
+    if not to then refuse(message .. " writes outside " .. where, level) end
+    if to ~= tostring(path) then
+      mirror(root, tostring(path))
+      note_placed(placed, to, tostring(path))
     end
+    return to
+  end
+  local function guard(path, what)
+    return put(path, what .. "(" .. format("%q", tostring(path)) .. ")", 5)
   end
   S._set_guard(guard)
   local env = copy(_G)
@@ -103,15 +181,15 @@ local function sandbox(out_dir, blocked)
   env.io.popen = block("io.popen")
   env.io.open = function(path, mode)
     mode = mode == nil and "r" or mode
-    if type(mode) == "string" and not find(mode, "^r[b]?$") and not inside(root, path) then
-      refuse("io.open(" .. format("%q", tostring(path)) .. ", \"" .. mode
-             .. "\") writes outside " .. where)
+    if not (type(mode) == "string" and find(mode, "^r[b]?$")) then
+      path = put(path, "io.open(" .. format("%q", tostring(path)) .. ", \""
+                       .. tostring(mode) .. "\")", 4)
     end
     return real.open(path, mode)
   end
   env.io.output = function(f)
-    if type(f) == "string" and not inside(root, f) then
-      refuse("io.output(" .. format("%q", f) .. ") writes outside " .. where)
+    if type(f) == "string" or math.type(f) then
+      f = put(f, "io.output(" .. format("%q", tostring(f)) .. ")", 4)
     end
     return real.output(f)
   end
@@ -125,15 +203,17 @@ local function sandbox(out_dir, blocked)
   local mod = copy(M)
   mod.log = function(path)
     if path == nil or path == false then return S.log(path) end
-    guard(path, "log")
-    return S.log(path)
+    return S.log(guard(path, "log"))
   end
   mod.report = function(path, ...)
-    guard(path, "report")
-    return S.report(path, ...)
+    return S.report(guard(path, "report"), ...)
   end
   mod.exercise = function(o, ...)
-    if type(o) == "table" then guard((o.dir or ".") .. "/handout.md", "exercise") end
+    if type(o) == "table" and (type(o.dir) == "string" and o.dir ~= "" or math.type(o.dir)) then
+      local c = copy(o)
+      c.dir = guard(o.dir, "exercise")
+      return S.exercise(c, ...)
+    end
     return S.exercise(o, ...)
   end
   for _, k in ipairs({"log", "report", "exercise"}) do env[k] = mod[k] end
@@ -196,7 +276,7 @@ end
 
 -- Run one entry as the prompt would: the text it printed, whether it
 -- raised an error, the files it read and drew, and a compile message.
-local function run_entry(e, env)
+local function run_entry(e, env, placed)
   -- as statements only, the way `sluice LOG` runs them: the prompt wrote an
   -- expression as show(...), so no entry of a real log is a bare expression
   local name = "=[input " .. e.n .. "]"
@@ -222,7 +302,7 @@ local function run_entry(e, env)
       cap[#cap + 1] = "error: " .. strip_position(e, concat(lines, "\n")) .. "\n"
     end
   end)
-  return text, failed, run, not fn and msg
+  return as_typed(placed, text), failed, run, not fn and msg
 end
 
 -- The child's whole life; it never returns.
@@ -247,12 +327,13 @@ local function child_main(parsed, o)
   local env
   -- SLUICE_TEST_KERNEL_ONLY: the tests' way to show that the kernel alone holds
   local bare = os.getenv("SLUICE_TEST_KERNEL_ONLY") ~= nil
+  local placed = not (o.trust or bare) and new_placed(o.out and hooks.realpath(o.out)) or nil
   local function fresh()
     if o.trust or bare then
       env = _G
       env.log = function() return nil end
     else
-      env = sandbox(o.out, note)
+      env = sandbox(o.out, note, placed)
     end
   end
   fresh()
@@ -261,14 +342,14 @@ local function child_main(parsed, o)
       if e.new_session then fresh() end
       blocked_here = {}
       send("E", tostring(e.n))
-      local text, failed, run, cmsg = run_entry(e, env)
+      local text, failed, run, cmsg = run_entry(e, env, placed)
       send("O", text)
       if failed then send("F", "") end
       if cmsg then send("C", cmsg) end
       for _, d in ipairs(run.data) do
         send("D", concat({tostring(d.path), tostring(d.bytes), tostring(d.sha256)}, "\0"))
       end
-      for _, p in ipairs(run.pictures) do send("P", tostring(p)) end
+      for _, p in ipairs(run.pictures) do send("P", as_typed(placed, tostring(p))) end
       for _, b in ipairs(blocked_here) do send("B", tostring(b)) end
       send("Z", "")
     end

@@ -108,6 +108,10 @@ static void child_start(lua_State *L, int rfd, int efd) {
     return;
   confine_opts o;
   o.out_dir = lua_getfield(L, 1, "out") == LUA_TSTRING ? lua_tostring(L, -1) : NULL;
+  /* the libraries' temporary files (PLplot's, SQLite's) go where the
+  ** child may write: beneath --out, or nowhere */
+  if (setenv("TMPDIR", o.out_dir != NULL ? o.out_dir : "/nonexistent", 1) != 0)
+    _exit(5);
   lua_getfield(L, 1, "cpu");
   o.cpu_seconds = (unsigned long)lua_tointeger(L, -1);
   char why[512];

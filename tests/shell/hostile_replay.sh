@@ -248,7 +248,20 @@ replay --out out
 expect 1 "1=ok 2=bad 3=bad 4=bad 5=bad 6=bad 7=bad 8=bad 9=bad 10=bad 11=ok 12=ok 13=differs" \
   "" "inside out"
 [ "$(cat out/plain.txt 2>/dev/null)" = inside ] || problem "a plain write inside --out did not happen"
-[ -s out/new/key.md ] || problem "exercise{dir = \"out/new\"} inside --out wrote no key.md"
+[ -s out/new/key.md ] || problem "exercise{dir = \"new\"} inside --out wrote no key.md"
+done_case
+
+# Relative writes are placed in --out: links and ".." must not lead out.
+setup out_mapping
+mkdir out/canary esc esc/sub figs
+ln -s "$outside" out/esc
+ln -s "$outside/canary" tolink
+replay --out out
+expect 1 "1=ok 2=bad 3=bad 4=bad 5=bad 6=bad 7=bad 8=bad 9=bad 10=bad 11=ok 12=ok 13=differs" \
+  "2 3 4 5 6 7 8 9 10" "inside out"
+[ "$(cat out/tolink/x.txt 2>/dev/null)" = inside ] || problem "a write through the working directory's link did not land in out/tolink"
+[ -s out/figs/ok.svg ] || problem "g:draw(\"figs/ok.svg\") did not land in out/figs"
+[ -e "$outside/sub" ] && problem "a folder was made through the link out/esc"
 done_case
 
 # Endless entries: each its own log, stopped by --limit.

@@ -20,18 +20,18 @@ os.remove("keep.txt")
 --@ in 4
 io.open("$tmp/outside.txt", "w"):write("x")
 --@ in 5 show
-show(io.open("out/inside.txt", "w"):write("factory line 3"):close())
+show(io.open("inside.txt", "w"):write("factory line 3"):close())
 --| true
 --@ in 6
 load("os.execute('touch loaded')")()
 --@ in 7
-graph("a -> b"):draw("drawn.svg")
+graph("a -> b"):draw("../drawn.svg")
 --@ in 8
 require("os").rename("keep.txt", "moved.txt")
 --@ in 9
 debug.getregistry()
 --@ in 10
-io.open("out/../escaped.txt", "w")
+io.open("../escaped.txt", "w")
 --@ in 11 show
 show(1 + 1)
 --| 2
@@ -49,10 +49,10 @@ has "blocked: in 2: io.popen" "io.popen is reported"
 has "blocked: in 3: os.remove" "os.remove is reported"
 has "blocked: in 4: io.open(\"$tmp/outside.txt\", \"w\") writes outside --out out" "a write outside --out is reported"
 has "blocked: in 6: os.execute" "load inherits the sandbox"
-has "blocked: in 7: g:draw(\"drawn.svg\") writes outside --out out" "g:draw is checked"
+has "blocked: in 7: g:draw(\"../drawn.svg\") writes outside --out out" "g:draw is checked"
 has "blocked: in 8: os.rename" "require(\"os\") is the sandbox's os"
 has "blocked: in 9: debug.getregistry" "debug is blocked"
-has "blocked: in 10: io.open(\"out/../escaped.txt\"" "a path that leaves --out through .. is blocked"
+has "blocked: in 10: io.open(\"../escaped.txt\"" "a path that leaves --out through .. is blocked"
 has "in 5: ok" "an allowed write matches"
 has "in 11: ok" "replay goes on after blocked calls"
 has "11 commands: 2 matched, 0 differed, 9 blocked" "the summary counts them"
@@ -217,12 +217,12 @@ $head3
 --@ in 1
 g = graph "rain -> yield"; m = sem(g, {["rain -> yield"] = 1})
 --@ in 2
-kit = exercise{graph = g, model = m, dir = "out2/new/kit", n = 20}
+kit = exercise{graph = g, model = m, dir = "new/kit", n = 20}
 --@ in 3 show
-show(log("out2/inside-log.lua") ~= nil)
+show(log("inside-log.lua") ~= nil)
 --| true
 --@ in 4
-log("outside-log.lua")
+log("../outside-log.lua")
 --@ in 5
 os.tmpname()
 LOG
@@ -231,9 +231,73 @@ LOG
 [ -f out2/inside-log.lua ] || fail "log(path) beneath --out starts a log there"
 [ -e outside-log.lua ] && fail "log(path) outside --out writes nothing"
 has "in 2: ok" "exercise beneath --out is not blocked"
-has "blocked: in 4: log(\"outside-log.lua\") writes outside --out out2" "log() outside is named"
+has "blocked: in 4: log(\"../outside-log.lua\") writes outside --out out2" "log() outside is named"
 has "blocked: in 5: os.tmpname" "os.tmpname is blocked"
 ok "exercise into a new folder beneath --out; log() and os.tmpname in the sandbox"
+
+# ---- --out DIR: where a replayed log's writes go (issue 12) ----
+# Relative writes land beneath DIR, their folders made as the working
+# directory has them, and print the path as typed; reads stay where they
+# were recorded; writes that leave DIR are still blocked.
+rm -rf out3 figs; mkdir out3 figs
+printf 'plot,n\n1,5\n2,7\n' > field.csv
+printf 'plot,n\n1,5\n' > out3/field.csv
+cat > placed.lua <<LOG
+$head3
+--@ in 1
+g = graph "rain -> soil -> yield"
+m = sem(g, {["rain -> soil"] = 0.5, ["soil -> yield"] = 0.8})
+d = m:simulate(40, {seed = 1})
+--@ in 2 show
+show(g:draw("figs/rain.svg"))
+--| figs/rain.svg
+--@ in 3
+d:write_csv("draws.csv")
+local f = io.open("notes.txt", "w") f:write("plot 3") f:close()
+io.output("plain.txt") io.write("plain") io.close() io.output(io.stdout)
+print("written")
+--| written
+--@ in 4 show
+show(report("session.md"))
+--| session.md
+--@ in 5 show
+show(log("kept.lua"))
+--| kept.lua
+--@ in 6
+print(exercise{graph = g, model = m, dir = "kit", n = 20}.key)
+--| kit/key.md
+--@ in 7
+local r = g:test(d, {plot = "tests.svg"})
+print(#r)
+--| 1
+--@ in 8 show
+show(#read_csv("field.csv"))
+--| 2
+--@ in 9
+io.open("figs/../../escape.txt", "w")
+--@ in 10
+g:draw("$tmp/absolute.svg")
+--@ in 11
+d:write_csv("../draws-outside.csv")
+LOG
+"$exe" --replay placed.lua --out out3 > out.txt 2>&1
+[ $? = 1 ] || fail "the replay with blocked writes exits 1"
+for f in figs/rain.svg draws.csv notes.txt plain.txt session.md kept.lua kit/key.md kit/data.csv \
+         kit/graph.svg tests.svg; do
+  [ -s "out3/$f" ] || fail "the relative write of $f lands in --out: out3/$f"
+  [ -e "$f" ] && fail "the relative write of $f does not land in the working directory"
+done
+for f in escape.txt absolute.svg draws-outside.csv; do
+  [ -e "$f" ] && fail "a write that leaves --out is blocked: $f exists"
+done
+[ "$(cat out3/notes.txt)" = "plot 3" ] || fail "io.open for writing lands in --out"
+for k in 1 2 3 4 5 6 7 8; do has "in $k: ok" "entry $k matches, printing the paths as typed"; done
+has "blocked: in 9: io.open(\"figs/../../escape.txt\", \"w\") writes outside --out out3" ".. out of --out is blocked"
+has "blocked: in 10: g:draw(\"$tmp/absolute.svg\") writes outside --out out3" "an absolute path outside --out is blocked"
+has "blocked: in 11: f:write_csv(\"../draws-outside.csv\") writes outside --out out3" "f:write_csv out of --out is blocked"
+has "11 commands: 8 matched, 0 differed, 3 blocked" "the summary"
+grep -q 'out3' out3/session.md && fail "the report names nothing of --out"
+ok "--out DIR: relative writes land in DIR as typed; reads stay; writes leaving DIR are blocked"
 
 # ---- logs that are not plain files, and a log saved with CRLF ----
 "$exe" --replay . > out.txt 2>&1
