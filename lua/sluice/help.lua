@@ -350,7 +350,7 @@ predicts the response perfectly) is a warning that names the column.
 :predict(f) gives probabilities.]],
     example = [[m = logit{data = pupils, y = "passed", x = {"tutoring", "attendance"}}]] },
   { name = "estimate", topic = "estimate",
-    sig = "estimate{data=, treatment=, outcome=, set= | graph=, method=, via=, instrument=, boot=, seed=}",
+    sig = "estimate{data=, treatment=, outcome=, set= | graph=, method=, se=, cluster=, boot=, interval=}",
     brief = "The average effect of a treatment",
     returns = "{estimate=, se=, lo=, hi=, n=, method=, set=, warnings=, ...}",
     summary = [[The average causal effect of treatment on outcome, adjusted for set (or for
@@ -360,12 +360,28 @@ has no optimal set, the smallest minimal set and why). method:
 covariate interactions, linear or logistic), "ipw" (normalised weights;
 stabilized = true, truncate = {1, 99}; printed with the effective sample
 size (sum w)^2 / sum w^2 over all rows and within each group, which need
-not add up to the overall one) or "aipw" (doubly robust, with its
-influence-function SE). estimand "ATE", "ATT" or "ATC"; scale "difference",
-"ratio" (of means, which must both be positive) or "odds ratio";
-contrast = d (finite, not 0) for a continuous treatment. boot = B gives a
-bootstrap (level strictly between 0 and 1, default 0.95; seed = a whole
-number), identical for a seed whatever the number of threads. When graph
+not add up to the overall one) or "aipw" (doubly robust). estimand "ATE",
+"ATT" or "ATC"; scale "difference", "ratio" (of means, which must both be
+positive) or "odds ratio"; contrast = d (finite, not 0) for a continuous
+treatment.
+Uncertainty comes without asking: an analytic SE from the estimating
+equations of the working model and the two means, stacked (the M-estimation
+sandwich, Stefanski and Boos 2002): for standardization with its outcome
+model, for IPW with its propensity model (Lunceford and Davidian 2004;
+se = "ps known" treats the propensities as known, conservative for the ATE
+only), for AIPW from the two means' influence functions. A ratio's or odds
+ratio's SE is of its logarithm and its interval exp(log estimate +- z SE).
+cluster = "column": sums within clusters first (Liang and Zeger 1986), a
+warning below 30 clusters, and a bootstrap that draws whole clusters.
+boot = B adds a bootstrap (seed = a whole number; identical for a seed
+whatever the number of threads): its SE, the percentile interval and, with
+B >= 1000, BCa (Efron 1987; acceleration from the influence values).
+interval = "normal" | "percentile" | "bca" picks the one in lo, hi (default:
+percentile with boot =, normal without). Prefer the analytic interval for
+speed and with large n; BCa when the estimate's distribution is skewed
+(ratios, small n, rare outcomes): it corrects the percentile interval's
+bias and skew and is second-order accurate. level strictly between 0 and 1,
+default 0.95. When graph
 admits no adjustment set, the error says so and names the routes it has
 (front-door set, instrument, or the general formula of g:identify) with the
 call to use.
