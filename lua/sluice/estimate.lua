@@ -67,6 +67,17 @@ local function closest(word, choices)
 end
 E.closest = closest
 
+-- Refuse key k, not one of the sorted names: suggest the nearest, or
+-- list them all when none is near (word: "argument" or "option").
+local function unknown_key(fname, k, names, word)
+  local near = type(k) == "string" and closest(k, names)
+  fail(fname, string.format("unknown %s %s%s", word,
+       type(k) == "string" and ("'" .. k .. "'") or show(k),
+       near and ("; did you mean '" .. near .. "'?")
+       or (" (" .. word .. "s: " .. table.concat(names, ", ") .. ")")))
+end
+E.unknown_key = unknown_key
+
 -- One of the allowed words, or an error that suggests the nearest.
 local function choice(fname, key, value, allowed, default)
   if value == nil then return default end
@@ -172,11 +183,7 @@ local function args(fname, a, keys)
   for k in pairs(keys) do names[#names + 1] = k end
   table.sort(names)
   for k in pairs(a) do
-    if not keys[k] then
-      local near = type(k) == "string" and closest(k, names)
-      fail(fname, string.format("unknown argument '%s'%s", tostring(k),
-           near and ("; did you mean '" .. near .. "'?") or ""))
-    end
+    if not keys[k] then unknown_key(fname, k, names, "argument") end
   end
   if not is_frame(a.data) then fail(fname, "data = must be a data frame (read_csv, read_sql)") end
   return a

@@ -31,11 +31,7 @@ local function only(fname, a, keys)
   for k in pairs(keys) do names[#names + 1] = k end
   table.sort(names)
   for k in pairs(a) do
-    if not keys[k] then
-      local near = type(k) == "string" and E.closest(k, names)
-      E.fail(fname, string.format("unknown argument '%s'%s", tostring(k),
-             near and ("; did you mean '" .. near .. "'?") or ""))
-    end
+    if not keys[k] then E.unknown_key(fname, k, names, "argument") end
   end
 end
 

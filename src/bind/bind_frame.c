@@ -155,39 +155,23 @@ static const char **check_na(lua_State *L, int idx, size_t *n) {
   return v;
 }
 
-/* Every key of the options table at arg must be one of known (n of them,
-** listed in the text all); an unknown one suggests the closest. */
-static void check_keys(lua_State *L, int arg, const char *fn, const char *const *known,
-                       size_t n, const char *all) {
-  lua_pushnil(L);
-  while (lua_next(L, arg)) {
-    lua_pop(L, 1);
-    const char *k = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : NULL;
-    int ok = 0;
-    for (size_t i = 0; k && i < n; i++) ok |= strcmp(k, known[i]) == 0;
-    if (!ok) {
-      const char *near = k ? sl_closest(k, known, n) : NULL;
-      if (near) luaL_error(L, "%s: unknown option '%s'; did you mean '%s'?", fn, k, near);
-      luaL_error(L, "%s: unknown option '%s' (options: %s)", fn,
-                 k ? k : luaL_typename(L, -1), all);
-    }
-  }
-}
-
 /* Read the options table of read_csv into o. */
 static void csv_options(lua_State *L, int arg, sl_csv_opts *o) {
   static const char *const known[] = {"delim", "na", "coerce"};
   memset(o, 0, sizeof *o);
   if (lua_isnoneornil(L, arg)) return;
   luaL_checktype(L, arg, LUA_TTABLE);
-  check_keys(L, arg, "read_csv", known, 3, "delim, na, coerce");
+  sl_bind_check_options(L, arg, "read_csv", known, 3);
   if (lua_getfield(L, arg, "delim") != LUA_TNIL) o->delim = check_delim(L, -1);
   lua_pop(L, 1);
   if (lua_getfield(L, arg, "na") != LUA_TNIL) {
     o->na = check_na(L, -1, &o->nna);
     lua_replace(L, -2);   /* keep the userdata, drop the option value */
   } else lua_pop(L, 1);
-  lua_getfield(L, arg, "coerce");
+  /* a typo such as coerce = "yes" must not pass for true */
+  int t = lua_getfield(L, arg, "coerce");
+  if (t != LUA_TNIL && t != LUA_TBOOLEAN)
+    luaL_error(L, "read_csv: option coerce must be true or false, got %s", sl_bind_value_text(L, -1));
   o->coerce = lua_toboolean(L, -1);
   lua_pop(L, 1);
 }
@@ -263,7 +247,7 @@ static void sql_options(lua_State *L, int arg, sl_sql_opts *o) {
   memset(o, 0, sizeof *o);
   if (lua_isnoneornil(L, arg)) return;
   luaL_checktype(L, arg, LUA_TTABLE);
-  check_keys(L, arg, "read_sql", known, 1, "limit");
+  sl_bind_check_options(L, arg, "read_sql", known, 1);
   int t = lua_getfield(L, arg, "limit");
   if (t == LUA_TNIL) { lua_pop(L, 1); return; }
   if (t != LUA_TNUMBER)

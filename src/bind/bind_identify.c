@@ -128,7 +128,7 @@ static int32_t *given_set(lua_State *L, const sl_graph *g, size_t *n) {
   while (lua_next(L, 4)) {
     lua_pop(L, 1);
     if (lua_type(L, -1) != LUA_TSTRING || strcmp(lua_tostring(L, -1), "given") != 0) {
-      const char *k = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : "?";
+      const char *k = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : sl_bind_value_text(L, -1);
       static const char *const known[] = {"given"};
       const char *near = sl_closest(k, known, 1);
       fail(L, "identify", near ? lua_pushfstring(L, "unknown option '%s'; did you mean 'given'?", k)
@@ -333,7 +333,7 @@ static int l_evaluate(lua_State *L) {
   lua_pushnil(L);
   while (lua_next(L, 3)) {
     lua_pop(L, 1);
-    const char *k = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : "?";
+    const char *k = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : sl_bind_value_text(L, -1);
     if (strcmp(k, "at") && strcmp(k, "weights")) {
       static const char *const known[] = {"at", "weights"};
       const char *near = sl_closest(k, known, 2);
@@ -341,6 +341,11 @@ static int l_evaluate(lua_State *L) {
                                : lua_pushfstring(L, "unknown option '%s' (options: at, weights)", k));
     }
   }
+  /* a wrong at = is named before the data are looked at */
+  if (lua_getfield(L, 3, "at") != LUA_TTABLE)
+    fail(L, "evaluate", lua_pushfstring(L, "at = must be a table such as {%s = value}, got %s",
+                                        sl_graph_name(g, r->var_node[r->x[0]]), sl_bind_value_text(L, -1)));
+  lua_pop(L, 1);
   size_t nv = r->nvar;
   const char **names = lua_newuserdatauv(L, (nv ? nv : 1) * sizeof *names, 0);
   int *col = lua_newuserdatauv(L, (nv ? nv : 1) * sizeof *col, 0);
@@ -399,7 +404,7 @@ static int l_evaluate(lua_State *L) {
   lua_pushnil(L);
   while (lua_next(L, at)) {
     lua_pop(L, 1);
-    const char *k = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : "?";
+    const char *k = lua_type(L, -1) == LUA_TSTRING ? lua_tostring(L, -1) : sl_bind_value_text(L, -1);
     int ok = 0;
     for (size_t i = 0; i < r->nx && !ok; i++) ok = strcmp(k, names[r->x[i]]) == 0;
     for (size_t i = 0; i < r->nz && !ok; i++) ok = strcmp(k, names[r->z[i]]) == 0;

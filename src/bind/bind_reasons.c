@@ -139,6 +139,7 @@ const char *sl_bind_value_text(lua_State *L, int idx) {
   }
   if (t == LUA_TSTRING) return lua_pushfstring(L, "\"%s\"", lua_tostring(L, idx));
   if (t == LUA_TNIL || t == LUA_TNONE) return lua_pushliteral(L, "nil");
+  if (t == LUA_TBOOLEAN) return lua_pushstring(L, lua_toboolean(L, idx) ? "true" : "false");
   return lua_pushfstring(L, "a %s", luaL_typename(L, idx));
 }
 

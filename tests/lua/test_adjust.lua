@@ -176,7 +176,7 @@ test("options: every bad value names the function and the option", function()
   raises(function() return cc:trails("x", "y", {given = {"z", 3}}) end,
          "trails: given = item 2 is 3, not a node name")
   raises(function() return cc:adjust("x", "y", {require = true}) end,
-         "adjust: require = must be a node name or a list of names, got a boolean")
+         "adjust: require = must be a node name or a list of names, got true")
   raises(function() return cc:cheapest("x", "y", {z = 0 / 0}) end, "the cost of 'z' = nan")
   raises(function() return cc:cheapest("x", "y", {z = 1 / 0}) end, "the cost of 'z' = inf")
   raises(function() return cc:cheapest("x", "y", {z = "1"}) end, "the cost of 'z' = \"1\"")
