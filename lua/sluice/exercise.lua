@@ -451,7 +451,8 @@ function E.run(o, env)
                                     sets = o.sets, seed = a.seed, draws = a.draws})
   if not ok then rethrow(cmp, "compare") end
   local htext = handout(o, g, d, x, y, cmp, a.parts, a.seed, a.digits, env.fence)
-  local ktext = key(M, g, d, x, y, m, cmp, a.parts, a.seed, a.n, a.digits, env.fence)
+  local made, ktext = pcall(key, M, g, d, x, y, m, cmp, a.parts, a.seed, a.n, a.digits, env.fence)
+  if not made then rethrow(ktext, "[%w_:]+") end
   -- env.draw draws without noting a picture of the session (the temporary
   -- folder goes away); env.picture notes the kit's graph.svg instead
   local draw = env.draw or function(gr, path) return gr:draw(path) end
