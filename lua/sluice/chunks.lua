@@ -157,13 +157,15 @@ end
 -- after which its text compiles and the next line (past blanks and
 -- comments) begins a statement.  Comment lines go with the statement
 -- below them; blank lines between entries and trailing comments are
--- dropped.  The text must compile as a whole.  Returns a list of {code=,
--- line= (its first line)}; a script that cannot be divided (a goto to a
--- label in an earlier statement) is one entry.
+-- dropped.  A statement with a goto to a label in an earlier entry joins
+-- that entry; one that declares a <close> local takes the rest of the
+-- script with it, to be closed where the script ends.  The text must
+-- compile as a whole.  Returns a list of {code=, line= (its first line)}.
 function K.split(text, load)
   local lines = {}
   for l in (text .. "\n"):gmatch("(.-)\n") do lines[#lines + 1] = l end
   if text:sub(-1) == "\n" then lines[#lines] = nil end
+  local n = #lines
   local kind, words, pos = K.lex(text)
   local tline = token_lines(text, pos)
   local first_tok = {}          -- the first token on or after each line
@@ -176,26 +178,34 @@ function K.split(text, load)
     local k = first_tok[l] or #kind + 1
     return starts_statement(kind[k], words[k])
   end
-  local whole = {{code = table.concat(lines, "\n"), line = 1}}
-  local entries, i, n = {}, 1, #lines
+  -- The entry from line i that ends at the first line j >= from after
+  -- which it compiles and a statement begins: j and its code, or nil.
+  local function take(i, from)
+    local code_at = tline[first_tok[i]]   -- the entry's first line of code
+    for j = math.max(from, code_at), n do
+      if next_starts(j + 1) then
+        local c = table.concat(lines, "\n", i, j)
+        if load(c) then return j, c end
+      end
+    end
+  end
+  local entries, i = {}, 1
   while i <= n do
     while i <= n and find(lines[i], "^%s*$") do i = i + 1 end
     if i > n or first_tok[i] > #kind then break end   -- only comments remain
-    local j, code = i, nil
-    while true do
-      if next_starts(j + 1) then
-        local c = table.concat(lines, "\n", i, j)
-        if load(c) then code = c break end
-      end
-      if j >= n then return whole end
-      j = j + 1
+    local start = i
+    local j, code = take(start, i)
+    while not j do   -- a goto to a label in an entry before: join that entry
+      local prev = table.remove(entries)
+      if not prev then return {{code = table.concat(lines, "\n"), line = 1}} end
+      start = prev.line
+      j, code = take(start, i)
     end
     if j < n and declares_close(code) then
-      code = table.concat(lines, "\n", i, n)
-      if not load(code) then return whole end
       j = n
+      code = table.concat(lines, "\n", start, n)
     end
-    entries[#entries + 1] = {code = code, line = i}
+    entries[#entries + 1] = {code = code, line = start}
     i = j + 1
   end
   return entries

@@ -26,6 +26,7 @@ local real = {
 S.entries = {}            -- the entries of this session, in order
 S.started = nil           -- ISO-8601 UTC time the session began
 local log = nil           -- {path=, file=} while the log is on
+local running_log = nil   -- the real path of a log that runs as a script
 local cap = nil           -- list of texts written while an input runs
 local echo = true         -- captured output also goes to the terminal
 local current = nil       -- the entry being run: {data=, pictures=}
@@ -201,6 +202,10 @@ function S.log(path)
   if type(path) ~= "string" then
     error("bad argument #1 to 'log' (a path or false expected, got " .. type(path) .. ")", 2)
   end
+  -- a log run as a script that starts itself again: it is not written over
+  if running_log and hooks.realpath and hooks.realpath(path) == running_log then
+    return path
+  end
   local p, err = S.open(path)
   if not p then error("log: cannot open " .. path .. ": " .. tostring(err), 2) end
   return p
@@ -349,6 +354,69 @@ function S.load_entry(code, name, env, st)
     if is_cell[up] then upvaluejoin(inner, i, st.cell[up], 1) end
   end
   return inner
+end
+
+-- ---- scripts and logs, run entry by entry (src/shell/script.c) ----
+
+local origins = {}        -- [k] = {name=, line=}: where input k came from
+
+-- A script's text without what Lua skips before the code: a byte order
+-- mark, and a first line that begins with "#" (its newline is kept, so
+-- lines keep their numbers).
+local function script_body(text)
+  if text:sub(1, 3) == "\239\187\191" then text = text:sub(4) end
+  if text:sub(1, 1) == "#" then text = text:gsub("^[^\n]*", "", 1) end
+  return text
+end
+
+-- The entries of a log as the script runner takes them: its code, the
+-- line of the log where the code starts, whether the session recorded an
+-- error for it, and for an input that did not compile the recorded message.
+local function log_plan(text, shown)
+  local parsed, err = T.parse(text, shown)
+  if not parsed then return nil, err end
+  local entries = {}
+  for _, e in ipairs(parsed.entries) do
+    local r = {n = e.n, code = e.code, typed = e.typed, expr = e.expr, line = e.line + 1,
+               skip = e.skip, new_session = e.new_session}
+    for _, l in ipairs(e.out) do
+      local m = l:match("^error: (.*)$")
+      if m then r.error = true; r.message = r.message or m end
+    end
+    entries[#entries + 1] = r
+  end
+  running_log = hooks.realpath and hooks.realpath(shown) or nil
+  return {log = true, entries = entries}
+end
+
+-- How the shell runs text given as a script: {entries = {{code=, typed=,
+-- line=}}} for a script, whole top-level statements each; {log = true,
+-- entries = ...} for a session log.  nil and the message when the text
+-- does not compile (or the log does not parse).
+function S.plan(text, chunkname, shown)
+  if K.is_log(text) then return log_plan(text, shown) end
+  local body = script_body(text)
+  local ok, err = real.load(body, chunkname, "t")
+  if not ok then return nil, err end
+  local entries = K.split(body, function(c) return real.load(c, "=entry", "t") ~= nil end)
+  for _, e in ipairs(entries) do e.typed = e.code end
+  return {entries = entries}
+end
+
+-- Compile entry e of a plan as input k, shown as from the file shown.
+function S.prepare(k, e, shown)
+  origins[k] = {name = shown, line = e.line}
+  if e.new_session then S.locals = S.locals_new() end
+  return S.load_entry(e.code, "=[input " .. k .. "]")
+end
+
+-- msg with each "[input K]:J:" of an input that came from a file turned
+-- into that file's name and line.
+function S.where(msg)
+  return (msg:gsub("%[input (%d+)%]:(%d+):", function(k, j)
+    local o = origins[tonumber(k)]
+    if o then return o.name .. ":" .. (o.line + tonumber(j) - 1) .. ":" end
+  end))
 end
 
 -- ---- writing files: pictures recorded, writes checked in the sandbox ----
@@ -597,6 +665,9 @@ function S.install(mod, metas, hk)
   hooks.session_end = finish
   hooks.session_skip = skipped
   hooks.session_load = function(code, name) return S.load_entry(code, name) end
+  hooks.session_plan = S.plan
+  hooks.session_prepare = S.prepare
+  hooks.session_where = S.where
   hooks.session_start = function()
     S.started = S.started or stamp()
     wrap_output()

@@ -119,13 +119,14 @@ void log_session_start(lua_State *L) {
 }
 
 /* require("sluice.session").open(path) and say where the log goes. */
-void log_start(lua_State *L, const char *path) {
+int log_start(lua_State *L, const char *path, int say) {
   lua_getglobal(L, "require");
   lua_pushliteral(L, "sluice.session");
   if (lua_pcall(L, 1, 1, 0) != LUA_OK || !lua_istable(L, -1)) {
-    fprintf(stderr, "sluice: warning: no session log: the session layer did not load\n");
+    fprintf(stderr, "sluice: %sno session log: the session layer did not load\n",
+            path ? "" : "warning: ");
     lua_pop(L, 1);
-    return;
+    return 0;
   }
   lua_getfield(L, -1, "open");
   if (path != NULL)
@@ -136,16 +137,23 @@ void log_start(lua_State *L, const char *path) {
     lua_pushnil(L);
     lua_insert(L, -2);
   }
-  if (lua_isstring(L, -2)) {
+  int open = lua_isstring(L, -2);
+  if (open && say) {
     printf("session log: %s (--no-log to go without, log(false) to stop)\n",
            lua_tostring(L, -2));
     fflush(stdout);
-  } else {
+  } else if (!open) {
     const char *msg = lua_tostring(L, -1);
-    fprintf(stderr, "sluice: warning: no session log: cannot open %s: %s\n",
-            path ? path : "a file in ./sluice-logs", msg ? msg : "(no message)");
+    fflush(stdout);
+    if (path != NULL)
+      fprintf(stderr, "sluice: --log %s: cannot write the session log there: %s\n",
+              path, msg ? msg : "(no message)");
+    else
+      fprintf(stderr, "sluice: warning: no session log: cannot open a file in "
+              "./sluice-logs: %s\n", msg ? msg : "(no message)");
   }
   lua_pop(L, 3);
+  return open;
 }
 
 void log_begin(lua_State *L, int n, const char *text, int expr) {

@@ -14,9 +14,11 @@ void log_install(lua_State *L);
 /* Tell the session layer the interactive session begins (capture set up). */
 void log_session_start(lua_State *L);
 
-/* Start the log at path (NULL: a new file under ./sluice-logs) and say
-** where it goes; a failure costs a warning. */
-void log_start(lua_State *L, const char *path);
+/* Start the log at path (NULL: a new file under ./sluice-logs); say
+** where it goes on standard output when say is set.  Returns 1 when the
+** log is open.  When it cannot be, a path given (--log) is an error
+** ("sluice: --log PATH: ..."), the default file costs a warning. */
+int log_start(lua_State *L, const char *path, int say);
 
 /* Around one input: begin (its number, its text, whether it was an
 ** expression), each text the prompt auto-prints, the end (msg: the error,

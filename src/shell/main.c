@@ -19,6 +19,7 @@
 #include "replayer.h"
 #include "repl.h"
 #include "run.h"
+#include "script.h"
 #include "signals.h"
 
 #define PROGNAME "sluice"
@@ -75,31 +76,46 @@ static void banner(void) {
          PROGNAME, SLUICE_VERSION);
 }
 
-/* Run the -e code in order; 0 at the first that fails. */
-static int run_exec(lua_State *L, const sl_options *o) {
-  for (int i = 0; i < o->nexec; i++)
-    if (run_report(L, run_string(L, o->exec[i], "=(command line)")) != LUA_OK)
+/* Run the -e code in order, each piece entry by entry like a script; 0
+** at the first that fails. */
+static int run_exec(lua_State *L, const sl_options *o, int *count) {
+  for (int i = 0; i < o->nexec; i++) {
+    const char *code = o->exec[i];
+    if (script_run(L, count, code, strlen(code), "=(command line)",
+                   "(command line)", NULL, 0) != LUA_OK)
       return 0;
+  }
   return 1;
 }
 
 /* Run the script named on the command line, or standard input when
 ** path is NULL; 0 when it fails. */
-static int run_file(lua_State *L, const char *path, char **args, int nargs) {
-  return run_report(L, run_script(L, path, args, nargs)) == LUA_OK;
+static int run_file(lua_State *L, int *count, const char *path, char **args,
+                    int nargs) {
+  return script_run_file(L, count, path, args, nargs) == LUA_OK;
 }
 
-/* The prompt: Readline on a terminal, plain lines otherwise.  The session
-** log is on by default on a terminal, and wherever --log asks for it. */
-static void interact(lua_State *L, const sl_options *o, int tty) {
+/* Open the session log before anything runs, so that it holds the -e
+** code and the script as well as the prompt: where --log says, or by
+** default when the prompt runs on a terminal.  0 when --log cannot be
+** honoured. */
+static int open_log(lua_State *L, const sl_options *o, int prompt, int tty) {
+  if (o->no_log)
+    return 1;
+  if (o->log_path != NULL)
+    return log_start(L, o->log_path, prompt);
+  if (prompt && tty)
+    log_start(L, NULL, 1);   /* the default file: a failure is a warning */
+  return 1;
+}
+
+/* The prompt: Readline on a terminal, plain lines otherwise.  Its inputs
+** are numbered on from the entries of the -e code and the script. */
+static void interact(lua_State *L, int tty, int count) {
   repl R;
-  if (!o->quiet)
-    banner();
-  log_session_start(L);
-  if (!o->no_log && (tty || o->log_path != NULL))
-    log_start(L, o->log_path);
   repl_init(&R, L);
   R.record = 1;
+  R.count = count;
   if (tty)
     prompt_run(&R);
   else
@@ -107,7 +123,8 @@ static void interact(lua_State *L, const sl_options *o, int tty) {
   repl_free(&R);
 }
 
-/* Everything, inside one protected call. */
+/* Everything, inside one protected call.  The -e code, the script and
+** the prompt are one session: every input an entry, in one log. */
 static int pmain(lua_State *L) {
   job *j = lua_touserdata(L, 1);
   const sl_options *o = j->opt;
@@ -125,16 +142,25 @@ static int pmain(lua_State *L) {
     j->status = replay_run(L, o);
     return 0;
   }
-  int ok = run_exec(L, o);
-  if (ok && script > 0)
-    ok = run_file(L, o->script_stdin ? NULL : j->argv[script],
-                  j->argv + script + 1, j->argc - script - 1);
   int alone = script == 0 && o->nexec == 0;
-  if (o->interactive || (alone && tty)) {
-    interact(L, o, tty);
+  int prompt = o->interactive || (alone && tty);
+  if (prompt && !o->quiet)
+    banner();
+  log_session_start(L);
+  if (!open_log(L, o, prompt, tty)) {
+    j->status = 1;
+    return 0;
+  }
+  int count = 0;
+  int ok = run_exec(L, o, &count);
+  if (ok && script > 0)
+    ok = run_file(L, &count, o->script_stdin ? NULL : j->argv[script],
+                  j->argv + script + 1, j->argc - script - 1);
+  if (prompt) {
+    interact(L, tty, count);
     ok = 1;
   } else if (alone) {
-    ok = run_file(L, NULL, NULL, 0);
+    ok = run_file(L, &count, NULL, NULL, 0);
   }
   j->status = ok ? 0 : 1;
   return 0;

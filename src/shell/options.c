@@ -109,12 +109,17 @@ static int take_option(sl_options *o, int argc, char **argv, int *i) {
   return 0;
 }
 
-/* The replay options belong together. */
+/* The replay options belong together, and --log is never ignored: with
+** --no-log or --replay it would be, so each pairing is refused. */
 static int check_replay(sl_options *o) {
   if (o->replay == NULL && (o->out_dir || o->trust || o->update || o->limit > 0))
     return usage_error("%s go with --replay LOG", "--out, --trust, --update and --limit");
   if (o->replay != NULL && (o->script || o->nexec || o->interactive))
     return usage_error("%s takes no script, -e or -i", "--replay");
+  if (o->log_path != NULL && o->no_log)
+    return usage_error("%s: give one or the other", "--log PATH and --no-log contradict each other");
+  if (o->replay != NULL && (o->log_path != NULL || o->no_log))
+    return usage_error("%s", "--replay keeps no session log: --log and --no-log do not go with it");
   return 0;
 }
 
@@ -163,8 +168,9 @@ void options_usage(const char *progname) {
     "  -q           start the prompt without the banner\n"
     "  -            run standard input as the script\n"
     "  --           stop handling options; the next argument is the script\n"
-    "  --log PATH   write the session log to PATH (the prompt logs by default\n"
-    "               to a new file in ./sluice-logs)\n"
+    "  --log PATH   write the session log to PATH: the -e code, the script and\n"
+    "               the prompt, each top-level statement an entry (the prompt on\n"
+    "               a terminal logs by default to a new file in ./sluice-logs)\n"
     "  --no-log     keep no session log\n"
     "  --replay LOG re-run a session log and compare every output with it\n"
     "  --out DIR    with --replay: the one folder the replayed code may write in\n"
@@ -177,9 +183,14 @@ void options_usage(const char *progname) {
     "\n"
     "With no script and no -e, %s starts the prompt when standard input\n"
     "is a terminal, and otherwise runs standard input as a script.  A script\n"
-    "sees its arguments in the table 'arg' and as '...'.\n"
-    "Exit status: 0 on success, 1 when the script or -e code fails (or a\n"
-    "replay differs), 2 on a usage error.  At the prompt, type help() for the list of functions.\n",
+    "sees its arguments in the table 'arg' and as '...'.  It runs one top-level\n"
+    "statement at a time, as the prompt runs inputs: report() and the log hold\n"
+    "each one.  A session log given as the script re-runs its entries; the\n"
+    "errors it recorded are shown and the run goes on.\n"
+    "Exit status: 0 on success; 1 when the -e code or the script fails (in a\n"
+    "log: an error the log did not record), when --log PATH cannot be\n"
+    "written, or when a replay differs; 2 on a usage error.  A script's\n"
+    "os.exit(n) leaves with n.  At the prompt, type help() for the list of functions.\n",
     progname, progname);
 }
 

@@ -84,14 +84,24 @@ static const char *error_string(lua_State *L) {
                          luaL_typename(L, -1));
 }
 
-/* Prefix msg with the place of the innermost Lua function on the stack. */
-static void add_position(lua_State *L, const char *msg) {
+/* Push "where:123: ", the place of the innermost Lua function on the
+** stack; 0 (nothing pushed) when there is none. */
+static int push_position(lua_State *L) {
   lua_Debug ar;
   for (int level = 1; lua_getstack(L, level, &ar); level++) {
     if (lua_getinfo(L, "Sl", &ar) && ar.currentline > 0) {
-      lua_pushfstring(L, "%s:%d: %s", ar.short_src, ar.currentline, msg);
-      return;
+      lua_pushfstring(L, "%s:%d: ", ar.short_src, ar.currentline);
+      return 1;
     }
+  }
+  return 0;
+}
+
+/* Prefix msg with the place of the innermost Lua function on the stack. */
+static void add_position(lua_State *L, const char *msg) {
+  if (push_position(L)) {
+    lua_pushstring(L, msg);
+    lua_concat(L, 2);
   }
 }
 
@@ -111,10 +121,30 @@ static int prompt_handler(lua_State *L) {
   return 1;
 }
 
+#define ENTRY_POSITION "sluice.error_position"
+
+/* Message handler for an entry of a script: the message as the prompt
+** shows it (and as the log records it), its place kept aside for the
+** report on standard error. */
+static int entry_handler(lua_State *L) {
+  if (!push_position(L))
+    lua_pushliteral(L, "");
+  lua_setfield(L, LUA_REGISTRYINDEX, ENTRY_POSITION);
+  return prompt_handler(L);
+}
+
+void run_entry_position(lua_State *L) {
+  if (lua_getfield(L, LUA_REGISTRYINDEX, ENTRY_POSITION) != LUA_TSTRING) {
+    lua_pop(L, 1);
+    lua_pushliteral(L, "");
+  }
+}
+
 /* lua_pcall with the mode's message handler, Ctrl-C armed. */
 int run_call(lua_State *L, int narg, int nres, enum run_mode mode) {
   int base = lua_gettop(L) - narg;
-  lua_pushcfunction(L, mode == RUN_SCRIPT ? script_handler : prompt_handler);
+  lua_pushcfunction(L, mode == RUN_SCRIPT ? script_handler
+                       : mode == RUN_ENTRY ? entry_handler : prompt_handler);
   lua_insert(L, base);
   sig_run_begin(L);
   int status = lua_pcall(L, narg, nres, base);

@@ -10,7 +10,9 @@
 /* How an error message is prepared. */
 enum run_mode {
   RUN_SCRIPT,   /* the message gains "file:line: " when it has no position */
-  RUN_PROMPT    /* the message is left as the code raised it */
+  RUN_PROMPT,   /* the message is left as the code raised it */
+  RUN_ENTRY     /* as RUN_PROMPT, and the place of the error is kept for
+                ** run_entry_position */
 };
 
 /* Call the function below narg arguments on the stack, like lua_pcall,
@@ -27,6 +29,10 @@ int run_string(lua_State *L, const char *code, const char *chunkname);
 /* Run the script file path (NULL: standard input) with the nargs strings
 ** of args as "...". */
 int run_script(lua_State *L, const char *path, char **args, int nargs);
+
+/* After a RUN_ENTRY call failed: push "where:123: ", the place of the
+** innermost Lua function when the error was raised ("" when none). */
+void run_entry_position(lua_State *L);
 
 /* 1 when the first line of msg starts with a position "where:123: ". */
 int run_has_position(const char *msg);

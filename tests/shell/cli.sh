@@ -80,11 +80,12 @@ check "--log without a path: status 2, stderr names --log" all \
   'is $status 2' 'has "$T/err" "--log"'
 
 run --log "$T/session.lua" --no-log -e 'print("logged")'
-check "--log PATH and --no-log are accepted (reserved)" all \
-  'is $status 0' 'has "$T/out" "^logged$"' 'empty "$T/err"'
+check "--log PATH with --no-log: status 2, nothing run (--log is never ignored)" all \
+  'is $status 2' 'has "$T/err" "contradict"' 'hasnt "$T/out" "logged"'
 
 run --log="$T/session.lua" -e 'print("logged")'
-check "--log=PATH is accepted" all 'is $status 0' 'has "$T/out" "^logged$"'
+check "--log=PATH logs the -e code" all 'is $status 0' 'has "$T/out" "^logged$"' \
+  'empty "$T/err"' "has \"\$T/session.lua\" '^print(\"logged\")$'"
 
 # ---- -e -----------------------------------------------------------------
 run -e 'print(6 * 7)'

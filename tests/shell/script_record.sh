@@ -61,4 +61,196 @@ has "attempt to assign to const variable 'k'" "a <const> session local stays con
 grep -q "> 5\$" out.txt || fail "the const keeps its value"
 ok "a <const> local stays constant across inputs"
 
+# ---- locals in a script, which runs entry by entry ----
+"$exe" locals.lua > out.txt 2>&1 || fail "locals.lua runs as a script (exit $?)"
+cmp -s out.txt locals.want || fail "a script run entry by entry keeps its locals"
+"$exe" - < locals.lua > out.txt 2>&1 || fail "locals.lua runs from standard input"
+cmp -s out.txt locals.want || fail "a script on standard input keeps its locals"
+cat > goto.lua <<'EOF'
+local i = 0
+::again::
+i = i + 1
+if i < 3 then goto again end
+print(i)
+do
+  local c <close> = setmetatable({}, {__close = function() print("closed") end})
+end
+local last <close> = setmetatable({}, {__close = function() print("closed last") end})
+print("before the end")
+EOF
+"$exe" goto.lua > out.txt 2>&1 || fail "goto.lua runs (exit $?)"
+[ "$(cat out.txt)" = "$(printf '3\nclosed\nbefore the end\nclosed last')" ] ||
+  fail "a goto back to an earlier statement, and a <close> local closed at the script's end"
+ok "a script keeps its top-level locals (file, standard input, goto, <close>)"
+
+# ---- --log with a script ----
+printf 'row,yield\n1,4.5\n2,5.5\n' > orchard.csv
+bytes=$(wc -c < orchard.csv | tr -d ' ')
+sha=$(sha256sum orchard.csv | cut -d' ' -f1)     # coreutils, outside sluice
+cat > orchard.lua <<'EOF'
+-- the orchard's rows
+trees = read_csv "orchard.csv"
+print(#trees)
+total = 0
+
+for i = 1, 3 do
+  total = total + i
+end
+print(total)
+EOF
+"$exe" --log orchard.log orchard.lua > out.txt 2>&1 || fail "--log with a script exits $?"
+[ "$(cat out.txt)" = "$(printf '2\n6')" ] || fail "--log with a script prints only what the script prints"
+cat > want.log <<EOF
+--@ in 1 (2 lines)
+-- the orchard's rows
+trees = read_csv "orchard.csv"
+--@ data orchard.csv $bytes $sha
+--@ in 2 (1 line)
+print(#trees)
+--| 2
+--@ in 3 (1 line)
+total = 0
+--@ in 4 (3 lines)
+for i = 1, 3 do
+  total = total + i
+end
+--@ in 5 (1 line)
+print(total)
+--| 6
+EOF
+[ -f orchard.log ] || fail "sluice --log LOG script.lua writes LOG"
+head -n 1 orchard.log | grep -qx -- "--@ sluice [0-9.]* session log" || fail "the log's header"
+tail -n +4 orchard.log > got.log
+cmp -s got.log want.log || { diff want.log got.log > out.txt; fail "the script's log holds each top-level statement, its output and the data"; }
+replay_ok orchard.log "the script's log"
+ok "sluice --log LOG script.lua writes each top-level statement as an entry, and --replay passes"
+
+"$exe" --log orchard2.log -e 'rows = 3' -e 'print(rows * 2)' > out.txt 2>&1 || fail "--log with -e exits $?"
+grep -qx "rows = 3" orchard2.log && grep -qx "print(rows \* 2)" orchard2.log && grep -qx -- "--| 6" orchard2.log ||
+  fail "--log records the -e code"
+replay_ok orchard2.log "the -e code's log"
+printf 'print("piped")\n' | "$exe" --log piped.log > out.txt 2>&1 || fail "--log with a piped script exits $?"
+grep -qx -- "--| piped" piped.log || fail "--log records a script on standard input"
+ok "--log records -e code and a script on standard input"
+
+"$exe" --log no-such-dir/x.log -e 'print("ran")' > out.txt 2>&1
+code=$?
+[ "$code" = 1 ] || fail "--log to a place that cannot be written exits 1 (got $code)"
+has "sluice: --log no-such-dir/x.log: cannot write the session log there" "the message names --log and the path"
+grep -q "^ran" out.txt && fail "nothing runs when the log cannot be written"
+"$exe" --log a.log --no-log -e 'print(1)' > out.txt 2>&1
+[ $? = 2 ] || fail "--log with --no-log is a usage error"
+has "--log PATH and --no-log contradict each other" "--log with --no-log says so"
+"$exe" --replay orchard.log --log b.log > out.txt 2>&1
+[ $? = 2 ] || fail "--log with --replay is a usage error"
+has "--replay keeps no session log" "--log with --replay says so"
+ok "--log is never ignored: an unwritable path exits 1, with --no-log or --replay it is a usage error"
+
+# a script that fails: status 1, its file and line; the log holds the error
+cat > fails.lua <<'EOF'
+stock = 3
+local function half(n)
+  return n / nil
+end
+print(stock)
+half(stock)
+print("not reached")
+EOF
+"$exe" --log fails.log fails.lua > out.txt 2>&1
+code=$?
+[ "$code" = 1 ] || fail "a failing script exits 1 (got $code)"
+has "sluice: fails.lua:3: attempt to perform arithmetic on a nil value" "the error names the script's file and line"
+grep -q "not reached" out.txt && fail "the script stops at its error"
+grep -qx -- "--| error: \[input 2\]:2: attempt to perform arithmetic on a nil value" fails.log ||
+  fail "the log records the error as a replay gives it"
+ok "a failing script exits 1 naming file:line; its log records the error"
+
+# ---- report() at the end of a script ----
+# The same statements typed at the prompt (over a pipe) and run as a script
+# give the same report, apart from the times.
+mkdir typed scripted
+for d in typed scripted; do cp orchard.csv "$d/"; done
+cat > scripted/work.lua <<'EOF'
+trees = read_csv "orchard.csv"
+print(#trees)
+best = 0
+for i = 1, 2 do
+  best = best + i
+end
+print(best)
+report("r.md")
+EOF
+(cd scripted && "$exe" work.lua > ../out.txt 2>&1) || fail "the script with report() exits $?"
+(cd typed && "$exe" -i -q < ../scripted/work.lua > ../out.txt 2>&1) || fail "the typed session exits $?"
+grep -q "not recorded" scripted/r.md && fail "the script's report records its start"
+grep -q "^## Command 1$" scripted/r.md || fail "the script's report holds its commands"
+grep -qx "best = 0" scripted/r.md || fail "the script's report holds a statement"
+grep -qx "3" scripted/r.md || fail "the script's report holds a statement's output"
+grep -qF "data read in command 1: \`orchard.csv\` ($bytes bytes, sha256 \`$sha\`)" scripted/r.md ||
+  fail "the script's report lists the data file with its fingerprint"
+for d in typed scripted; do grep -v "^- session started\|^- report written" "$d/r.md" > "$d.md"; done
+cmp -s typed.md scripted.md || { diff typed.md scripted.md > out.txt; fail "the script and the prompt give the same report"; }
+ok "report() at the end of a script reports each of its commands, as the prompt does"
+
+# ---- a log run as a script ----
+# A session over a pipe with a typo corrected on the next line, and a
+# local; the log records the typo's error.
+cat > typo.lua <<'EOF'
+log("typo.log")
+stock = 6
+prnt(stock)
+print(stock * 7)
+local left = stock - 1
+left
+EOF
+"$exe" -i -q < typo.lua > out.txt 2>&1 || fail "the typed session exits $?"
+grep -qx -- "--| error: attempt to call a nil value (global 'prnt'); did you mean 'print'?" typo.log ||
+  fail "the session log records the typo's error"
+cp typo.log typo.before
+"$exe" typo.log > out.txt 2> err.txt
+code=$?
+[ "$code" = 0 ] || { cat err.txt >> out.txt; fail "a log whose recorded error recurs runs to its end (exit $code)"; }
+[ "$(cat out.txt)" = "$(printf 'typo.log\n42\n5')" ] || fail "the log prints what the session printed, to its end"
+[ "$(cat err.txt)" = "error: attempt to call a nil value (global 'prnt'); did you mean 'print'?" ] ||
+  { cat err.txt > out.txt; fail "the recorded error is shown as the prompt showed it"; }
+cmp -s typo.log typo.before || fail "running a log that starts itself (log \"typo.log\") leaves it as it was"
+ok "sluice LOG: an error the log recorded is shown as at the prompt and the run goes on"
+
+"$exe" --log again.log typo.log > out.txt 2>&1 || fail "a log run as a script with --log exits $?"
+[ "$(grep -c -- '^--@ in ' again.log)" = 6 ] || fail "--log records each entry of a log run as a script"
+grep -qx -- "--| error: attempt to call a nil value (global 'prnt'); did you mean 'print'?" again.log ||
+  fail "the new log records the expected error again"
+ok "a log run as a script with --log is recorded entry by entry"
+
+# the same log with an error it did not record: status 1, LOG:LINE
+sed 's/^print(stock \* 7)$/print(stokc * 7)/' typo.log > unrecorded.log
+line=$(grep -n '^print(stokc \* 7)$' unrecorded.log | cut -d: -f1)
+[ -n "$line" ] || fail "the test log has the changed line"
+"$exe" unrecorded.log > out.txt 2>&1
+code=$?
+[ "$code" = 1 ] || fail "an error the log did not record stops the run with status 1 (got $code)"
+has "sluice: unrecorded.log:$line: attempt to perform arithmetic on a nil value (global 'stokc')" \
+  "the error names the log's file and line"
+grep -qx 5 out.txt && fail "the run stops at the unrecorded error"
+ok "sluice LOG: an error the log did not record stops the run with status 1 at LOG:LINE"
+
+cat > multi.log <<LOG
+$head3
+--@ in 1 (4 lines)
+function area(w, h)
+  if w < 0 then error("negative width") end
+  return w * h
+end
+--@ in 2 (1 line)
+print(area(-1, 2))
+LOG
+"$exe" multi.log > out.txt 2>&1
+[ $? = 1 ] || fail "an unrecorded error inside a function of an earlier entry exits 1"
+has "sluice: multi.log:6: negative width" "the error names the line of the log where the function raised it"
+printf '%s\n--@ in 1 (2 lines)\nfor i = 1, 2 do\n' "$head3" > cut.log
+"$exe" cut.log > out.txt 2>&1
+[ $? = 1 ] || fail "a log cut inside an entry stops at it"
+has "sluice: cut.log:" "a log cut inside an entry is named"
+ok "sluice LOG: an error in an earlier entry's function names its line in the log"
+
 echo "all $n checks passed"
