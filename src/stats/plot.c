@@ -213,7 +213,7 @@ int sl_plot_forest(const char *path, const char *title, const char *xlabel,
   /* the page: room for the labels left of the frame, a frame as wide as
   ** the title, and rows tall enough for the most lines of a label */
   double em = FOREST_FONT_PT * FOREST_EM_RATIO;
-  double left = (wide + 1.0) * em + FOREST_FONT_PT;   /* plmtex's gap is one height */
+  double left = (1.05 * wide + 1.5) * em + FOREST_FONT_PT;   /* a margin, and plmtex's gap of one height */
   double frame = fmax(FOREST_FRAME_PT, (text_em(title, strlen(title)) + 2) * em);
   double right = fmax(0.05 * SL_PLOT_WIDTH,
                       (reflabel ? text_em(reflabel, strlen(reflabel)) / 2 + 1 : 1) * em);

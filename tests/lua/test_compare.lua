@@ -161,11 +161,12 @@ end
 test("the forest picture holds every set label whole inside its frame", function()
   local width_of = font_widths("/usr/share/fonts/truetype/dejavu/DejaVuSans.ttf")
   if not width_of then print("  skipped: no DejaVuSans.ttf to measure text"); return end
-  local g = graph(long_graph .. [[; "ẞtraße ⊥ naïve" -> y]])
+  local huge = "a covariate whose name is far too long to fit in any label column of a forest plot"
+  local g = graph(long_graph .. [[; "ẞtraße ⊥ naïve" -> y; "]] .. huge .. [[" -> y]])
   local m = sem(g, {["x -> y"] = 1}, {default = 0.5})
   local path = tmpname(".svg")
   local c = compare{data = m:simulate(300, {seed = 1}), truth = m, treatment = "x", outcome = "y",
-                    boot = 0, plot = path, sets = {{"c", "ẞtraße ⊥ naïve"}}}
+                    boot = 0, plot = path, sets = {{"c", "ẞtraße ⊥ naïve"}, {huge}}}
   local svg = slurp(path)
   os.remove(path)
   local w, h = svg:match('viewBox="0 0 ([%d.]+) ([%d.]+)"')
