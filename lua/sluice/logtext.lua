@@ -15,6 +15,11 @@
 --   --@ in 3 skipped (1 line): does not compile
 --   --> x = = 1                           a skipped input, commented out
 --   --| error: [input 3]:1: unexpected symbol near '='
+--   --@ in 4 show (1 line)
+--   show(log())
+--   --| sluice-logs/session-20260101-000000.lua
+--   --@ volatile 1                        output line 1 is sluice's own and
+--                                         changes between runs (the log's path)
 --
 -- The line count makes entry boundaries unforgeable: typed text (a long
 -- string holding "--@ in 99", say) is code, whatever it looks like.  Every
@@ -96,6 +101,30 @@ end
 
 -- ---- writing ----
 
+-- Is code a query of the log's own path: log(), show(log()) or print(log())?
+-- Its output is the path of whatever log is open, which differs between runs.
+function T.is_log_query(code)
+  if type(code) ~= "string" then return false end
+  local inner = match(code, "^%s*show%s*(%b())%s*;?%s*$")
+                or match(code, "^%s*print%s*(%b())%s*;?%s*$")
+  if inner then code = sub(inner, 2, -2) end
+  return find(code, "^%s*log%s*%(%s*%)%s*;?%s*$") ~= nil
+end
+
+-- The volatile output lines of e, sorted: those it marks (e.volatile, a
+-- set of line numbers), and the one line of a query of the log's path.
+function T.volatile_lines(e)
+  local list = {}
+  for i in pairs(e.volatile or {}) do
+    if math.type(i) == "integer" and i >= 1 and i <= #(e.out or {}) then list[#list + 1] = i end
+  end
+  if #list == 0 and not e.skip and #(e.out or {}) == 1 and T.is_log_query(e.code) then
+    list[1] = 1
+  end
+  table.sort(list)
+  return list
+end
+
 -- The three header lines of a session.
 function T.header_lines(version, started)
   return {"--@ sluice " .. T.escape(version) .. " session log",
@@ -116,7 +145,8 @@ local function count_lines(s) return select(2, gsub(s, "\n", "")) + 1 end
 local function lines_word(k) return k == 1 and "1 line" or k .. " lines" end
 
 -- The text of one entry: e = {n=, typed=, expr=, skip=, code=, out = {lines},
--- data = {{path=, bytes=, sha256=}}, pictures = {paths}}.
+-- data = {{path=, bytes=, sha256=}}, pictures = {paths}, volatile = {[line]
+-- = true}}.  The output of a query of the log's path is marked volatile.
 function T.entry_text(e)
   local out = {}
   if e.skip then
@@ -134,6 +164,7 @@ function T.entry_text(e)
   for _, l in ipairs(e.out or {}) do
     out[#out + 1] = l == "" and "--|" or "--| " .. T.escape(l)
   end
+  for _, i in ipairs(T.volatile_lines(e)) do out[#out + 1] = "--@ volatile " .. i end
   for _, d in ipairs(e.data or {}) do
     out[#out + 1] = format("--@ data %s %d %s", T.escape(d.path), d.bytes, T.escape(d.sha256))
   end
@@ -215,7 +246,13 @@ local function add_meta(e, l)
     return nil
   end
   local pic = match(l, "^%-%-@ picture (.+)$")
-  if pic then e.pictures[#e.pictures + 1] = T.escape(pic) end
+  if pic then e.pictures[#e.pictures + 1] = T.escape(pic) return nil end
+  local v = match(l, "^%-%-@ volatile (%d+)$")
+  if v then
+    local k = number(v)
+    if not k then return "a volatile line number with more than " .. T.MAX_DIGITS .. " digits" end
+    e.volatile[k] = true
+  end
   return nil   -- another "--@ " line: metadata of a later version, ignored
 end
 
@@ -258,11 +295,12 @@ end
 -- or nil and "NAME:LINE: message".  Each entry is {n=, line= (of its marker),
 -- new_session= (true when a later session's header precedes it), expr=,
 -- skip=, code=, typed=, out = {lines, escaped}, data = {{path=, bytes=,
--- sha256=}}, pictures = {paths}}.  A log saved with CRLF line ends (its first
--- line ends in CR LF) has one CR removed before each LF; a UTF-8 byte order
--- mark at the start is skipped.  truncated: the last line has no newline, or
--- the last entry has fewer lines of code than its marker says.  One pass,
--- linear in the size of the text.
+-- sha256=}}, pictures = {paths}, volatile = {[line] = true}}.  A log saved
+-- with CRLF line ends (its first line ends in CR LF) has one CR removed
+-- before each LF; a UTF-8 byte order mark at the start is skipped.
+-- truncated: the last line has no newline, or the last entry has fewer
+-- lines of code than its marker says.  One pass, linear in the size of the
+-- text.
 function T.parse(text, name)
   name = name or "log"
   if type(text) ~= "string" then
@@ -309,7 +347,7 @@ function T.parse(text, name)
   while j <= n_lines do     -- lines[j] is a marker
     local digits, rest = match(lines[j], "^%-%-@ in (%d+)(.*)$")
     local e = {n = number(digits), line = j, new_session = fresh or nil,
-               out = {}, data = {}, pictures = {}}
+               out = {}, data = {}, pictures = {}, volatile = {}}
     if find(rest, "\r", 1, true) then return fail(j, CR_MSG) end
     if not e.n then return fail(j, "an entry number with more than " .. T.MAX_DIGITS .. " digits") end
     fresh = false

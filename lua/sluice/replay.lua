@@ -148,9 +148,12 @@ end
 -- the log changes nothing that the replay itself uses.
 local LIBS = {"string", "table", "math", "utf8", "coroutine", "os", "io"}
 
--- An environment for replayed code.  blocked(name) hears of every refusal.
--- placed (new_placed) hears of every relative write placed in --out.
-local function sandbox(out_dir, blocked, placed)
+-- An environment for replayed code, replaying the log at o.log with writes
+-- in o.out.  hear.blocked(name) hears of every refusal, hear.log_path(p) of
+-- every path log() gives, placed (new_placed) of every relative write placed
+-- in --out.
+local function sandbox(o, hear, placed)
+  local out_dir, blocked = o.out, hear.blocked
   local root = placed.root
   local where = out_dir and ("--out " .. out_dir) or "an --out folder"
   local function refuse(name, level)
@@ -201,9 +204,20 @@ local function sandbox(out_dir, blocked, placed)
     return getmetatable(v)
   end
   local mod = copy(M)
+  -- log() gives the path of the log this replay writes, if it started one,
+  -- else of the log it replays: the session's own log, which moved
+  local stopped = false
   mod.log = function(path)
-    if path == nil or path == false then return S.log(path) end
-    return S.log(guard(path, "log"))
+    if path == false then stopped = true return S.log(false) end
+    if path ~= nil then
+      local to = guard(path, "log")
+      stopped = false
+      return S.log(to)
+    end
+    local p = S.log(nil)
+    if p == nil and not stopped then p = o.log end
+    if type(p) == "string" then hear.log_path(as_typed(placed, p)) end
+    return p
   end
   mod.report = function(path, ...)
     return S.report(guard(path, "report"), ...)
@@ -322,8 +336,9 @@ local function child_main(parsed, o)
     end
     _G.debug, package.loaded.debug = nil, nil
   end
-  local blocked_here = {}
-  local function note(name) blocked_here[#blocked_here + 1] = name end
+  local blocked_here, log_paths = {}, {}
+  local hear = {blocked = function(name) blocked_here[#blocked_here + 1] = name end,
+                log_path = function(p) log_paths[p] = true end}
   local env
   -- SLUICE_TEST_KERNEL_ONLY: the tests' way to show that the kernel alone holds
   local bare = os.getenv("SLUICE_TEST_KERNEL_ONLY") ~= nil
@@ -333,17 +348,23 @@ local function child_main(parsed, o)
       env = _G
       env.log = function() return nil end
     else
-      env = sandbox(o.out, note, placed)
+      env = sandbox(o, hear, placed)
     end
   end
   fresh()
   for _, e in ipairs(parsed.entries) do
     if not e.skip then
       if e.new_session then fresh() end
-      blocked_here = {}
+      blocked_here, log_paths = {}, {}
       send("E", tostring(e.n))
       local text, failed, run, cmsg = run_entry(e, env, placed)
       send("O", text)
+      -- the lines that are what sluice's log() gave: the log's path
+      if next(log_paths) then
+        local vol = {}
+        for i, l in ipairs(S._lines_of(text)) do if log_paths[l] then vol[#vol + 1] = i end end
+        if #vol > 0 then send("V", concat(vol, " ")) end
+      end
       if failed then send("F", "") end
       if cmsg then send("C", cmsg) end
       for _, d in ipairs(run.data) do
@@ -409,11 +430,11 @@ local function show_differences(expected, got)
 end
 
 -- The records of entry e from the child: {out=, failed=, data=, pictures=,
--- blocked=, cmsg=}, or nil, what ("timeout", "ended", "broken", "setup")
+-- blocked=, cmsg=, volatile = {[line] = true}}, or nil, what ("timeout", "ended", "broken", "setup")
 -- and a detail.
 local total_bytes = 0
 local function collect(child, e, limit, first)
-  local r = {out = "", failed = false, data = {}, pictures = {}, blocked = {}}
+  local r = {out = "", failed = false, data = {}, pictures = {}, blocked = {}, volatile = {}}
   local deadline, count, bytes = hooks.now() + limit, 0, 0
   local function recv()
     local kind, p, detail = child:recv(math.max(deadline - hooks.now(), 0))
@@ -449,12 +470,52 @@ local function collect(child, e, limit, first)
       end
     elseif kind == "P" then r.pictures[#r.pictures + 1] = p
     elseif kind == "B" then r.blocked[#r.blocked + 1] = p
+    elseif kind == "V" then
+      for d in gmatch(p, "%d+") do
+        if #d <= 9 then r.volatile[tonumber(d)] = true end
+      end
     elseif kind == "Z" and seen_out then return r
     else
       child:stop()
       return nil, "broken", "the replay process sent a record out of place"
     end
   end
+end
+
+-- The volatile lines of entry e, not compared: each marked so in the log
+-- (or the line of a query of the log's path) and, in the replay, what
+-- sluice's own log() gave.  Neither side alone makes a line volatile: a
+-- log cannot exempt a result by marking it, nor replayed code by printing
+-- it.  Returns their numbers and the output to compare (got with the
+-- recorded text on those lines).
+local function volatile(e, r, got)
+  local vol = {}
+  for _, i in ipairs(T.volatile_lines(e)) do
+    if r.volatile[i] and got[i] ~= nil then vol[#vol + 1] = i end
+  end
+  if #vol == 0 then return vol, got end
+  local cmp = table.move(got, 1, #got, 1, {})
+  for _, i in ipairs(vol) do cmp[i] = e.out[i] end
+  return vol, cmp
+end
+
+-- Show the volatile lines that differ (up to MAX_SHOWN); returns how many differ.
+local function show_volatile(vol, expected, got)
+  local n = 0
+  for _, i in ipairs(vol) do
+    if expected[i] ~= got[i] then
+      n = n + 1
+      if n <= R.MAX_SHOWN then
+        say(format("  line %d of its output is volatile (the log's path), not compared:\n"
+                   .. "    expected: %s\n    got:      %s\n", i, clip(expected[i]), clip(got[i])))
+      end
+    end
+  end
+  if n > R.MAX_SHOWN then
+    local more = n - R.MAX_SHOWN
+    say(format("  (and %d more volatile line%s)\n", more, more == 1 and "" or "s"))
+  end
+  return n
 end
 
 -- Does the code begin, after blanks and comments, with "("?  Lua would read
@@ -555,6 +616,7 @@ function R.replay(o)
   if child == "child" then child_main(parsed, o) end
   local total, matched, differed, notrun, blocked_all = 0, 0, 0, 0, 0
   local blocked_n, kept = 0, 0   -- entries with a blocked call; of them, kept by --update
+  local volatile_n = 0           -- volatile lines that differed, not compared
   local stopped, first = nil, true
   for _, e in ipairs(parsed.entries) do
     if e.skip then
@@ -607,7 +669,8 @@ function R.replay(o)
       end
       local recorded_error = false
       for _, l in ipairs(e.out) do if find(l, "^error: ") then recorded_error = true end end
-      local at = first_difference(e.out, got)
+      local vol, cmp = volatile(e, r, got)
+      local at = first_difference(e.out, cmp)
       if r.cmsg or (at and r.failed and not recorded_error) or opens_with_paren(e.code) then
         status = "error"
       elseif at then status = "differs" end
@@ -618,7 +681,8 @@ function R.replay(o)
       elseif status == "blocked" then blocked_n = blocked_n + 1
       else differed = differed + 1 end
       say(format("in %d: %s\n", e.n, status))
-      if at then show_differences(e.out, got) end
+      if at then show_differences(e.out, cmp) end
+      volatile_n = volatile_n + show_volatile(vol, e.out, got)
       for _, b in ipairs(r.blocked) do
         blocked_all = blocked_all + 1
         say(format("blocked: in %d: %s\n", e.n, T.escape(b)))
@@ -626,7 +690,9 @@ function R.replay(o)
       -- --update keeps the recorded output of an entry with a blocked call:
       -- the sandbox's refusal is not what the entry printed
       if o.update and #r.blocked == 0 then
-        e.new_out, e.new_data, e.new_pictures = got, r.data, r.pictures
+        e.new_out, e.new_data, e.new_pictures = cmp, r.data, r.pictures
+        e.new_volatile = {}
+        for _, i in ipairs(vol) do e.new_volatile[i] = true end
       elseif o.update then kept = kept + 1 end
     end
     ::continue::
@@ -643,6 +709,10 @@ function R.replay(o)
   say(format("%d commands: %d matched, %d differed%s%s\n", total, matched, differed,
              blocked_n > 0 and format(", %d blocked", blocked_n) or "",
              notrun > 0 and format(", %d not run", notrun) or ""))
+  if volatile_n > 0 then
+    say(format("%d volatile line%s (the log's path) not compared\n", volatile_n,
+               volatile_n == 1 and "" or "s"))
+  end
   if blocked_all > 0 then
     say(format("%d call%s blocked by the replay sandbox (--trust lifts it)\n",
                blocked_all, blocked_all == 1 and " was" or "s were"))
@@ -685,7 +755,8 @@ function R.rewrite(path, old_text, parsed)
     end
     local n = {n = e.n, typed = e.typed, expr = e.expr, skip = e.skip, code = e.code,
                out = e.new_out or e.out, data = e.new_data or e.data,
-               pictures = e.new_pictures or e.pictures}
+               pictures = e.new_pictures or e.pictures,
+               volatile = e.new_volatile or e.volatile}
     out[#out + 1] = sub(T.entry_text(n), 1, -2)
   end
   local f, err = real.open(path, "wb")

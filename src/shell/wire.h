@@ -12,7 +12,7 @@
 
 #define WIRE_HEAD 5                  /* kind byte + length */
 #define WIRE_MAX  (64u << 20)        /* largest payload: 64 MiB */
-#define WIRE_KINDS "EOFCDPBZQ"       /* the kinds a child may send */
+#define WIRE_KINDS "EOFCDPBVZQ"      /* the kinds a child may send */
 
 typedef struct wire_record {
   char kind;

@@ -440,3 +440,34 @@ test("an entry that opens with '(' does not continue the one before it when the 
   local p = assert(T.parse(head .. a .. b, "log"))
   eq(#p.entries, 2)
 end)
+
+test("volatile lines: the query of the log's path is marked, marks are read back and kept", function()
+  eq(T.is_log_query("show(log())"), true)
+  eq(T.is_log_query("show(log()\n)"), true, "show_code's form after a comment")
+  eq(T.is_log_query("print( log ( ) );"), true)
+  eq(T.is_log_query("log()"), true)
+  eq(T.is_log_query("show(log(\"x.lua\"))"), false, "log(path) prints the path given: not volatile")
+  eq(T.is_log_query("show(log() .. x)"), false)
+  eq(T.is_log_query("log = nil show(log())"), false)
+  eq(T.is_log_query("show(catalog())"), false)
+  local q = T.entry_text{n = 2, expr = true, typed = "log()", code = "show(log())",
+                         out = {"sluice-logs/session-20260101-000000.lua"}}
+  eq(q:find("\n%-%-@ volatile 1\n$") ~= nil, true, "the one line of show(log()) is marked")
+  local two = T.entry_text{n = 3, code = "show(log())", typed = "show(log())", out = {"a", "b"}}
+  eq(two:find("volatile", 1, true), nil, "a query that printed two lines is not marked")
+  local m = T.entry_text{n = 4, code = "print(p) print(1)", typed = "print(p) print(1)",
+                         out = {"a.lua", "1"}, volatile = {[1] = true, [7] = true}}
+  eq(select(2, m:gsub("%-%-@ volatile", "")), 1, "a mark past the output is not written")
+  local p = round_trip(HEAD .. q .. m, "volatile")
+  eq(p.entries[1].volatile[1], true)
+  eq(p.entries[2].volatile[1], true)
+  eq(p.entries[2].volatile[2], nil)
+  same_list(T.volatile_lines(p.entries[2]), {1})
+  -- an older-format entry carries its marks in the metadata at its end
+  local old = assert(T.parse(HEAD .. "--@ in 1\nprint(x)\n--| 1\n--@ volatile 1\n", "old.lua"))
+  eq(old.entries[1].volatile[1], true)
+  eq(old.entries[1].code, "print(x)")
+  local nok, why = T.parse(HEAD .. "--@ in 1 (1 line)\nx = 1\n--@ volatile 1234567890123456\n", "v.lua")
+  eq(nok, nil)
+  eq(why, "v.lua:6: a volatile line number with more than 15 digits")
+end)

@@ -135,6 +135,33 @@ grep -A 3 '^in 4: differs' out.txt | grep -qx '    got:      b' || fail "the add
 has "    got:      $(printf 'w%.0s' $(seq 300)) ... (700 more bytes)" "a long line is cut with what is left counted"
 ok "every differing entry shows its differing lines, bounded per entry and per line"
 
+# ---- the log's own path is volatile, not a difference (issue 12) ----
+printf 'x = 6\nlog()\nx * 7\n' | "$exe" -q -i --log first.lua > /dev/null 2>&1
+grep -q '^--@ volatile 1$' first.lua || fail "the session marks the output of log() volatile"
+cp first.lua moved.lua
+"$exe" --replay moved.lua > out.txt 2>&1 || fail "a log replayed under another name matches (exit 0)"
+has "in 2: ok" "the entry log() matches"
+has "  line 1 of its output is volatile (the log's path), not compared:" "the volatile line is shown as such"
+has "    expected: first.lua" "the recorded path is shown"
+has "    got:      moved.lua" "the replay's log path is shown"
+has "3 commands: 3 matched, 0 differed" "nothing differs"
+has "1 volatile line (the log's path) not compared" "the summary counts the volatile line"
+# a log written before the mark: the query of the log's path is recognised
+cat > unmarked.lua <<LOG
+$head3
+--@ in 1 show (1 line)
+show(log())
+--| sluice-logs/session-20260101-000000.lua
+--@ in 2 (1 line)
+print(log() == nil, 6 * 7)
+--| true	42
+LOG
+"$exe" --replay unmarked.lua > out.txt 2>&1
+[ $? = 1 ] || fail "a real difference beside a log() call still differs"
+has "in 1: ok" "show(log()) in a log without marks is volatile"
+has "in 2: differs" "a line that is not log()'s own output is compared"
+ok "the output of log() is volatile: shown, not counted as a difference; other lines still compared"
+
 # ---- bad logs ----
 cat > invalid.lua <<LOG
 $head3
