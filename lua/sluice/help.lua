@@ -638,7 +638,9 @@ current path. sluice --replay LOG re-runs a log and compares every output.
 A log is code: a replay runs it in a child process that the kernel confines
 (Landlock: writes only beneath --out; seccomp: no programs, processes or
 sockets; limits on memory, CPU and --limit seconds per entry), while the
-parent writes the report. In a replay, log(path) needs a path beneath --out.
+parent writes the report. In a replay with --out DIR, log(path) with a
+relative path starts that log in DIR, and log() gives the replayed log's path:
+the line it prints is volatile ("--@ volatile K"), shown but not compared.
 sluice LOG runs a log as a script, with no sandbox: only for your own logs.]],
     example = [[log "orchard-session.lua"]] },
   { name = "show", topic = "session",
@@ -656,7 +658,9 @@ a script and prints what the prompt printed.]],
 log, data files with their SHA-256), each command in a code block with its
 output, the pictures commands drew (g:draw, plot =) as images, and the
 caution. A path ending in .html gives a self-contained page (CommonMark through
-libcmark, pictures inlined). In a replay the path must be inside --out.]],
+libcmark, pictures inlined). In a replay with --out DIR a relative path lands in
+DIR, as do those of g:draw, f:write_csv, plot = and exercise{dir=}; a path that
+leaves DIR is blocked.]],
     example = [[report "orchard-report.html"]] },
   { name = "exercise", topic = "session",
     sig = "exercise{graph=, model=, dir=, treatment=, outcome=, n=, seed=, scenario=, sets=, questions=, digits=, draws=}",
