@@ -91,15 +91,25 @@ local function lines_of(text)
   return out
 end
 
--- The message of an error object, as the prompt shows it.
-local function error_text(e)
-  if type(e) == "string" or type(e) == "number" then return tostring(e) end
-  local mt = getmetatable(e)
-  if type(mt) == "table" and mt.__tostring then
-    local ok, s = pcall(tostring, e)
-    if ok and type(s) == "string" then return s end
+-- The message of an error object, as the prompt shows it: a misspelled
+-- function name gains the closest one of globals (default: the global
+-- table) through the shell's hook, as at the prompt.
+local function error_text(e, globals)
+  local s
+  if type(e) == "string" or type(e) == "number" then s = tostring(e)
+  else
+    local mt = getmetatable(e)
+    if type(mt) == "table" and mt.__tostring then
+      local ok, t = pcall(tostring, e)
+      if ok and type(t) == "string" then s = t end
+    end
+    s = s or "(error object is a " .. type(e) .. " value)"
   end
-  return "(error object is a " .. type(e) .. " value)"
+  if hooks and hooks.suggest_global then
+    local ok, t = pcall(hooks.suggest_global, s, globals)
+    if ok and type(t) == "string" then s = t end
+  end
+  return s
 end
 
 -- ---- the log's text (sluice.logtext) ----

@@ -137,6 +137,7 @@ static int pmain(lua_State *L) {
   lua_gc(L, LUA_GCGEN, 0, 0);
   sig_init();
   log_install(L);
+  run_install(L);
   replayer_install(L);
   if (o->replay != NULL) {
     j->status = replay_run(L, o);

@@ -18,42 +18,74 @@
 /* At most this many global functions are weighed as suggestions. */
 #define RUN_SUGGEST_MAX 512
 
-/* The names of the functions in the global table (the module's public
-** functions are copied there), at most max; returns how many. */
+/* The names of the functions in the table on top (the global table: the
+** module's public functions are copied there), at most max; returns how
+** many.  The table stays, and keeps the names alive. */
 static size_t global_functions(lua_State *L, const char **names, size_t max) {
   size_t n = 0;
-  lua_pushglobaltable(L);
   lua_pushnil(L);
   while (lua_next(L, -2) != 0) {
     if (n < max && lua_type(L, -2) == LUA_TSTRING && lua_isfunction(L, -1))
-      names[n++] = lua_tostring(L, -2);   /* kept alive by the global table */
+      names[n++] = lua_tostring(L, -2);   /* kept alive by the table */
     lua_pop(L, 1);
   }
-  lua_pop(L, 1);
   return n;
 }
 
 /* A misspelled function name ("attempt to call a nil value (global
-** 'estimat')") gains the closest global function: the message on top is
-** replaced when there is one. */
-static void suggest_global(lua_State *L) {
+** 'estimat')") gains the closest function of the table on top (popped):
+** the message below it is replaced when there is one. */
+static void suggest_in(lua_State *L) {
   static const char what[] = "attempt to call a nil value (global '";
-  const char *msg = lua_tostring(L, -1);
+  const char *msg = lua_tostring(L, -2);
   const char *at = msg ? strstr(msg, what) : NULL;
-  if (!at) return;
-  const char *name = at + sizeof what - 1, *end = strchr(name, '\'');
-  if (!end || end[1] != ')' || end - name >= 128) return;
+  const char *name = at ? at + sizeof what - 1 : NULL;
+  const char *end = name ? strchr(name, '\'') : NULL;
+  if (!end || end[1] != ')' || end - name >= 128 || !lua_istable(L, -1)) {
+    lua_pop(L, 1);
+    return;
+  }
   char word[128];
   memcpy(word, name, (size_t)(end - name));
   word[end - name] = '\0';
   const char *names[RUN_SUGGEST_MAX];
   size_t n = global_functions(L, names, RUN_SUGGEST_MAX);
   const char *near = sl_closest(word, names, n);
-  if (!near) return;
-  lua_pushlstring(L, msg, (size_t)(end + 2 - msg));
-  lua_pushfstring(L, "; did you mean '%s'?%s", near, end + 2);
-  lua_concat(L, 2);
-  lua_remove(L, -2);
+  if (near) {
+    lua_pushlstring(L, msg, (size_t)(end + 2 - msg));
+    lua_pushfstring(L, "; did you mean '%s'?%s", near, end + 2);
+    lua_concat(L, 2);
+    lua_replace(L, -3);
+  }
+  lua_pop(L, 1);   /* the table; names[] are no longer needed */
+}
+
+/* The suggestion among the global functions. */
+static void suggest_global(lua_State *L) {
+  lua_pushglobaltable(L);
+  suggest_in(L);
+}
+
+/* hooks.suggest_global(msg [, globals]): msg with the closest function of
+** globals (default: the global table) suggested, as the prompt shows it,
+** so that a replay whose globals are a table of its own prints the same. */
+static int l_suggest_global(lua_State *L) {
+  luaL_checkstring(L, 1);
+  lua_settop(L, 2);
+  if (lua_isnil(L, 2)) {
+    lua_pop(L, 1);
+    lua_pushglobaltable(L);
+  }
+  suggest_in(L);
+  return 1;
+}
+
+void run_install(lua_State *L) {
+  if (lua_getfield(L, LUA_REGISTRYINDEX, "sluice.hooks") == LUA_TTABLE) {
+    lua_pushcfunction(L, l_suggest_global);
+    lua_setfield(L, -2, "suggest_global");
+  }
+  lua_pop(L, 1);
 }
 
 /* Look for ":digits: " after a non-empty prefix on the first line. */

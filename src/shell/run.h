@@ -34,6 +34,10 @@ int run_script(lua_State *L, const char *path, char **args, int nargs);
 ** innermost Lua function when the error was raised ("" when none). */
 void run_entry_position(lua_State *L);
 
+/* Put suggest_global (the prompt's suggestion of a misspelled function
+** name) into the hooks table. */
+void run_install(lua_State *L);
+
 /* 1 when the first line of msg starts with a position "where:123: ". */
 int run_has_position(const char *msg);
 
