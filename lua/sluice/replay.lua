@@ -222,13 +222,14 @@ local function sandbox(o, hear, placed)
   mod.report = function(path, ...)
     return S.report(guard(path, "report"), ...)
   end
-  mod.exercise = function(o, ...)
-    if type(o) == "table" and (type(o.dir) == "string" and o.dir ~= "" or math.type(o.dir)) then
-      local c = copy(o)
-      c.dir = guard(o.dir, "exercise")
+  mod.exercise = function(args, ...)
+    local dir = type(args) == "table" and args.dir
+    if type(dir) == "string" and dir ~= "" or math.type(dir) then
+      local c = copy(args)
+      c.dir = guard(dir, "exercise")
       return S.exercise(c, ...)
     end
-    return S.exercise(o, ...)
+    return S.exercise(args, ...)
   end
   for _, k in ipairs({"log", "report", "exercise"}) do env[k] = mod[k] end
   env.package = copy(package)
@@ -430,8 +431,8 @@ local function show_differences(expected, got)
 end
 
 -- The records of entry e from the child: {out=, failed=, data=, pictures=,
--- blocked=, cmsg=, volatile = {[line] = true}}, or nil, what ("timeout", "ended", "broken", "setup")
--- and a detail.
+-- blocked=, cmsg=, volatile = {[line] = true}}, or nil, what ("timeout",
+-- "ended", "broken", "setup") and a detail.
 local total_bytes = 0
 local function collect(child, e, limit, first)
   local r = {out = "", failed = false, data = {}, pictures = {}, blocked = {}, volatile = {}}
