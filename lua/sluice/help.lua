@@ -641,7 +641,11 @@ sockets; limits on memory, CPU and --limit seconds per entry), while the
 parent writes the report. In a replay with --out DIR, log(path) with a
 relative path starts that log in DIR, and log() gives the replayed log's path:
 the line it prints is volatile ("--@ volatile K"), shown but not compared.
-sluice LOG runs a log as a script, with no sandbox: only for your own logs.]],
+A script keeps the same log: sluice --log LOG script.lua writes each top-level
+statement as an entry (the -e code too). Top-level locals live from one input
+or statement to the next. sluice LOG runs a log as a script, entry by entry:
+an error the log recorded is shown and the run goes on, one it did not record
+stops it (status 1, LOG:LINE). It has no sandbox: only for your own logs.]],
     example = [[log "orchard-session.lua"]] },
   { name = "show", topic = "session",
     sig = "show(...)",
@@ -655,10 +659,10 @@ a script and prints what the prompt printed.]],
     brief = "Write the session as a Markdown or HTML report",
     returns = "path",
     summary = [[Write the session so far as a Markdown report: the metadata (version, start,
-log, data files with their SHA-256), each command in a code block with its
-output, the pictures commands drew (g:draw, plot =) as images, and the
-caution. A path ending in .html gives a self-contained page (CommonMark through
-libcmark, pictures inlined). In a replay with --out DIR a relative path lands in
+log, data files with their SHA-256), each command (in a script, each top-level
+statement) in a code block with its output, the pictures commands drew (g:draw,
+plot =) as images, and the caution. A path ending in .html gives a
+self-contained page (CommonMark through libcmark, pictures inlined). In a replay with --out DIR a relative path lands in
 DIR, as do those of g:draw, f:write_csv, plot = and exercise{dir=}; a path that
 leaves DIR is blocked.]],
     example = [[report "orchard-report.html"]] },

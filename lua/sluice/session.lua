@@ -678,6 +678,7 @@ function S.install(mod, metas, hk)
   hooks.session_plan = S.plan
   hooks.session_prepare = S.prepare
   hooks.session_where = S.where
+  hooks.session_logging = function() return log ~= nil end
   hooks.session_start = function()
     S.started = S.started or stamp()
     wrap_output()

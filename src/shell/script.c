@@ -183,9 +183,24 @@ static int plan(lua_State *L, const char *text, size_t len,
   return LUA_ERRSYNTAX;
 }
 
-/* A precompiled chunk cannot be divided or logged: it runs whole. */
+/* Is the session log on (hooks.session_logging)? */
+static int logging(lua_State *L) {
+  int on = 0;
+  if (push_hook(L, "session_logging") && lua_pcall(L, 0, 1, 0) == LUA_OK)
+    on = lua_toboolean(L, -1);
+  lua_pop(L, 1);
+  return on;
+}
+
+/* A precompiled chunk cannot be divided or logged: it runs whole, and not
+** at all while a log is kept, which could not hold it. */
 static int run_binary(lua_State *L, const char *text, size_t len,
                       const char *chunkname, char **args, int nargs) {
+  if (logging(L)) {
+    lua_pushfstring(L, "%s: a precompiled script cannot be kept in the session "
+                    "log; run its source, or give --no-log", chunkname + 1);
+    return run_report(L, LUA_ERRRUN);
+  }
   int status = luaL_loadbufferx(L, text, len, chunkname, "b");
   if (status == LUA_OK) {
     luaL_checkstack(L, nargs, "too many arguments to the script");

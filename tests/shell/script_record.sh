@@ -145,7 +145,12 @@ has "--log PATH and --no-log contradict each other" "--log with --no-log says so
 "$exe" --replay orchard.log --log b.log > out.txt 2>&1
 [ $? = 2 ] || fail "--log with --replay is a usage error"
 has "--replay keeps no session log" "--log with --replay says so"
-ok "--log is never ignored: an unwritable path exits 1, with --no-log or --replay it is a usage error"
+"$exe" -e 'local f = io.open("bin.luac", "wb"); f:write(string.dump(load("print(42)"))); f:close()'
+"$exe" bin.luac > out.txt 2>&1 && has_line out.txt 42 || fail "a precompiled script runs"
+"$exe" --log bin.log bin.luac > out.txt 2>&1
+[ $? = 1 ] || fail "a precompiled script with --log exits 1"
+has "bin.luac: a precompiled script cannot be kept in the session log" "a precompiled script with --log says why"
+ok "--log is never ignored: an unwritable path or a precompiled script exits 1, with --no-log or --replay it is a usage error"
 
 # a script that fails: status 1, its file and line; the log holds the error
 cat > fails.lua <<'EOF'
