@@ -24,6 +24,7 @@ static uint64_t replicate_seed(uint64_t seed, uint64_t b) {
 typedef struct job {
   const sl_est_spec *s;
   const sl_prep *P;
+  const sl_boot_linear *lin;       /* linear standardization from counts, or NULL */
   double *est;
   atomic_size_t next, done;
   atomic_int failed_hard;          /* out of memory in a worker */
@@ -53,13 +54,35 @@ static size_t draw(const sl_prep *P, gsl_rng *r, size_t **ix, size_t *cap) {
   return m;
 }
 
+/* Replicate b's estimate from its rows ix[0..n): from their counts when
+** the linear route applies, else by refitting on the rows. */
+static double replicate(const job *J, const size_t *ix, size_t n, double *count, double *work) {
+  if (J->lin) {
+    memset(count, 0, J->P->n * sizeof *count);
+    for (size_t k = 0; k < n; k++) count[ix[k]] += 1;
+    double est;
+    if (sl_boot_linear_point(J->s, J->lin, count, work, &est) == 0) return est;
+  }
+  sl_point pt;
+  sl_error e;
+  char warn[SL_WARN_MAX] = "";
+  return sl_est_point(J->s, J->P, ix, n, 0, &pt, warn, &e) == SL_OK ? pt.est : NAN;
+}
+
 /* Take replicates until none are left. */
 static void *worker(void *arg) {
   job *J = arg;
   size_t cap = J->P->n;
   size_t *ix = malloc(cap * sizeof *ix);
+  double *count = J->lin ? malloc(J->P->n * sizeof *count) : NULL;
+  double *work = J->lin ? malloc(sl_boot_linear_work(J->lin) * sizeof *work) : NULL;
   gsl_rng *r = gsl_rng_alloc(gsl_rng_mt19937);
-  if (!ix || !r) { atomic_store(&J->failed_hard, 1); free(ix); if (r) gsl_rng_free(r); return NULL; }
+  if (!ix || !r || (J->lin && (!count || !work))) {
+    atomic_store(&J->failed_hard, 1);
+    free(ix); free(count); free(work);
+    if (r) gsl_rng_free(r);
+    return NULL;
+  }
   for (;;) {
     if (J->s->stop && *J->s->stop) break;
     size_t b = atomic_fetch_add(&J->next, 1);
@@ -67,20 +90,22 @@ static void *worker(void *arg) {
     gsl_rng_set(r, (unsigned long)replicate_seed(J->s->seed, b));
     size_t n = draw(J->P, r, &ix, &cap);
     if (n == 0) { atomic_store(&J->failed_hard, 1); break; }
-    sl_point pt;
-    sl_error e;
-    char warn[SL_WARN_MAX] = "";
-    J->est[b] = sl_est_point(J->s, J->P, ix, n, 0, &pt, warn, &e) == SL_OK ? pt.est : NAN;
+    J->est[b] = replicate(J, ix, n, count, work);
     atomic_fetch_add(&J->done, 1);
   }
-  free(ix);
+  free(ix); free(count); free(work);
   gsl_rng_free(r);
   return NULL;
 }
 
 int sl_est_bootstrap(const sl_est_spec *s, const sl_prep *P, double *est, sl_error *e) {
   job J;
-  J.s = s; J.P = P; J.est = est;
+  sl_boot_linear lin;
+  J.s = s; J.P = P; J.est = est; J.lin = NULL;
+  if (s->method == SL_STANDARDIZE && !P->bin_y) {
+    if (sl_boot_linear_init(s, P, &lin, e)) return e->code;
+    J.lin = &lin;
+  }
   atomic_init(&J.next, 0); atomic_init(&J.done, 0); atomic_init(&J.failed_hard, 0);
   for (size_t b = 0; b < s->boot; b++) est[b] = NAN;
   long cores = sysconf(_SC_NPROCESSORS_ONLN);
@@ -102,6 +127,7 @@ int sl_est_bootstrap(const sl_est_spec *s, const sl_prep *P, double *est, sl_err
   }
   worker(&J);
   for (int i = 0; i < started; i++) pthread_join(th[i], NULL);
+  if (J.lin) sl_boot_linear_free(&lin);
   if (s->progress) s->progress(s->progress_ctx, atomic_load(&J.done), s->boot);
   if (atomic_load(&J.failed_hard)) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory in the bootstrap");
   if (s->stop && *s->stop) return sl_error_set(e, SL_ELIMIT, 0, 0, "interrupted");

@@ -20,7 +20,7 @@ void sl_est_warn(char *buf, const char *msg) {
 }
 
 /* Outcome-model design row for sample row i with treatment value tv. */
-static void outcome_row(const sl_prep *P, size_t i, double tv, int inter, double *row) {
+void sl_est_outcome_row(const sl_prep *P, size_t i, double tv, int inter, double *row) {
   const double *c = P->C + i * P->q;
   row[0] = 1;
   row[1] = tv;
@@ -40,7 +40,7 @@ static int outcome_fit(const sl_prep *P, const size_t *ix, size_t n, int inter,
   int rc = SL_OK;
   if (!X || !y || !row) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
   for (size_t k = 0; k < n; k++) {
-    outcome_row(P, ix[k], P->t[ix[k]], inter, X + k * p);
+    sl_est_outcome_row(P, ix[k], P->t[ix[k]], inter, X + k * p);
     y[k] = P->y[ix[k]];
   }
   sl_fit fit;
@@ -51,9 +51,9 @@ static int outcome_fit(const sl_prep *P, const size_t *ix, size_t n, int inter,
   if (rc) goto done;
   if (w[0]) { char m[300]; snprintf(m, sizeof m, "outcome model: %s", w); sl_est_warn(warn, m); }
   for (size_t k = 0; k < n; k++) {
-    outcome_row(P, ix[k], ta ? ta[ix[k]] : 1, inter, row);
+    sl_est_outcome_row(P, ix[k], ta ? ta[ix[k]] : 1, inter, row);
     sl_predict(&fit, row, 1, P->bin_y, &m_a[k]);
-    outcome_row(P, ix[k], tb ? tb[ix[k]] : 0, inter, row);
+    sl_est_outcome_row(P, ix[k], tb ? tb[ix[k]] : 0, inter, row);
     sl_predict(&fit, row, 1, P->bin_y, &m_b[k]);
   }
   if (beta) memcpy(beta, fit.coef, p * sizeof *beta);
@@ -89,7 +89,7 @@ done:
 }
 
 /* Whether sample row k belongs to the target population of the estimand. */
-static int in_target(const sl_est_spec *s, double t) {
+int sl_est_in_target(const sl_est_spec *s, double t) {
   return s->estimand == SL_ATE || (s->estimand == SL_ATT ? t == 1 : t == 0);
 }
 
@@ -116,13 +116,13 @@ static int linear_means(const sl_est_spec *s, const sl_prep *P, const size_t *ix
   size_t m = 0;
   for (size_t k = 0; k < n; k++) {
     size_t i = ix[k];
-    outcome_row(P, i, P->t[i], inter, X + k * p);
+    sl_est_outcome_row(P, i, P->t[i], inter, X + k * p);
     y[k] = P->y[i];
-    if (P->bin_t && !in_target(s, P->t[i])) continue;
+    if (P->bin_t && !sl_est_in_target(s, P->t[i])) continue;
     m++;
-    outcome_row(P, i, ta ? ta[i] : 1, inter, row);
+    sl_est_outcome_row(P, i, ta ? ta[i] : 1, inter, row);
     for (size_t j = 0; j < p; j++) ra[j] += row[j];
-    outcome_row(P, i, tb ? tb[i] : 0, inter, row);
+    sl_est_outcome_row(P, i, tb ? tb[i] : 0, inter, row);
     for (size_t j = 0; j < p; j++) rb[j] += row[j];
   }
   if (m == 0) { rc = sl_error_set(e, SL_EARG, 0, 0, "no rows in the target population"); goto done; }
@@ -165,15 +165,15 @@ static int standardize_se(const sl_est_spec *s, const sl_prep *P, int inter, con
   }
   size_t m = 0;
   for (size_t k = 0; k < n; k++) {
-    outcome_row(P, k, P->t[k], inter, X + k * p);
+    sl_est_outcome_row(P, k, P->t[k], inter, X + k * p);
     double f = fitted(beta, X + k * p, p, lg);
     v[k] = lg ? f * (1 - f) : 1;
     r[k] = P->y[k] - f;
     phi1[k] = phi0[k] = 0;
-    if (P->bin_t && !in_target(s, P->t[k])) continue;
+    if (P->bin_t && !sl_est_in_target(s, P->t[k])) continue;
     m++;
     for (int a = 0; a < 2; a++) {
-      outcome_row(P, k, a == 0 ? (ta ? ta[k] : 1) : (tb ? tb[k] : 0), inter, row);
+      sl_est_outcome_row(P, k, a == 0 ? (ta ? ta[k] : 1) : (tb ? tb[k] : 0), inter, row);
       double g = fitted(beta, row, p, lg), gd = lg ? g * (1 - g) : 1;
       for (size_t j = 0; j < p; j++) D[a * p + j] += gd * row[j];
       (a == 0 ? phi1 : phi0)[k] = g - (a == 0 ? out->mu1 : out->mu0);
@@ -220,7 +220,7 @@ static int standardize(const sl_est_spec *s, const sl_prep *P, const size_t *ix,
     double s1 = 0, s0 = 0;
     size_t m = 0;
     for (size_t k = 0; k < n; k++)
-      if (!P->bin_t || in_target(s, P->t[ix[k]])) { s1 += ma[k]; s0 += mb[k]; m++; }
+      if (!P->bin_t || sl_est_in_target(s, P->t[ix[k]])) { s1 += ma[k]; s0 += mb[k]; m++; }
     if (m == 0) { rc = sl_error_set(e, SL_EARG, 0, 0, "no rows in the target population"); goto done; }
     out->mu1 = s1 / (double)m;
     out->mu0 = s0 / (double)m;

@@ -72,6 +72,30 @@ int sl_infl_finish(const sl_prep *P, int scale, double mu1, double mu0, const do
 int sl_est_intervals(const sl_est_spec *s, const sl_point *pt, double *boot,
                      sl_est_result *res, sl_error *e);
 
+/* A design row of the outcome model (intercept, t, covariates, t x
+** covariates when inter) for row i with treatment value tv; whether a row
+** with treatment t belongs to the estimand's target. */
+void sl_est_outcome_row(const sl_prep *P, size_t i, double tv, int inter, double *row);
+int sl_est_in_target(const sl_est_spec *s, double t);
+
+/* Replicates of a standardization with a linear outcome model from counts
+** (boot_linear.c): init once, then per replicate a point estimate from the
+** counts of each row, with work of sl_boot_linear_work(L) doubles; nonzero
+** when the replicate needs the QR fit instead. */
+typedef struct sl_boot_linear {
+  size_t n, p;
+  int inter;
+  double *Z;             /* n x p: design columns but the intercept, and y; centred */
+  double *mean;          /* their means over all rows */
+  double *Xa, *Xb;       /* n x p: design rows under the two treatment values */
+  unsigned char *target; /* the row belongs to the estimand's target */
+} sl_boot_linear;
+int sl_boot_linear_init(const sl_est_spec *s, const sl_prep *P, sl_boot_linear *L, sl_error *e);
+void sl_boot_linear_free(sl_boot_linear *L);
+size_t sl_boot_linear_work(const sl_boot_linear *L);
+int sl_boot_linear_point(const sl_est_spec *s, const sl_boot_linear *L, const double *count,
+                         double *work, double *est);
+
 /* The bootstrap: replicate estimates into est[0..B) (NaN when a replicate
 ** failed). */
 int sl_est_bootstrap(const sl_est_spec *s, const sl_prep *P, double *est, sl_error *e);
