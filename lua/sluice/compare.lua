@@ -363,11 +363,7 @@ function C.compare(a)
   for k in pairs(allowed) do names[#names + 1] = k end
   table.sort(names)
   for k in pairs(a) do
-    if not allowed[k] then
-      local near = type(k) == "string" and E.closest(k, names)
-      fail(string.format("unknown argument '%s'%s", tostring(k),
-           near and ("; did you mean '" .. near .. "'?") or ""))
-    end
+    if not allowed[k] then E.unknown_key("compare", k, names, "argument") end
   end
   if not E.is_frame(a.data) then fail("data = must be a data frame (read_csv, read_sql)") end
   local x, y = a.treatment, a.outcome

@@ -200,12 +200,6 @@ local any_input = {show = true}
 -- names the file and the fix.  This list should be emptied; a case on it
 -- that passes makes the test fail until it is removed.
 local KNOWN = {
-  -- lua/sluice/compare.lua (D): an unknown argument with no near name says
-  -- only "compare: unknown argument 'zzzzzzzz'".  Fix: list them, as
-  -- estimate{} does: replace the fail(...) in the argument loop of compare
-  -- with E.unknown_key("compare", k, names, "argument") (names: the sorted
-  -- known argument names).
-  ["compare | option zzzzzzzz"] = "compare.lua",
   -- lua/sluice/session.lua (A): f:write_csv is a Lua function returned by
   -- the frame's replaced __index, so it is not made public, and called as
   -- "return d:write_csv()" its own user_position() walks past the C pcall
