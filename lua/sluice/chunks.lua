@@ -178,12 +178,28 @@ function K.split(text, load)
     local k = first_tok[l] or #kind + 1
     return starts_statement(kind[k], words[k])
   end
+  -- open[l]: is a block or bracket open at the end of line l?  Only where
+  -- none is can an entry end, so a long table costs one compile, not one
+  -- per line.
+  local open, depth, t2 = {}, 0, 1
+  for l = 1, n do
+    while t2 <= #kind and tline[t2] <= l do
+      local k, w = kind[t2], words[t2]
+      if (k == "kw" and OPENS[w]) or (k == "op" and (w == "(" or w == "{" or w == "[")) then
+        depth = depth + 1
+      elseif (k == "kw" and CLOSES[w]) or (k == "op" and (w == ")" or w == "}" or w == "]")) then
+        depth = depth - 1
+      end
+      t2 = t2 + 1
+    end
+    open[l] = depth > 0
+  end
   -- The entry from line i that ends at the first line j >= from after
   -- which it compiles and a statement begins: j and its code, or nil.
   local function take(i, from)
     local code_at = tline[first_tok[i]]   -- the entry's first line of code
     for j = math.max(from, code_at), n do
-      if next_starts(j + 1) then
+      if not open[j] and next_starts(j + 1) then
         local c = table.concat(lines, "\n", i, j)
         if load(c) then return j, c end
       end
