@@ -166,7 +166,7 @@ local known = {
               method = true, estimand = true, scale = true, interactions = true,
               contrast = true, stabilized = true, truncate = true, boot = true,
               level = true, seed = true, threads = true, via = true, instrument = true,
-              se = true, interval = true, cluster = true},
+              se = true, interval = true, cluster = true, treated = true},
 }
 known.balance = {}
 for k in pairs(known.estimate) do known.balance[k] = true end
@@ -471,6 +471,10 @@ function estimate_mt.__tostring(r)
   local set = {}
   for i, v in ipairs(r.set) do set[i] = P.name(v) end
   add("set", "{" .. table.concat(set, ", ") .. "}   (" .. r.set_reason .. ")")
+  if r.treated_level then
+    add("treated", string.format("%s = %s (control %s = %s; choose with treated =)", r.treatment,
+                                 P.name(r.treated_level), r.treatment, P.name(r.control_level)))
+  end
   if r.binary_treatment then
     add("means", string.format("%s under treatment, %s under control", fmt(r.mu1), fmt(r.mu0)))
   else
@@ -659,6 +663,16 @@ local function resolve_set(fname, a)
                            reason_text(why)
 end
 
+-- treated = as the text the library compares with the treatment's levels.
+local function treated_text(fname, v)
+  if math.type(v) == "integer" then return string.format("%d", v) end
+  if type(v) == "number" and v == v and math.abs(v) < math.huge then return string.format("%.17g", v) end
+  if type(v) == "string" then return v end
+  if type(v) == "boolean" then return tostring(v) end
+  fail(fname, "treated = must be the treatment's level taken as treated (a number or a text), got "
+       .. show(v))
+end
+
 local function spec(fname, a)
   args(fname, a, known[fname])
   check_column(fname, "treatment", a.data, a.treatment)
@@ -694,6 +708,7 @@ local function spec(fname, a)
     se = choice(fname, "se", a.se, {"sandwich", "ps known"}, "sandwich"),
     interval = choice(fname, "interval", a.interval, {"percentile", "bca", "normal"}, nil),
     cluster = a.cluster,
+    treated = a.treated ~= nil and treated_text(fname, a.treated) or nil,
   }
   if a.truncate ~= nil then
     local t = a.truncate

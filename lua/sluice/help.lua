@@ -363,7 +363,11 @@ size (sum w)^2 / sum w^2 over all rows and within each group, which need
 not add up to the overall one) or "aipw" (doubly robust). estimand "ATE",
 "ATT" or "ATC"; scale "difference", "ratio" (of means, which must both be
 positive) or "odds ratio"; contrast = d (finite, not 0) for a continuous
-treatment.
+treatment. A treatment with two values is binary however coded (1/2,
+"yes"/"no", text): the larger number, or the level reading yes/true/
+treated, or else the later level, is taken as treated and printed;
+treated = picks it. A numeric treatment with 3 to 5 values is estimated as
+continuous with a warning.
 Uncertainty comes without asking: an analytic SE from the estimating
 equations of the working model and the two means, stacked (the M-estimation
 sandwich, Stefanski and Boos 2002): for standardization with its outcome

@@ -73,12 +73,15 @@ of the first 10 rows, each led by its row number (as for f:row(i)), missing
 values shown as NA.]],
     example = [[plots:head(3)]] },
   { name = "f:binarize", topic = "data",
-    sig = "f:binarize(col, cut, [name])",
-    brief = "Add a 0/1 column from a cut of a numeric one",
+    sig = "f:binarize(col, cut or levels, [name])",
+    brief = "Add a 0/1 column from a cut or from levels",
     returns = "a new frame with the column added",
     summary = [[A copy of f with a column that is 1 where col is above cut, 0 where it is not,
-and missing where col is missing. name defaults to col .. "_high".]],
-    example = [[plots2 = plots:binarize("rain", 70, "wet")]] },
+and missing where col is missing; name defaults to col .. "_high". For a
+categorical col give a level or a list of levels to count as 1 (a level
+not in col is an error with the nearest one); name defaults to col .. "_"
+.. level, or col .. "_in" for a list.]],
+    example = [[plots2 = plots:binarize("rain", 70, "wet"); p3 = plots:binarize("variety", {"gala", "fuji"}, "sweet")]] },
   { name = "f:select", topic = "data",
     sig = "f:select{col, ...}",
     brief = "Some columns of a frame, in a given order",

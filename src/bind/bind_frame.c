@@ -370,16 +370,39 @@ static int f_head(lua_State *L) {
   return push_result(L, sl_frame_head(f, k, &e), "head", &e);
 }
 
+/* f:binarize(col, level or {levels}, name) for a categorical column. */
+static int binarize_levels(lua_State *L, sl_frame *f, int j) {
+  lua_settop(L, 4);   /* what is pushed below stays above the arguments */
+  int list = lua_istable(L, 3);
+  if (!list && lua_type(L, 3) != LUA_TSTRING)
+    luaL_argerror(L, 3, lua_pushfstring(L, "column '%s' is categorical: give the level, or a list "
+                                        "of levels, to count as 1 (got %s)", f->col[j].name,
+                                        luaL_typename(L, 3)));
+  lua_Integer n = list ? luaL_len(L, 3) : 1;
+  luaL_argcheck(L, n >= 1 && n <= 100000, 3, "a list of one or more levels");
+  const char **lv = lua_newuserdatauv(L, (size_t)n * sizeof *lv, 0);
+  for (lua_Integer k = 0; k < n; k++) {
+    if (list) lua_geti(L, 3, k + 1); else lua_pushvalue(L, 3);
+    if (lua_type(L, -1) != LUA_TSTRING)
+      luaL_argerror(L, 3, lua_pushfstring(L, "item %I is a %s, not a level", k + 1, luaL_typename(L, -1)));
+    lv[k] = lua_tostring(L, -1);   /* kept alive by the table or argument 3 */
+    lua_pop(L, 1);
+  }
+  const char *name = lua_isnil(L, 4) ? NULL : luaL_checkstring(L, 4);
+  if (!name) name = n == 1 ? lua_pushfstring(L, "%s_%s", f->col[j].name, lv[0])
+                           : lua_pushfstring(L, "%s_in", f->col[j].name);
+  sl_error e;
+  return push_result(L, sl_frame_binarize_levels(f, j, lv, (size_t)n, name, &e), "binarize", &e);
+}
+
 static int f_binarize(lua_State *L) {
   sl_frame *f = sl_bind_checkframe(L, 1);
   int j = check_column(L, f, 2);
+  if (f->col[j].type != SL_NUMERIC) return binarize_levels(L, f, j);
   double cut = luaL_checknumber(L, 3);
   luaL_argcheck(L, !isnan(cut), 3, "the cut is not a number");
   const char *name = luaL_optstring(L, 4, NULL);
   if (!name) name = lua_pushfstring(L, "%s_high", f->col[j].name);
-  if (f->col[j].type != SL_NUMERIC)
-    luaL_argerror(L, 2, lua_pushfstring(L, "column '%s' is categorical; binarize needs numbers",
-                                        f->col[j].name));
   sl_error e;
   return push_result(L, sl_frame_binarize(f, j, cut, name, &e), "binarize", &e);
 }

@@ -248,6 +248,7 @@ static void read_spec(lua_State *L, sl_est_spec *s) {
            : SL_DIFFERENCE;
   const char *se = opt_string(L, 5, "se", "sandwich");
   s->se_kind = strcmp(se, "ps known") == 0 ? SL_SE_PS_KNOWN : SL_SE_SANDWICH;
+  s->treated = opt_string(L, 5, "treated", NULL);
   lua_getfield(L, 5, "cluster");
   s->cluster = lua_isnil(L, -1) ? 0 : 1 + column(L, f, 5, luaL_checkstring(L, -1));
   lua_pop(L, 1);
@@ -299,6 +300,10 @@ static void push_result(lua_State *L, const sl_est_spec *sp, const sl_est_result
   lua_pushinteger(L, (lua_Integer)r.n); lua_setfield(L, -2, "n");
   lua_pushinteger(L, (lua_Integer)r.dropped); lua_setfield(L, -2, "dropped");
   if (s.cluster) { lua_pushinteger(L, (lua_Integer)r.nclusters); lua_setfield(L, -2, "clusters"); }
+  if (r.treated_level[0]) {
+    lua_pushstring(L, r.treated_level); lua_setfield(L, -2, "treated_level");
+    lua_pushstring(L, r.control_level); lua_setfield(L, -2, "control_level");
+  }
   if (s.boot) {
     lua_pushinteger(L, (lua_Integer)r.boot_done); lua_setfield(L, -2, "boot");
     lua_pushinteger(L, (lua_Integer)r.boot_failed); lua_setfield(L, -2, "boot_failed");

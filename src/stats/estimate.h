@@ -42,6 +42,9 @@ enum sl_interval { SL_CI_DEFAULT = 0, SL_CI_PERCENTILE = 1, SL_CI_BCA = 2, SL_CI
 ** downwards with few clusters (common practice; e.g. Cameron and Miller
 ** 2015, J. Human Resources 50, 317-372, section VI, from memory). */
 #define SL_CLUSTERS_FEW 30
+/* A numeric treatment with more than two but at most this many distinct
+** values is estimated as continuous with a warning: it may be categorical. */
+#define SL_FEW_VALUES 5
 
 /* Called now and then from the calling thread during a bootstrap. */
 typedef void (*sl_progress_fn)(void *ctx, size_t done, size_t total);
@@ -60,6 +63,9 @@ typedef struct sl_est_spec {
   int stabilized;                /* ipw: multiply weights by P(T = t) */
   int se_kind;                   /* enum sl_se_kind */
   int interval;                  /* enum sl_interval */
+  const char *treated;           /* the treatment's level (as text) taken as treated
+                                    when it has two; NULL: the larger number, or the
+                                    level that reads as yes (see estimate_prep.c) */
   int cluster;                   /* 1 + the cluster column's index; 0: none.
                                     Clustered SEs and a bootstrap of clusters */
   double trunc_lo, trunc_hi;     /* ipw/aipw: truncate weights at these percentiles
@@ -114,6 +120,8 @@ typedef struct sl_est_result {
   double mu1, mu0;               /* mean potential outcomes (the contrast's two ends) */
   size_t n, dropped;             /* rows used; rows dropped for missing values */
   size_t nclusters;              /* with cluster: the clusters in the rows used */
+  char treated_level[64], control_level[64];   /* a two-level treatment coded
+                                    other than 0/1: its levels as text, else "" */
   size_t boot_done, boot_failed;
   double ess, ess1, ess0;        /* ipw/aipw: effective sample sizes */
   double ps_min, ps_max;         /* ipw/aipw: fitted propensity range */

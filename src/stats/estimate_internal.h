@@ -18,6 +18,8 @@ typedef struct sl_prep {
   const char **pnames;   /* propensity-model term names: (intercept), C */
   char *namebuf;
   int bin_t, bin_y;
+  size_t t_values;       /* distinct treatment values (counted up to SL_FEW_VALUES + 1) */
+  char t_level[2][64];   /* a recoded two-level treatment: control, treated as text */
   size_t k;              /* mediators (frontdoor) or instruments (iv) */
   double *A;             /* n x k, row-major */
   const char *anames[SL_ROUTE_MAX];

@@ -6,6 +6,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 #include "estimate_internal.h"
 
 void sl_est_prep_free(sl_prep *P) {
@@ -89,9 +90,6 @@ static int check_roles(const sl_est_spec *s, sl_error *e) {
   const sl_column *y = &f->col[s->outcome >= 0 ? s->outcome : s->treatment];
   if (s->treatment == s->outcome)
     return sl_error_set(e, SL_EARG, 0, 0, "'%s' is both the treatment and the outcome", t->name);
-  if (t->type != SL_NUMERIC)
-    return sl_error_set(e, SL_EARG, 0, 0, "the treatment '%s' has text values: code it as 0/1 "
-                        "(f:binarize) or as a number", t->name);
   if (y->type != SL_NUMERIC)
     return sl_error_set(e, SL_EARG, 0, 0, "the outcome '%s' has text values: code it as a number",
                         y->name);
@@ -167,6 +165,76 @@ static int fill_aux(const sl_est_spec *s, sl_prep *P, sl_error *e) {
     sl_est_prep_free(P);
     return sl_error_set(e, SL_ELIMIT, 0, 0, "%zu binary mediators: at most %d (the estimate sums "
                         "over their 2^k combinations)", nbin, SL_ROUTE_BINARY_MAX);
+  }
+  return SL_OK;
+}
+
+/* Whether a level's text names the treated arm of a two-level treatment. */
+static int reads_treated(const char *v) {
+  static const char *const yes[] = {"yes", "y", "true", "t", "treated", "exposed", "on", NULL};
+  for (int i = 0; yes[i]; i++) if (strcasecmp(v, yes[i]) == 0) return 1;
+  return 0;
+}
+
+/* A treatment value as text: a level, or a number. */
+static void value_text(const sl_column *c, double v, char *out, size_t size) {
+  if (c->type == SL_NUMERIC) snprintf(out, size, "%.15g", v);
+  else snprintf(out, size, "%s", c->levels[(size_t)v]);
+}
+
+/* P->t from the treatment column: numbers as they are, or a two-level
+** treatment (numbers other than 0/1, text levels, or treated = given)
+** coded 1 for the treated level and 0 for the other, whose texts go to
+** P->t_level.  Counts the distinct values up to SL_FEW_VALUES + 1. */
+static int code_treatment(const sl_est_spec *s, sl_prep *P, sl_error *e) {
+  const sl_column *c = &s->data->col[s->treatment];
+  int num = c->type == SL_NUMERIC;
+  double seen[SL_FEW_VALUES + 1];
+  size_t ns = 0;
+  for (size_t m = 0; m < P->n && ns <= SL_FEW_VALUES; m++) {
+    double v = num ? c->x[P->rows[m]] : (double)c->code[P->rows[m]];
+    size_t j = 0;
+    while (j < ns && seen[j] != v) j++;
+    if (j == ns) seen[ns++] = v;
+  }
+  P->t_values = ns;
+  int plain = num && ns == 2 && ((seen[0] == 0 && seen[1] == 1) || (seen[0] == 1 && seen[1] == 0));
+  if (ns != 2 || (plain && !s->treated)) {
+    if (!num)
+      return sl_error_set(e, SL_EARG, 0, 0, "the treatment '%s' has %s%zu levels: a text treatment "
+                          "needs two (f:binarize groups levels)", c->name,
+                          ns > SL_FEW_VALUES ? "more than " : "", ns > SL_FEW_VALUES ? SL_FEW_VALUES : ns);
+    if (s->treated && ns > 2)
+      return sl_error_set(e, SL_EARG, 0, 0, "treated = applies to a two-level treatment, and '%s' "
+                          "takes %s%zu values: use f:binarize", c->name,
+                          ns > SL_FEW_VALUES ? "more than " : "", ns > SL_FEW_VALUES ? SL_FEW_VALUES : ns);
+    for (size_t m = 0; m < P->n; m++) P->t[m] = c->x[P->rows[m]];
+    return SL_OK;
+  }
+  char txt[2][64];
+  if (seen[0] > seen[1]) { double v = seen[0]; seen[0] = seen[1]; seen[1] = v; }
+  for (int i = 0; i < 2; i++) value_text(c, seen[i], txt[i], sizeof txt[i]);
+  int treated = 1;   /* default: the larger number, or the level that reads as treated */
+  if (s->treated) {
+    int hit = -1;
+    for (int i = 0; i < 2; i++) {
+      char *end;
+      double v = num ? strtod(s->treated, &end) : 0;
+      if (num ? (end != s->treated && *end == 0 && v == seen[i]) : strcmp(s->treated, txt[i]) == 0)
+        hit = i;
+    }
+    if (hit < 0)
+      return sl_error_set(e, SL_EARG, 0, 0, "treated = '%s' is not a value of '%s', whose values "
+                          "are '%s' and '%s'", s->treated, c->name, txt[0], txt[1]);
+    treated = hit;
+  } else if (!num && reads_treated(txt[0]) && !reads_treated(txt[1])) treated = 0;
+  for (size_t m = 0; m < P->n; m++) {
+    double v = num ? c->x[P->rows[m]] : (double)c->code[P->rows[m]];
+    P->t[m] = v == seen[treated];
+  }
+  if (!plain || treated == 0) {
+    memcpy(P->t_level[0], txt[1 - treated], sizeof txt[0]);
+    memcpy(P->t_level[1], txt[treated], sizeof txt[0]);
   }
   return SL_OK;
 }
@@ -301,10 +369,9 @@ int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *
     P->onames[2 + q + m] = nb;
     nb += sprintf(nb, "%s:%s", tname, P->cnames[m]) + 1;
   }
-  for (size_t m = 0; m < n; m++) {
-    P->t[m] = f->col[s->treatment].x[P->rows[m]];
-    P->y[m] = f->col[s->outcome >= 0 ? s->outcome : s->treatment].x[P->rows[m]];
-  }
+  if ((rc = code_treatment(s, P, e))) return rc;
+  for (size_t m = 0; m < n; m++)
+    P->y[m] = s->outcome >= 0 ? f->col[s->outcome].x[P->rows[m]] : P->t[m];
   P->bin_t = is_binary(P->t, n);
   P->bin_y = is_binary(P->y, n);
   if ((rc = fill_aux(s, P, e))) return rc;
@@ -373,6 +440,15 @@ int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
     sl_est_warn(res->warnings, m);
   }
   res->nclusters = P.nclusters;
+  memcpy(res->control_level, P.t_level[0], sizeof res->control_level);
+  memcpy(res->treated_level, P.t_level[1], sizeof res->treated_level);
+  if (!P.bin_t && P.t_values <= SL_FEW_VALUES && s->method != SL_IV) {
+    char m[240];
+    snprintf(m, sizeof m, "the treatment '%s' takes only %zu distinct values and is estimated as "
+             "continuous (the effect of +%g): if its values are categories, compare two of them "
+             "with f:binarize", s->data->col[s->treatment].name, P.t_values, s->contrast);
+    sl_est_warn(res->warnings, m);
+  }
   if (s->method != SL_STANDARDIZE && pt.ps_extreme) {
     char m[160];
     snprintf(m, sizeof m, "%zu fitted propensities fall outside [0.01, 0.99]: check overlap{}",

@@ -269,6 +269,53 @@ sl_frame *sl_frame_binarize(const sl_frame *f, int col, double cut, const char *
   return out;
 }
 
+sl_frame *sl_frame_binarize_levels(const sl_frame *f, int col, const char *const *levels,
+                                   size_t nlev, const char *name, sl_error *e) {
+  if (col < 0 || (size_t)col >= f->ncol) {
+    sl_error_set(e, SL_EARG, 0, 0, "no column number %d", col + 1);
+    return NULL;
+  }
+  const sl_column *c = &f->col[col];
+  if (c->type != SL_CATEGORICAL) {
+    sl_error_set(e, SL_EARG, 0, 0, "column '%s' holds numbers: give a cut, not levels", c->name);
+    return NULL;
+  }
+  if (nlev == 0) {
+    sl_error_set(e, SL_EARG, 0, 0, "give one or more levels of '%s' to count as 1", c->name);
+    return NULL;
+  }
+  if (sl_frame_find(f, name) >= 0) {
+    sl_error_set(e, SL_EARG, 0, 0, "column '%s' already exists", name);
+    return NULL;
+  }
+  unsigned char *one = calloc(c->nlevels ? c->nlevels : 1, 1);
+  if (!one) { sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); return NULL; }
+  for (size_t i = 0; i < nlev; i++) {
+    size_t l = 0;
+    while (l < c->nlevels && strcmp(c->levels[l], levels[i]) != 0) l++;
+    if (l == c->nlevels) {
+      const char *near = sl_closest(levels[i], (const char *const *)c->levels, c->nlevels);
+      sl_error_set(e, SL_EARG, 0, 0, "'%s' is not a level of '%s'%s%s%s", levels[i], c->name,
+                   near ? "; did you mean '" : "", near ? near : "", near ? "'?" : "");
+      free(one);
+      return NULL;
+    }
+    one[l] = 1;
+  }
+  sl_frame *out = take_rows(f, NULL, f->nrow, e);
+  double *x = out ? alloc0(f->nrow * sizeof *x) : NULL;
+  char *nm = out ? strdup(name) : NULL;
+  if (!out || !x || !nm) {
+    free(one); free(x); free(nm); sl_frame_free(out);
+    if (out) sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+    return NULL;
+  }
+  for (size_t i = 0; i < f->nrow; i++) x[i] = c->code[i] < 0 ? NAN : one[c->code[i]];
+  free(one);
+  if (sl_frame_adopt_numeric(out, nm, x, e) != SL_OK) { sl_frame_free(out); return NULL; }
+  return out;
+}
+
 /* A name and its position, to sort names while keeping where they were. */
 typedef struct name_ref { const char *name; size_t at; } name_ref;
 

@@ -54,6 +54,10 @@ sl_frame *sl_frame_head(const sl_frame *f, size_t n, sl_error *e);
 ** above cut, 0 where it is not, missing where it is missing. */
 sl_frame *sl_frame_binarize(const sl_frame *f, int col, double cut, const char *name,
                             sl_error *e);
+/* A new frame with a 0/1 column name: 1 where the categorical column col
+** holds one of the nlev levels, 0 at the others, missing where missing. */
+sl_frame *sl_frame_binarize_levels(const sl_frame *f, int col, const char *const *levels,
+                                   size_t nlev, const char *name, sl_error *e);
 
 /* Per-column summary over the non-missing values.  A categorical column
 ** gets n and missing; its other fields are NaN.  sd divides by n - 1 (NaN

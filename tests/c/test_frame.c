@@ -830,6 +830,18 @@ static void test_ops(void **state) {
   assert_non_null(strstr(e.msg, "categorical"));
   assert_null(sl_frame_binarize(f, 2, 1, "yield", &e));
   assert_string_equal(e.msg, "column 'yield' already exists");
+  /* variety gala fuji gala braeburn fuji gala braeburn fuji; {gala, fuji}: 1 1 1 0 1 1 0 1 */
+  const char *lv[] = {"gala", "fuji"};
+  b = sl_frame_binarize_levels(f, sl_frame_find(f, "variety"), lv, 2, "sweet", &e);
+  assert_non_null(b);
+  double want2[] = {1, 1, 1, 0, 1, 1, 0, 1};
+  for (int i = 0; i < 8; i++) assert_true(col(b, "sweet")->x[i] == want2[i]);
+  sl_frame_free(b);
+  const char *typo[] = {"fugi"};
+  assert_null(sl_frame_binarize_levels(f, sl_frame_find(f, "variety"), typo, 1, "v", &e));
+  assert_string_equal(e.msg, "'fugi' is not a level of 'variety'; did you mean 'fuji'?");
+  assert_null(sl_frame_binarize_levels(f, sl_frame_find(f, "rain"), lv, 1, "v", &e));
+  assert_non_null(strstr(e.msg, "holds numbers"));
   double z[8] = {0};
   assert_int_equal(sl_frame_add_numeric(f, "rain", z, &e), SL_EARG);
   const char *bad[] = {"b", "a"};
