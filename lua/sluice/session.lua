@@ -162,10 +162,11 @@ local function finish(msg, nres)
   log_append(entry_text(e))
 end
 
--- An input that did not compile: kept as a comment.
+-- An input that did not compile (or, from a log run again, was
+-- interrupted): kept as a comment.
 local function skipped(n, typed, msg)
-  local e = {n = n, typed = typed, skip = "does not compile", data = {}, pictures = {},
-             out = {}}
+  local e = {n = n, typed = typed, data = {}, pictures = {}, out = {},
+             skip = msg == "interrupted" and "interrupted" or "does not compile"}
   for i, l in ipairs(lines_of(msg or "")) do e.out[#e.out + 1] = i == 1 and "error: " .. l or l end
   S.entries[#S.entries + 1] = e
   log_append(entry_text(e))

@@ -82,7 +82,10 @@ EOF
 "$exe" goto.lua > out.txt 2>&1 || fail "goto.lua runs (exit $?)"
 [ "$(cat out.txt)" = "$(printf '3\nclosed\nbefore the end\nclosed last')" ] ||
   fail "a goto back to an earlier statement, and a <close> local closed at the script's end"
-ok "a script keeps its top-level locals (file, standard input, goto, <close>)"
+printf 'local secret = 41\n' > pre.lua
+printf 'secret + 1\n' | "$exe" -i -q pre.lua > out.txt 2>&1
+grep -q "> 42\$" out.txt || fail "the prompt after a script (-i) sees the script's locals"
+ok "a script keeps its top-level locals (file, standard input, goto, <close>, then the prompt)"
 
 # ---- --log with a script ----
 printf 'row,yield\n1,4.5\n2,5.5\n' > orchard.csv
@@ -226,7 +229,10 @@ ok "sluice LOG: an error the log recorded is shown as at the prompt and the run 
 [ "$(grep -c -- '^--@ in ' again.log)" = 6 ] || fail "--log records each entry of a log run as a script"
 grep -qx -- "--| error: attempt to call a nil value (global 'prnt'); did you mean 'print'?" again.log ||
   fail "the new log records the expected error again"
-ok "a log run as a script with --log is recorded entry by entry"
+printf '%s\n--@ in 1 skipped (1 line): interrupted\n--> while true do end\n--| error: interrupted\n--@ in 2 (1 line)\nprint(2)\n--| 2\n' "$head3" > stopped.log
+"$exe" --log stopped2.log stopped.log > out.txt 2>&1 || fail "a log with an interrupted input runs (exit $?)"
+grep -qx -- "--@ in 1 skipped (1 line): interrupted" stopped2.log || fail "an interrupted input is recorded as interrupted again"
+ok "a log run as a script with --log is recorded entry by entry, skipped inputs as they were"
 
 # the same log with an error it did not record: status 1, LOG:LINE
 sed 's/^print(stock \* 7)$/print(stokc * 7)/' typo.log > unrecorded.log
