@@ -263,7 +263,7 @@ end
 local allowed = {data = true, graph = true, treatment = true, outcome = true, truth = true,
                  sets = true, method = true, boot = true, seed = true, level = true,
                  plot = true, estimand = true, threads = true, routes = true, hidden = true,
-                 draws = true}
+                 draws = true, weights = true}
 
 -- The draws of the Monte Carlo truth of a model with binary or binarized
 -- nodes, unless draws = says otherwise: an SE near 0.001 for effects of order 1.
@@ -405,7 +405,7 @@ function C.compare(a)
   end
   local rows = candidates(g, x, y, extra)
   local boot = a.boot
-  if boot == nil then boot = method == "standardize" and 200 or 0 end
+  if boot == nil then boot = 0 end   -- every method has an analytic SE (estimate{})
   local has_limit = m and m:exact()
   for _, r in ipairs(rows) do
     r.set_text = set_text(r.set)
@@ -415,7 +415,8 @@ function C.compare(a)
     if not ok then r.reason = tostring(why[1]) end
     local ok, est = pcall(E.estimate, {data = a.data, treatment = x, outcome = y, set = r.set,
                                        method = method, boot = boot, seed = a.seed, level = a.level,
-                                       estimand = a.estimand, threads = a.threads})
+                                       estimand = a.estimand, threads = a.threads,
+                                       weights = a.weights})
     if not ok then
       local msg = tostring(est):gsub("^[^:\n]*:%d+: ", "", 1):gsub("^estimate: ", "", 1)
       fail("with the set " .. r.set_text .. ": " .. msg)

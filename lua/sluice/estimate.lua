@@ -166,14 +166,14 @@ local known = {
               method = true, estimand = true, scale = true, interactions = true,
               contrast = true, stabilized = true, truncate = true, boot = true,
               level = true, seed = true, threads = true, via = true, instrument = true,
-              se = true, interval = true, cluster = true, treated = true},
+              se = true, interval = true, cluster = true, treated = true, weights = true},
 }
 known.balance = {}
 for k in pairs(known.estimate) do known.balance[k] = true end
 known.balance.via, known.balance.instrument = nil, nil
 known.balance.se, known.balance.interval, known.balance.cluster = nil, nil, nil
 known.overlap = {data = true, treatment = true, outcome = true, set = true, graph = true,
-                 plot = true, bins = true}
+                 plot = true, bins = true, weights = true, treated = true}
 
 -- The argument table, with unknown keys refused (they are typos).
 local function args(fname, a, keys)
@@ -471,6 +471,11 @@ function estimate_mt.__tostring(r)
   local set = {}
   for i, v in ipairs(r.set) do set[i] = P.name(v) end
   add("set", "{" .. table.concat(set, ", ") .. "}   (" .. r.set_reason .. ")")
+  if r.ess_weights then
+    add("weights", string.format("%s, sampling weights (Kish's effective sample size %.1f of %d rows)",
+                                 P.name(r.weights), r.ess_weights, r.n))
+  end
+  if r.clusters then add("clusters", string.format("%d (%s)", r.clusters, P.name(r.cluster))) end
   if r.treated_level then
     add("treated", string.format("%s = %s (control %s = %s; choose with treated =)", r.treatment,
                                  P.name(r.treated_level), r.treatment, P.name(r.control_level)))
@@ -687,6 +692,7 @@ local function spec(fname, a)
   for _, name in ipairs(set) do check_column(fname, "set", a.data, name) end
   local boot, seed, threads = E.check_common(fname, a)
   if a.cluster ~= nil then check_column(fname, "cluster", a.data, a.cluster) end
+  if a.weights ~= nil then check_column(fname, "weights", a.data, a.weights) end
   for _, k in ipairs({"interactions", "stabilized"}) do
     if a[k] ~= nil and type(a[k]) ~= "boolean" then
       fail(fname, k .. " = " .. show(a[k]) .. " must be true or false")
@@ -707,7 +713,7 @@ local function spec(fname, a)
     boot = boot, level = a.level, seed = seed, threads = threads,
     se = choice(fname, "se", a.se, {"sandwich", "ps known"}, "sandwich"),
     interval = choice(fname, "interval", a.interval, {"percentile", "bca", "normal"}, nil),
-    cluster = a.cluster,
+    cluster = a.cluster, weights = a.weights,
     treated = a.treated ~= nil and treated_text(fname, a.treated) or nil,
   }
   if a.truncate ~= nil then
@@ -921,6 +927,11 @@ function E.estimate(a)
     choice("estimate", "method", a.method, {"standardize", "ipw", "aipw", "frontdoor", "iv"})
   end
   if type(a) == "table" and (a.method == "frontdoor" or a.method == "iv") then
+    for _, k in ipairs({"weights", "cluster", "se", "interval", "treated"}) do
+      if a[k] ~= nil then
+        fail("estimate", k .. ' = applies to method = "standardize", "ipw" and "aipw"')
+      end
+    end
     return route_estimate(a)
   end
   if type(a) == "table" and a.via ~= nil then
@@ -934,7 +945,7 @@ function E.estimate(a)
   local r = call("estimate", S._estimate, a.data, a.treatment, outcome, set, opts)
   r.method, r.estimand, r.scale = opts.method, opts.estimand, opts.scale
   r.treatment, r.outcome, r.level = a.treatment, outcome, a.level or 0.95
-  r.contrast = a.contrast
+  r.contrast, r.weights, r.cluster = a.contrast, a.weights, a.cluster
   r.set, r.set_reason = set, why
   local w = {}
   for line in (r.warnings or ""):gmatch("[^\n]+") do w[#w + 1] = line end
@@ -990,8 +1001,10 @@ function E.balance(a)
   opts.method = "ipw"
   local ps, w, t, rows = call("balance", S._weights, a.data, a.treatment, a.outcome, set, opts)
   local out = {weights = "inverse probability", estimand = opts.estimand}
-  local ones = {}
-  for i = 1, #w do ones[i] = 1 end
+  local ones = {}   -- before weighting: the rows' own weights, or 1
+  local sw = a.weights and a.data[a.weights]
+  for i = 1, #w do ones[i] = sw and sw[rows[i]] or 1 end
+  if sw then out.weights = "inverse probability times " .. P.name(a.weights) end
   for _, name in ipairs(set) do
     local c = a.data[name]
     local function add(label, x)

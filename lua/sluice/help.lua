@@ -350,7 +350,7 @@ predicts the response perfectly) is a warning that names the column.
 :predict(f) gives probabilities.]],
     example = [[m = logit{data = pupils, y = "passed", x = {"tutoring", "attendance"}}]] },
   { name = "estimate", topic = "estimate",
-    sig = "estimate{data=, treatment=, outcome=, set= | graph=, method=, se=, cluster=, boot=, interval=}",
+    sig = "estimate{data=, treatment=, outcome=, set= | graph=, method=, se=, weights=, cluster=, boot=, interval=}",
     brief = "The average effect of a treatment",
     returns = "{estimate=, se=, lo=, hi=, n=, method=, set=, warnings=, ...}",
     summary = [[The average causal effect of treatment on outcome, adjusted for set (or for
@@ -377,6 +377,13 @@ only), for AIPW from the two means' influence functions. A ratio's or odds
 ratio's SE is of its logarithm and its interval exp(log estimate +- z SE).
 cluster = "column": sums within clusters first (Liang and Zeger 1986), a
 warning below 30 clusters, and a bootstrap that draws whole clusters.
+weights = "column": sampling weights (each row stands for w units of the
+population sampled): every working model and mean is weighted, the SE is
+the sandwich of the weighted equations, the bootstrap keeps each drawn
+row's weight, and Kish's effective sample size is printed. A weight must
+be a finite number at least 0 in every complete row, not all 0. A whole-
+number weight gives the point estimate of its row repeated; for frequency
+weights the sandwich SE is then conservative.
 boot = B adds a bootstrap (seed = a whole number; identical for a seed
 whatever the number of threads): its SE, the percentile interval and, with
 B >= 1000, BCa (Efron 1987; acceleration from the influence values).
@@ -432,7 +439,9 @@ otherwise the treatment's parents (an error when one is hidden or shares a
 hidden common cause with it). |SMD| > 0.1 is
 flagged (common practice; Austin 2009). A covariate that is the treatment,
 or that takes one value among the treated and another among the controls,
-is an error: its SMD is not defined.]],
+is an error: its SMD is not defined. weights = "column" (sampling weights,
+as in estimate{}): "before" is weighted by them, "after" by them times the
+inverse probability weights; treated = as in estimate{}.]],
     example = [[balance{data = plots, treatment = "mulch", set = {"slope", "tree age"}}]] },
   { name = "overlap", topic = "estimate",
     sig = "overlap{data=, treatment=, set= | graph=, [outcome=], plot=}",
@@ -442,7 +451,8 @@ is an error: its SMD is not defined.]],
 with plot = "file.svg" (or .png, .pdf) a picture. Propensities outside
 [0.01, 0.99] are counted and warned about (common practice). graph = chooses
 the covariates as in balance{}: the adjustment set for outcome = when
-given, otherwise the treatment's parents.]],
+given, otherwise the treatment's parents. weights = "column" fits the
+propensity model with the rows' sampling weights (the counts are of rows).]],
     example = [[overlap{data = plots, treatment = "mulch", set = {"slope"}, plot = "overlap.svg"}]] },
   { name = "evalue", topic = "estimate",
     sig = "evalue(r, {sd=, data=, rare=}) or evalue{rr= | or_= | hr= | d= | diff=, sd=, lo=, hi=, rare=}",
@@ -563,8 +573,8 @@ sem(g, coefs, {binarize = {node = cut}}), which draws the same data.]],
     summary = [[The estimate under each candidate adjustment set: no adjustment, all observed
 covariates, every minimal set, the optimal set, and the sets you add. For
 each: whether the graph deems it valid (with the reason when not), the
-estimate and its interval (method as in estimate{}; boot defaults to 200
-for standardize), the error in percent of the truth (a finite number, or a
+estimate and its interval (method as in estimate{}, its analytic SE unless
+boot = is given; weights = as in estimate{}), the error in percent of the truth (a finite number, or a
 model from sem(); printed to one decimal, exact in the row's error_pct), and for a linear model m:limit. The
 heading says how the truth was had: a model with binary or binarized nodes
 gives it by Monte Carlo (draws = 200000 unless given, seeded by seed =)

@@ -249,6 +249,9 @@ static void read_spec(lua_State *L, sl_est_spec *s) {
   const char *se = opt_string(L, 5, "se", "sandwich");
   s->se_kind = strcmp(se, "ps known") == 0 ? SL_SE_PS_KNOWN : SL_SE_SANDWICH;
   s->treated = opt_string(L, 5, "treated", NULL);
+  lua_getfield(L, 5, "weights");
+  s->weights = lua_isnil(L, -1) ? 0 : 1 + column(L, f, 5, luaL_checkstring(L, -1));
+  lua_pop(L, 1);
   lua_getfield(L, 5, "cluster");
   s->cluster = lua_isnil(L, -1) ? 0 : 1 + column(L, f, 5, luaL_checkstring(L, -1));
   lua_pop(L, 1);
@@ -300,6 +303,7 @@ static void push_result(lua_State *L, const sl_est_spec *sp, const sl_est_result
   lua_pushinteger(L, (lua_Integer)r.n); lua_setfield(L, -2, "n");
   lua_pushinteger(L, (lua_Integer)r.dropped); lua_setfield(L, -2, "dropped");
   if (s.cluster) { lua_pushinteger(L, (lua_Integer)r.nclusters); lua_setfield(L, -2, "clusters"); }
+  if (s.weights) SETNUM("ess_weights", r.ess_weights);
   if (r.treated_level[0]) {
     lua_pushstring(L, r.treated_level); lua_setfield(L, -2, "treated_level");
     lua_pushstring(L, r.control_level); lua_setfield(L, -2, "control_level");

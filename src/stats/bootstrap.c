@@ -60,6 +60,8 @@ static double replicate(const job *J, const size_t *ix, size_t n, double *count,
   if (J->lin) {
     memset(count, 0, J->P->n * sizeof *count);
     for (size_t k = 0; k < n; k++) count[ix[k]] += 1;
+    if (J->P->w)   /* a drawn row keeps its weight */
+      for (size_t k = 0; k < J->P->n; k++) count[k] *= J->P->w[k];
     double est;
     if (sl_boot_linear_point(J->s, J->lin, count, work, &est) == 0) return est;
   }

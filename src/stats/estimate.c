@@ -29,6 +29,35 @@ void sl_est_outcome_row(const sl_prep *P, size_t i, double tv, int inter, double
     for (size_t j = 0; j < P->q; j++) row[2 + P->q + j] = tv * c[j];
 }
 
+/* Row i's weight: its weights = value, or 1. */
+static double wt(const sl_prep *P, size_t i) { return P->w ? P->w[i] : 1; }
+
+/* Fit y on X (n x p), by weighted least squares or weighted logistic
+** regression when the rows have weights (w: n entries, or NULL).  Least
+** squares scales the rows by sqrt(w) in place. */
+static int fit_model(double *X, double *y, const double *w, size_t n, size_t p, int logistic,
+                     const char *const *names, sl_fit *fit, char *warn, size_t wsize, sl_error *e) {
+  if (logistic) return sl_logit(X, y, w, n, p, names, 0, 0, fit, warn, wsize, e);
+  if (w)
+    for (size_t k = 0; k < n; k++) {
+      double r = sqrt(w[k]);
+      for (size_t j = 0; j < p; j++) X[k * p + j] *= r;
+      y[k] *= r;
+    }
+  return sl_ols(X, y, n, p, names, fit, e);
+}
+
+/* The weights of the sample rows ix, or NULL without weights (freed by the
+** caller). *bad is set when memory runs out. */
+static double *sample_weights(const sl_prep *P, const size_t *ix, size_t n, int *bad) {
+  *bad = 0;
+  if (!P->w) return NULL;
+  double *w = malloc(n * sizeof *w);
+  if (!w) { *bad = 1; return NULL; }
+  for (size_t k = 0; k < n; k++) w[k] = P->w[ix[k]];
+  return w;
+}
+
 /* Fit the outcome model on the sample ix; predictions under t = a and
 ** t = b for every sample row go to m_a and m_b. */
 static int outcome_fit(const sl_prep *P, const size_t *ix, size_t n, int inter,
@@ -37,8 +66,9 @@ static int outcome_fit(const sl_prep *P, const size_t *ix, size_t n, int inter,
   size_t p = 2 + P->q * (inter ? 2 : 1);
   double *X = malloc(n * p * sizeof *X), *y = malloc(n * sizeof *y);
   double *row = malloc(p * sizeof *row);
-  int rc = SL_OK;
-  if (!X || !y || !row) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  int bad, rc = SL_OK;
+  double *sw = sample_weights(P, ix, n, &bad);
+  if (!X || !y || !row || bad) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
   for (size_t k = 0; k < n; k++) {
     sl_est_outcome_row(P, ix[k], P->t[ix[k]], inter, X + k * p);
     y[k] = P->y[ix[k]];
@@ -46,8 +76,7 @@ static int outcome_fit(const sl_prep *P, const size_t *ix, size_t n, int inter,
   sl_fit fit;
   memset(&fit, 0, sizeof fit);
   char w[256] = "";
-  rc = P->bin_y ? sl_logit(X, y, NULL, n, p, P->onames, 0, 0, &fit, w, sizeof w, e)
-                : sl_ols(X, y, n, p, P->onames, &fit, e);
+  rc = fit_model(X, y, sw, n, p, P->bin_y, P->onames, &fit, w, sizeof w, e);
   if (rc) goto done;
   if (w[0]) { char m[300]; snprintf(m, sizeof m, "outcome model: %s", w); sl_est_warn(warn, m); }
   for (size_t k = 0; k < n; k++) {
@@ -59,7 +88,7 @@ static int outcome_fit(const sl_prep *P, const size_t *ix, size_t n, int inter,
   if (beta) memcpy(beta, fit.coef, p * sizeof *beta);
   sl_fit_free(&fit);
 done:
-  free(X); free(y); free(row);
+  free(X); free(y); free(row); free(sw);
   return rc;
 }
 
@@ -68,8 +97,9 @@ int sl_est_propensity(const sl_prep *P, const size_t *ix, size_t n, double *ps,
                       char *warn, sl_error *e) {
   size_t p = 1 + P->q;
   double *X = malloc(n * p * sizeof *X), *t = malloc(n * sizeof *t);
-  int rc = SL_OK;
-  if (!X || !t) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  int bad, rc = SL_OK;
+  double *sw = sample_weights(P, ix, n, &bad);
+  if (!X || !t || bad) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
   for (size_t k = 0; k < n; k++) {
     X[k * p] = 1;
     memcpy(X + k * p + 1, P->C + ix[k] * P->q, P->q * sizeof *X);
@@ -78,13 +108,13 @@ int sl_est_propensity(const sl_prep *P, const size_t *ix, size_t n, double *ps,
   sl_fit fit;
   memset(&fit, 0, sizeof fit);
   char w[256] = "";
-  rc = sl_logit(X, t, NULL, n, p, P->pnames, 0, 0, &fit, w, sizeof w, e);
+  rc = sl_logit(X, t, sw, n, p, P->pnames, 0, 0, &fit, w, sizeof w, e);
   if (rc) goto done;
   if (w[0]) { char m[300]; snprintf(m, sizeof m, "propensity model: %s", w); sl_est_warn(warn, m); }
   sl_predict(&fit, X, n, 1, ps);
   sl_fit_free(&fit);
 done:
-  free(X); free(t);
+  free(X); free(t); free(sw);
   return rc;
 }
 
@@ -111,33 +141,35 @@ static int linear_means(const sl_est_spec *s, const sl_prep *P, const size_t *ix
   size_t p = 2 + P->q * (inter ? 2 : 1);
   double *X = malloc(n * p * sizeof *X), *y = malloc(n * sizeof *y);
   double *ra = calloc(p, sizeof *ra), *rb = calloc(p, sizeof *rb), *row = malloc(p * sizeof *row);
-  int rc = SL_OK;
-  if (!X || !y || !ra || !rb || !row) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
-  size_t m = 0;
+  int bad, rc = SL_OK;
+  double *sw = sample_weights(P, ix, n, &bad);
+  if (!X || !y || !ra || !rb || !row || bad) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  double m = 0;
   for (size_t k = 0; k < n; k++) {
     size_t i = ix[k];
+    double wi = wt(P, i);
     sl_est_outcome_row(P, i, P->t[i], inter, X + k * p);
     y[k] = P->y[i];
     if (P->bin_t && !sl_est_in_target(s, P->t[i])) continue;
-    m++;
+    m += wi;
     sl_est_outcome_row(P, i, ta ? ta[i] : 1, inter, row);
-    for (size_t j = 0; j < p; j++) ra[j] += row[j];
+    for (size_t j = 0; j < p; j++) ra[j] += wi * row[j];
     sl_est_outcome_row(P, i, tb ? tb[i] : 0, inter, row);
-    for (size_t j = 0; j < p; j++) rb[j] += row[j];
+    for (size_t j = 0; j < p; j++) rb[j] += wi * row[j];
   }
-  if (m == 0) { rc = sl_error_set(e, SL_EARG, 0, 0, "no rows in the target population"); goto done; }
+  if (!(m > 0)) { rc = sl_error_set(e, SL_EARG, 0, 0, "no rows in the target population"); goto done; }
   sl_fit fit;
   memset(&fit, 0, sizeof fit);
-  if ((rc = sl_ols(X, y, n, p, P->onames, &fit, e))) goto done;
+  if ((rc = fit_model(X, y, sw, n, p, 0, P->onames, &fit, NULL, 0, e))) goto done;
   double a = 0, b = 0;
   for (size_t j = 0; j < p; j++) { a += fit.coef[j] * ra[j]; b += fit.coef[j] * rb[j]; }
-  *mu_a = a / (double)m;
-  *mu_b = b / (double)m;
+  *mu_a = a / m;
+  *mu_b = b / m;
   if (beta) memcpy(beta, fit.coef, p * sizeof *beta);
   sl_fit_free(&fit);
   (void)warn;
 done:
-  free(X); free(y); free(ra); free(rb); free(row);
+  free(X); free(y); free(ra); free(rb); free(row); free(sw);
   return rc;
 }
 
@@ -163,23 +195,24 @@ static int standardize_se(const sl_est_spec *s, const sl_prep *P, int inter, con
     rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
     goto done;
   }
-  size_t m = 0;
+  double m = 0;   /* the target's weight */
   for (size_t k = 0; k < n; k++) {
+    double wk = wt(P, k);
     sl_est_outcome_row(P, k, P->t[k], inter, X + k * p);
     double f = fitted(beta, X + k * p, p, lg);
-    v[k] = lg ? f * (1 - f) : 1;
+    v[k] = wk * (lg ? f * (1 - f) : 1);
     r[k] = P->y[k] - f;
     phi1[k] = phi0[k] = 0;
     if (P->bin_t && !sl_est_in_target(s, P->t[k])) continue;
-    m++;
+    m += wk;
     for (int a = 0; a < 2; a++) {
       sl_est_outcome_row(P, k, a == 0 ? (ta ? ta[k] : 1) : (tb ? tb[k] : 0), inter, row);
       double g = fitted(beta, row, p, lg), gd = lg ? g * (1 - g) : 1;
-      for (size_t j = 0; j < p; j++) D[a * p + j] += gd * row[j];
+      for (size_t j = 0; j < p; j++) D[a * p + j] += wk * gd * row[j];
       (a == 0 ? phi1 : phi0)[k] = g - (a == 0 ? out->mu1 : out->mu0);
     }
   }
-  for (size_t j = 0; j < 2 * p; j++) D[j] /= (double)m;
+  for (size_t j = 0; j < 2 * p; j++) D[j] /= m;
   if ((rc = sl_infl_solve(X, v, n, p, D, 2, u, e))) {
     if (rc == SL_EARG) rc = SL_OK;   /* singular: no analytic SE, said by the caller */
     goto done;
@@ -187,8 +220,9 @@ static int standardize_se(const sl_est_spec *s, const sl_prep *P, int inter, con
   for (size_t k = 0; k < n; k++) {
     double c1 = 0, c0 = 0;
     for (size_t j = 0; j < p; j++) { c1 += X[k * p + j] * u[j]; c0 += X[k * p + j] * u[p + j]; }
-    phi1[k] = phi1[k] * (double)n / (double)m + c1 * r[k];
-    phi0[k] = phi0[k] * (double)n / (double)m + c0 * r[k];
+    double wk = wt(P, k);   /* a row's weight multiplies its equations */
+    phi1[k] = wk * (phi1[k] * (double)n / m + c1 * r[k]);
+    phi0[k] = wk * (phi0[k] * (double)n / m + c0 * r[k]);
   }
   rc = sl_infl_finish(P, s->scale, out->mu1, out->mu0, phi1, phi0, out, e);
 done:
@@ -217,13 +251,15 @@ static int standardize(const sl_est_spec *s, const sl_prep *P, const size_t *ix,
     ma = malloc(n * sizeof *ma); mb = malloc(n * sizeof *mb);
     if (!ma || !mb) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
     if ((rc = outcome_fit(P, ix, n, inter, ta, tb, ma, mb, beta, warn, e))) goto done;
-    double s1 = 0, s0 = 0;
-    size_t m = 0;
+    double s1 = 0, s0 = 0, m = 0;
     for (size_t k = 0; k < n; k++)
-      if (!P->bin_t || sl_est_in_target(s, P->t[ix[k]])) { s1 += ma[k]; s0 += mb[k]; m++; }
-    if (m == 0) { rc = sl_error_set(e, SL_EARG, 0, 0, "no rows in the target population"); goto done; }
-    out->mu1 = s1 / (double)m;
-    out->mu0 = s0 / (double)m;
+      if (!P->bin_t || sl_est_in_target(s, P->t[ix[k]])) {
+        double wk = wt(P, ix[k]);
+        s1 += wk * ma[k]; s0 += wk * mb[k]; m += wk;
+      }
+    if (!(m > 0)) { rc = sl_error_set(e, SL_EARG, 0, 0, "no rows in the target population"); goto done; }
+    out->mu1 = s1 / m;
+    out->mu0 = s0 / m;
   }
   if (rc) goto done;
   out->est = sl_est_contrast(s->scale, out->mu1, out->mu0);
@@ -331,7 +367,7 @@ static int ipw_se(const sl_est_spec *s, const sl_prep *P, const double *ps, cons
     (a ? phi1 : phi0)[k] = w[k] * res;
     (a ? phi0 : phi1)[k] = 0;
     for (size_t j = 0; j < p; j++) d[(1 - a) * p + j] += w[k] * kappa[k] * res * X[k * p + j];
-    v[k] = ps[k] * (1 - ps[k]);
+    v[k] = wt(P, k) * ps[k] * (1 - ps[k]);
   }
   for (size_t j = 0; j < 2 * p; j++) d[j] /= (double)n;
   int known = s->se_kind == SL_SE_PS_KNOWN;
@@ -342,7 +378,7 @@ static int ipw_se(const sl_est_spec *s, const sl_prep *P, const double *ps, cons
   for (size_t k = 0; k < n; k++) {
     double c1 = 0, c0 = 0;
     for (size_t j = 0; !known && j < p; j++) { c1 += X[k * p + j] * u[j]; c0 += X[k * p + j] * u[p + j]; }
-    double r = P->t[k] - ps[k];
+    double r = wt(P, k) * (P->t[k] - ps[k]);   /* the propensity model's weighted score */
     phi1[k] = (phi1[k] + c1 * r) * (double)n / sw[1];
     phi0[k] = (phi0[k] + c0 * r) * (double)n / sw[0];
   }
@@ -360,6 +396,7 @@ static int ipw(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t 
   if (!ps || !w || !kappa) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
   if ((rc = sl_est_propensity(P, ix, n, ps, warn, e))) goto done;
   if ((rc = sl_est_ipw_weights(s, P, ix, n, ps, w, kappa, e))) goto done;
+  for (size_t k = 0; k < n; k++) w[k] *= wt(P, ix[k]);   /* times the rows' own weights */
   double a1 = 0, b1 = 0, a0 = 0, b0 = 0;
   for (size_t k = 0; k < n; k++) {
     double t = P->t[ix[k]], y = P->y[ix[k]];
@@ -390,14 +427,11 @@ static int aipw(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t
   if ((rc = sl_est_propensity(P, ix, n, ps, warn, e))) goto done;
   /* arm-specific outcome models: the full treatment-by-covariate model */
   if ((rc = outcome_fit(P, ix, n, P->q > 0, NULL, NULL, m1, m0, NULL, warn, e))) goto done;
-  double pt = 0;
-  for (size_t k = 0; k < n; k++) pt += P->t[ix[k]];
-  pt /= (double)n;
   /* a and b: each row's term of the treated and the control mean; the
-  ** target's own arm is its observed mean */
-  double s1 = 0, s0 = 0;
+  ** target's own arm is its observed mean; in: the row is in the target */
+  double s1 = 0, s0 = 0, win = 0;
   for (size_t k = 0; k < n; k++) {
-    double t = P->t[ix[k]], y = P->y[ix[k]], p = ps[k];
+    double t = P->t[ix[k]], y = P->y[ix[k]], p = ps[k], wk = wt(P, ix[k]);
     if (s->estimand == SL_ATE) {
       a[k] = m1[k] + t * (y - m1[k]) / p;
       b[k] = m0[k] + (1 - t) * (y - m0[k]) / (1 - p);
@@ -408,24 +442,27 @@ static int aipw(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t
       a[k] = (1 - t) * m1[k] + t * (1 - p) / p * (y - m1[k]);
       b[k] = (1 - t) * y;
     }
-    s1 += a[k]; s0 += b[k];
+    s1 += wk * a[k]; s0 += wk * b[k];
+    win += wk * (s->estimand == SL_ATE ? 1 : s->estimand == SL_ATT ? t : 1 - t);
   }
-  double share = s->estimand == SL_ATE ? 1 : s->estimand == SL_ATT ? pt : 1 - pt;
-  out->mu1 = s1 / (share * (double)n);
-  out->mu0 = s0 / (share * (double)n);
+  out->mu1 = s1 / win;
+  out->mu0 = s0 / win;
   out->est = sl_est_contrast(s->scale, out->mu1, out->mu0);
   ps_stats(ps, n, out);
-  if (want_se) {   /* influence values: (term - in-target * mean) / share */
+  if (want_se) {   /* influence values: w (term - in-target * mean) n / (target's weight) */
     for (size_t k = 0; k < n; k++) {
-      double t = P->t[ix[k]];
+      double t = P->t[ix[k]], wk = wt(P, ix[k]);
       double in = s->estimand == SL_ATE ? 1 : s->estimand == SL_ATT ? t : 1 - t;
-      a[k] = (a[k] - in * out->mu1) / share;
-      b[k] = (b[k] - in * out->mu0) / share;
+      a[k] = wk * (a[k] - in * out->mu1) * (double)n / win;
+      b[k] = wk * (b[k] - in * out->mu0) * (double)n / win;
     }
     if ((rc = sl_infl_finish(P, s->scale, out->mu1, out->mu0, a, b, out, e))) goto done;
   }
   double *w = m0;  /* reuse for the IPW weights behind the ESS */
-  for (size_t k = 0; k < n; k++) { double t = P->t[ix[k]]; w[k] = t ? 1 / ps[k] : 1 / (1 - ps[k]); }
+  for (size_t k = 0; k < n; k++) {
+    double t = P->t[ix[k]];
+    w[k] = wt(P, ix[k]) * (t ? 1 / ps[k] : 1 / (1 - ps[k]));
+  }
   out->ess = ess(P, ix, n, w, -1); out->ess1 = ess(P, ix, n, w, 1); out->ess0 = ess(P, ix, n, w, 0);
 done:
   free(ps); free(m1); free(m0); free(a); free(b);

@@ -63,6 +63,10 @@ typedef struct sl_est_spec {
   int stabilized;                /* ipw: multiply weights by P(T = t) */
   int se_kind;                   /* enum sl_se_kind */
   int interval;                  /* enum sl_interval */
+  int weights;                   /* 1 + the weights column's index; 0: none.
+                                    Sampling weights: every model and mean is
+                                    weighted, the SEs take each row's influence
+                                    times its weight, the bootstrap carries them */
   const char *treated;           /* the treatment's level (as text) taken as treated
                                     when it has two; NULL: the larger number, or the
                                     level that reads as yes (see estimate_prep.c) */
@@ -120,6 +124,7 @@ typedef struct sl_est_result {
   double mu1, mu0;               /* mean potential outcomes (the contrast's two ends) */
   size_t n, dropped;             /* rows used; rows dropped for missing values */
   size_t nclusters;              /* with cluster: the clusters in the rows used */
+  double ess_weights;            /* with weights: Kish's effective sample size of them */
   char treated_level[64], control_level[64];   /* a two-level treatment coded
                                     other than 0/1: its levels as text, else "" */
   size_t boot_done, boot_failed;

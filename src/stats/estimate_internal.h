@@ -24,6 +24,7 @@ typedef struct sl_prep {
   double *A;             /* n x k, row-major */
   const char *anames[SL_ROUTE_MAX];
   int abin[SL_ROUTE_MAX];   /* column j takes only 0 and 1 */
+  double *w;             /* NULL, or each row's weight (weights =) */
   size_t *cluster;       /* NULL, or each row's cluster, 0 .. nclusters - 1 */
   size_t nclusters;
   size_t *cl_start, *cl_rows;   /* the rows of cluster c: cl_rows[cl_start[c] ..

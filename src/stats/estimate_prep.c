@@ -12,7 +12,7 @@
 void sl_est_prep_free(sl_prep *P) {
   free(P->rows); free(P->t); free(P->y); free(P->C); free(P->A);
   free(P->cnames); free(P->onames); free(P->pnames); free(P->namebuf);
-  free(P->cluster); free(P->cl_start); free(P->cl_rows);
+  free(P->w); free(P->cluster); free(P->cl_start); free(P->cl_rows);
   memset(P, 0, sizeof *P);
 }
 
@@ -113,6 +113,8 @@ static int check_roles(const sl_est_spec *s, sl_error *e) {
                         s->contrast);
   if ((s->method == SL_IPW || s->method == SL_AIPW) && s->contrast != 1)
     return sl_error_set(e, SL_EARG, 0, 0, "a contrast applies to a continuous treatment with standardize");
+  if (s->weights && (s->method == SL_FRONTDOOR || s->method == SL_IV))
+    return sl_error_set(e, SL_EARG, 0, 0, "weights = applies to standardize, ipw and aipw");
   if (s->se_kind == SL_SE_PS_KNOWN && s->method != SL_IPW)
     return sl_error_set(e, SL_EARG, 0, 0, "se = \"ps known\" applies to method = \"ipw\"");
   if (s->interval == SL_CI_PERCENTILE && s->boot == 0)
@@ -167,6 +169,36 @@ static int fill_aux(const sl_est_spec *s, sl_prep *P, sl_error *e) {
                         "over their 2^k combinations)", nbin, SL_ROUTE_BINARY_MAX);
   }
   return SL_OK;
+}
+
+/* Each complete row's weight: a number at least 0, not missing, not all
+** 0.  P is freed on an error. */
+static int fill_weights(const sl_est_spec *s, sl_prep *P, sl_error *e) {
+  if (!s->weights) return SL_OK;
+  const sl_column *c = &s->data->col[s->weights - 1];
+  int rc = SL_OK;
+  if (c->type != SL_NUMERIC) {
+    rc = sl_error_set(e, SL_EARG, 0, 0, "weights = '%s' has text values: weights are numbers", c->name);
+    sl_est_prep_free(P);
+    return rc;
+  }
+  P->w = malloc(P->n * sizeof *P->w);
+  if (!P->w) { sl_est_prep_free(P); return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); }
+  double sum = 0;
+  for (size_t k = 0; k < P->n && rc == SL_OK; k++) {
+    double v = c->x[P->rows[k]];
+    if (isnan(v))
+      rc = sl_error_set(e, SL_EARG, 0, 0, "weights = '%s' is missing at row %zu", c->name, P->rows[k] + 1);
+    else if (!(v >= 0) || isinf(v))
+      rc = sl_error_set(e, SL_EARG, 0, 0, "weights = '%s' is %g at row %zu: weights must be finite and "
+                        "not negative", c->name, v, P->rows[k] + 1);
+    P->w[k] = v;
+    sum += v;
+  }
+  if (rc == SL_OK && !(sum > 0))
+    rc = sl_error_set(e, SL_EARG, 0, 0, "weights = '%s' is 0 in every complete row", c->name);
+  if (rc) sl_est_prep_free(P);
+  return rc;
 }
 
 /* Whether a level's text names the treated arm of a two-level treatment. */
@@ -376,6 +408,7 @@ int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *
   P->bin_y = is_binary(P->y, n);
   if ((rc = fill_aux(s, P, e))) return rc;
   if ((rc = fill_clusters(s, P, e))) return rc;
+  if ((rc = fill_weights(s, P, e))) return rc;
   double t0 = P->t[0];
   int one = 1;
   for (size_t m = 1; m < n && one; m++) one = P->t[m] == t0;
@@ -440,6 +473,11 @@ int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
     sl_est_warn(res->warnings, m);
   }
   res->nclusters = P.nclusters;
+  if (P.w) {
+    double sw = 0, sw2 = 0;
+    for (size_t k = 0; k < P.n; k++) { sw += P.w[k]; sw2 += P.w[k] * P.w[k]; }
+    res->ess_weights = sw * sw / sw2;
+  }
   memcpy(res->control_level, P.t_level[0], sizeof res->control_level);
   memcpy(res->treated_level, P.t_level[1], sizeof res->treated_level);
   if (!P.bin_t && P.t_values <= SL_FEW_VALUES && s->method != SL_IV) {
@@ -486,6 +524,7 @@ int sl_est_weights(const sl_est_spec *s, sl_weights *out, sl_error *e) {
   char warn[SL_WARN_MAX] = "";
   if ((rc = sl_est_propensity(&P, ix, n, out->ps, warn, e))) goto done;
   if ((rc = sl_est_ipw_weights(s, &P, ix, n, out->ps, out->w, NULL, e))) goto done;
+  for (size_t k = 0; P.w && k < n; k++) out->w[k] *= P.w[k];   /* times the rows' own */
   out->n = n;
 done:
   free(ix);

@@ -16,7 +16,9 @@ usual one from the estimating functions of the two means with the working
 models held fixed (Tsiatis 2006, Semiparametric Theory and Missing Data,
 ch. 13).  A ratio's or an odds ratio's SE is of its logarithm (delta
 method).  Clusters: the rows' psi summed within clusters before B, times
-G/(G-1) (Liang and Zeger 1986; the factor is common practice).
+G/(G-1) (Liang and Zeger 1986; the factor is common practice).  Sampling
+weights: every row's equations times its weight (the fits by statsmodels'
+WLS and GLM with var_weights), so B takes w^2.
 Agreement asked: 1e-6 relative.  Run by `make check`; env B = build dir.
 """
 import os
@@ -42,14 +44,15 @@ yb = (rng.random(n) < 1 / (1 + np.exp(-(-0.5 + t + 0.5 * w1 - 0.4 * w2)))).astyp
 dose = 0.5 * w1 + rng.normal(size=n)
 yd = 0.8 * dose + w1 + 0.3 * dose * w2 + rng.normal(size=n)
 site = rng.integers(0, 40, size=n)               # 40 clusters
+wt = rng.gamma(2.0, 0.5, size=n)                  # sampling weights
 
 tmp = tempfile.mkdtemp()
 csv = os.path.join(tmp, "fields.csv")
 with open(csv, "w") as f:
-    f.write("t,y,yb,w1,w2,dose,yd,site\n")
+    f.write("t,y,yb,w1,w2,dose,yd,site,wt\n")
     for i in range(n):
-        f.write("%d,%.17g,%d,%.17g,%d,%.17g,%.17g,%d\n"
-                % (t[i], y[i], yb[i], w1[i], w2[i], dose[i], yd[i], site[i]))
+        f.write("%d,%.17g,%d,%.17g,%d,%.17g,%.17g,%d,%.17g\n"
+                % (t[i], y[i], yb[i], w1[i], w2[i], dose[i], yd[i], site[i], wt[i]))
 
 C = np.column_stack([w1, w2])
 ONE = np.ones(n)
@@ -100,27 +103,31 @@ def sandwich(psi, theta, cluster):
     return Ai @ Bm @ Ai.T / n
 
 
-def standardize(yv, binary, trt, est, scale, cluster):
+def glm_logit(yv, X, w):
+    return sm.GLM(yv, X, family=sm.families.Binomial(), var_weights=w).fit(tol=1e-13).params
+
+
+def standardize(yv, binary, trt, est, scale, cluster, w):
     tv = t if trt == "t" else dose
     X = design(tv)
     if binary:
-        beta = sm.GLM(yv, X, family=sm.families.Binomial()).fit(tol=1e-13).params
+        beta = glm_logit(yv, X, w)
     else:
-        beta = sm.OLS(yv, X).fit().params
+        beta = sm.WLS(yv, X, weights=w).fit().params
     g = expit if binary else (lambda e: e)
     if trt == "t":
         X1, X0 = design(ONE), design(0 * ONE)
         s = {"ATE": ONE, "ATT": t, "ATC": 1 - t}[est]
     else:
         X1, X0, s = design(dose + 1), design(dose), ONE
-    m1 = (s * g(X1 @ beta)).sum() / s.sum()
-    m0 = (s * g(X0 @ beta)).sum() / s.sum()
+    m1 = (w * s * g(X1 @ beta)).sum() / (w * s).sum()
+    m0 = (w * s * g(X0 @ beta)).sum() / (w * s).sum()
     p = X.shape[1]
 
     def psi(th):
         b, a1, a0 = th[:p], th[p], th[p + 1]
-        return np.column_stack([X * (yv - g(X @ b))[:, None],
-                                s * (g(X1 @ b) - a1), s * (g(X0 @ b) - a0)])
+        return w[:, None] * np.column_stack([X * (yv - g(X @ b))[:, None],
+                                             s * (g(X1 @ b) - a1), s * (g(X0 @ b) - a0)])
     V = sandwich(psi, np.concatenate([beta, [m1, m0]]), cluster)
     gr = gradient(scale, m1, m0)
     return contrast(scale, m1, m0), np.sqrt(gr @ V[p:, p:] @ gr)
@@ -135,10 +142,10 @@ def ipw_weights(e, est):
     return np.where(t == 1, (1 - e) / e, 1.0)
 
 
-def ipw(yv, est, scale, known, cluster):
+def ipw(yv, est, scale, known, cluster, sw):
     Xp = np.column_stack([ONE, C])
-    gamma = sm.Logit(t, Xp).fit(disp=0, tol=1e-13).params
-    w = ipw_weights(expit(Xp @ gamma), est)
+    gamma = glm_logit(t, Xp, sw)
+    w = sw * ipw_weights(expit(Xp @ gamma), est)
     m1 = (w * t * yv).sum() / (w * t).sum()
     m0 = (w * (1 - t) * yv).sum() / (w * (1 - t)).sum()
     q = Xp.shape[1]
@@ -147,8 +154,8 @@ def ipw(yv, est, scale, known, cluster):
         gm, a1, a0 = th[:q], th[q], th[q + 1]
         e = expit(Xp @ gm)
         wv = ipw_weights(e, est)
-        return np.column_stack([Xp * (t - e)[:, None], t * wv * (yv - a1),
-                                (1 - t) * wv * (yv - a0)])
+        return sw[:, None] * np.column_stack([Xp * (t - e)[:, None], t * wv * (yv - a1),
+                                              (1 - t) * wv * (yv - a0)])
     if known:
         def psi_mu(th):
             return psi(np.concatenate([gamma, th]))[:, q:]
@@ -159,15 +166,15 @@ def ipw(yv, est, scale, known, cluster):
     return contrast(scale, m1, m0), np.sqrt(gr @ V @ gr)
 
 
-def aipw(yv, binary, est, scale, cluster):
+def aipw(yv, binary, est, scale, cluster, w):
     Xp = np.column_stack([ONE, C])
-    e = expit(Xp @ sm.Logit(t, Xp).fit(disp=0, tol=1e-13).params)
+    e = expit(Xp @ glm_logit(t, Xp, w))
     X = design(t)
     if binary:
-        beta = sm.GLM(yv, X, family=sm.families.Binomial()).fit(tol=1e-13).params
+        beta = glm_logit(yv, X, w)
         g = expit
     else:
-        beta = sm.OLS(yv, X).fit().params
+        beta = sm.WLS(yv, X, weights=w).fit().params
         g = (lambda v: v)
     f1, f0 = g(design(ONE) @ beta), g(design(0 * ONE) @ beta)
     if est == "ATE":
@@ -182,10 +189,10 @@ def aipw(yv, binary, est, scale, cluster):
         a = (1 - t) * f1 + t * (1 - e) / e * (yv - f1)
         b = (1 - t) * yv
         s = 1 - t
-    m1, m0 = a.sum() / s.sum(), b.sum() / s.sum()
+    m1, m0 = (w * a).sum() / (w * s).sum(), (w * b).sum() / (w * s).sum()
 
     def psi(th):
-        return np.column_stack([a - s * th[0], b - s * th[1]])
+        return w[:, None] * np.column_stack([a - s * th[0], b - s * th[1]])
     V = sandwich(psi, np.array([m1, m0]), cluster)
     gr = gradient(scale, m1, m0)
     return contrast(scale, m1, m0), np.sqrt(gr @ V @ gr)
@@ -212,16 +219,25 @@ clustered = [("standardize", "ATE", "y", "t", "difference", False),
              ("ipw", "ATE", "y", "t", "difference", False),
              ("ipw", "ATC", "yb", "t", "odds ratio", False),
              ("aipw", "ATE", "y", "t", "difference", False)]
-runs = [(c, False) for c in cases] + [(c, True) for c in clustered]
+weighted = [("standardize", "ATE", "y", "t", "difference", False),
+            ("standardize", "ATT", "yb", "t", "odds ratio", False),
+            ("standardize", "ATE", "yd", "dose", "difference", False),
+            ("ipw", "ATE", "y", "t", "difference", False),
+            ("ipw", "ATT", "yb", "t", "ratio", False),
+            ("ipw", "ATC", "y", "t", "difference", True),
+            ("aipw", "ATE", "yb", "t", "difference", False),
+            ("aipw", "ATC", "y", "t", "difference", False)]
+runs = ([(c, False, False) for c in cases] + [(c, True, False) for c in clustered]
+        + [(c, False, True) for c in weighted] + [(weighted[3], True, True)])
 
 script = os.path.join(tmp, "run.lua")
 with open(script, "w") as f:
     f.write('local d = read_csv(%r)\n' % csv)
-    for (m, est, out, trt, scale, known), cl in runs:
+    for (m, est, out, trt, scale, known), cl, wd in runs:
         f.write('do local r = estimate{data = d, treatment = %r, outcome = %r, set = {"w1", "w2"}, '
-                'method = %r, estimand = %r, scale = %r%s%s}\n'
+                'method = %r, estimand = %r, scale = %r%s%s%s}\n'
                 % (trt, out, m, est, scale, ', se = "ps known"' if known else "",
-                   ', cluster = "site"' if cl else ""))
+                   ', cluster = "site"' if cl else "", ', weights = "wt"' if wd else ""))
         f.write('print(string.format("%.15g %.15g %s %s", r.estimate, r.se, (r.se_method:gsub(" ", "_")), '
                 'tostring(r.se_log_scale))) end\n')
 res = subprocess.run([os.path.join(B, "sluice"), script], capture_output=True, text=True)
@@ -231,15 +247,16 @@ if res.returncode != 0:
 got = [line.split() for line in res.stdout.strip().splitlines()]
 
 passed = failed = 0
-for ((m, est, out, trt, scale, known), cl), g in zip(runs, got):
+for ((m, est, out, trt, scale, known), cl, wd), g in zip(runs, got):
     yv = {"y": y, "yb": yb, "yd": yd}[out]
     cluster = site if cl else None
+    w = wt if wd else ONE
     if m == "standardize":
-        want, want_se = standardize(yv, out == "yb", trt, est, scale, cluster)
+        want, want_se = standardize(yv, out == "yb", trt, est, scale, cluster, w)
     elif m == "ipw":
-        want, want_se = ipw(yv, est, scale, known, cluster)
+        want, want_se = ipw(yv, est, scale, known, cluster, w)
     else:
-        want, want_se = aipw(yv, out == "yb", est, scale, cluster)
+        want, want_se = aipw(yv, out == "yb", est, scale, cluster, w)
     ok = abs(float(g[0]) - want) <= 1e-7 * max(1, abs(want))
     ok = ok and abs(float(g[1]) - want_se) <= 1e-6 * want_se
     ok = ok and g[2] == ("ps_known" if known else "sandwich")
@@ -249,6 +266,7 @@ for ((m, est, out, trt, scale, known), cl), g in zip(runs, got):
     else:
         failed += 1
         print("MISMATCH", m, est, out, trt, scale, "known" if known else "",
-              "cluster" if cl else "", "sluice", g, "reference", want, want_se)
+              "cluster" if cl else "", "weights" if wd else "", "sluice", g, "reference",
+              want, want_se)
 print("%d passed, %d failed" % (passed, failed))
 sys.exit(1 if failed else 0)
