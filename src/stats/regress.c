@@ -337,6 +337,7 @@ done:
 void sl_fit_free(sl_fit *fit) {
   if (!fit) return;
   free(fit->coef); free(fit->se); free(fit->robust_se); free(fit->cov); free(fit->aliased);
+  free(fit->se_chosen); free(fit->cov_chosen);
   memset(fit, 0, sizeof *fit);
 }
 
@@ -350,7 +351,10 @@ static int fit_alloc(sl_fit *fit, size_t n, size_t p) {
   fit->robust_se = calloc(p, sizeof *fit->robust_se);
   fit->cov = calloc(p * p, sizeof *fit->cov);
   fit->aliased = calloc(p, sizeof *fit->aliased);
-  if (!fit->coef || !fit->se || !fit->robust_se || !fit->cov || !fit->aliased) {
+  fit->se_chosen = calloc(p, sizeof *fit->se_chosen);
+  fit->cov_chosen = calloc(p * p, sizeof *fit->cov_chosen);
+  if (!fit->coef || !fit->se || !fit->robust_se || !fit->cov || !fit->aliased ||
+      !fit->se_chosen || !fit->cov_chosen) {
     sl_fit_free(fit);
     return -1;
   }
@@ -503,22 +507,90 @@ static int check_args(const char *fn, const double *X, const double *y, size_t n
   return SL_OK;
 }
 
+/* What the options imply before a fit: the weights finite, non-negative
+** and not all 0 (their sum, Kish's effective sample size and the rows of
+** positive weight go into chk), and for a cluster covariance every row's
+** cluster in range and at least two clusters among the rows of positive
+** weight (their number into chk). */
+static int check_opts(const char *fn, const sl_fit_opts *o, size_t n, sl_fit *chk,
+                      sl_error *e) {
+  const double *w = o ? o->w : NULL;
+  double sum = 0, sum2 = 0;
+  size_t npos = 0;
+  for (size_t i = 0; i < n; i++) {
+    double wi = w ? w[i] : 1;
+    if (!isfinite(wi) || wi < 0)
+      return sl_error_set(e, SL_EARG, 0, 0,
+                          "row %zu: a weight must be finite and non-negative, not %g", i + 1, wi);
+    sum += wi;
+    sum2 += wi * wi;
+    npos += wi > 0;
+  }
+  if (npos == 0) return sl_error_set(e, SL_EARG, 0, 0, "%s: every weight is 0", fn);
+  chk->wsum = w ? sum : (double)n;
+  chk->ess = w ? sum * sum / sum2 : (double)n;
+  chk->npos = npos;
+  chk->se_kind = o ? o->se : SL_VCOV_CLASSICAL;
+  if (chk->se_kind > SL_VCOV_CLUSTER)
+    return sl_error_set(e, SL_EARG, 0, 0, "%s: unknown kind of standard error", fn);
+  if (chk->se_kind != SL_VCOV_CLUSTER) return SL_OK;
+  if (!o->cluster || o->nclusters == 0 || o->nclusters > SL_CLUSTERS_MAX)
+    return sl_error_set(e, SL_EARG, 0, 0, "%s: cluster standard errors need each row's cluster", fn);
+  unsigned char *seen = calloc(o->nclusters, 1);
+  if (!seen) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  size_t g = 0;
+  for (size_t i = 0; i < n; i++) {
+    if (o->cluster[i] >= o->nclusters) {
+      free(seen);
+      return sl_error_set(e, SL_EARG, 0, 0, "row %zu: cluster %zu is out of range (%zu clusters)",
+                          i + 1, o->cluster[i], o->nclusters);
+    }
+    if ((w ? w[i] : 1) > 0 && !seen[o->cluster[i]]) { seen[o->cluster[i]] = 1; g++; }
+  }
+  free(seen);
+  if (g < 2)
+    return sl_error_set(e, SL_EARG, 0, 0,
+                        "%s: every row is in one cluster; cluster standard errors need at least two",
+                        fn);
+  chk->nclusters = g;
+  return SL_OK;
+}
+
+/* Copy what check_opts found into the fit. */
+static void set_opts(sl_fit *fit, const sl_fit *chk) {
+  fit->wsum = chk->wsum; fit->ess = chk->ess; fit->npos = chk->npos;
+  fit->se_kind = chk->se_kind; fit->nclusters = chk->nclusters;
+}
+
+static int fit_chosen(qracc *a, fitws *ws, const double *X, const double *y, size_t n,
+                      int logit, const sl_fit_opts *o, sl_fit *fit, sl_error *e);
+
 /* ---- least squares ---- */
 
 int sl_ols(const double *X, const double *y, size_t n, size_t p,
            const char *const *names, sl_fit *fit, sl_error *e) {
+  return sl_ols_opts(X, y, n, p, names, NULL, fit, e);
+}
+
+int sl_ols_opts(const double *X, const double *y, size_t n, size_t p,
+                const char *const *names, const sl_fit_opts *o, sl_fit *fit, sl_error *e) {
   int rc = check_args("ols", X, y, n, p, fit, e);
   if (rc) return rc;
+  sl_fit chk;
+  memset(&chk, 0, sizeof chk);
+  if ((rc = check_opts("ols", o, n, &chk, e))) return rc;
+  const double *w = o ? o->w : NULL;
   qracc a;
-  fitws w;
+  fitws ws;
   memset(&a, 0, sizeof a);
-  memset(&w, 0, sizeof w);
+  memset(&ws, 0, sizeof ws);
   int *ones = malloc(p * sizeof *ones);
-  if (!ones || fit_alloc(fit, n, p) || qracc_init(&a, p, n) || fitws_init(&w, p)) {
+  if (!ones || fit_alloc(fit, n, p) || qracc_init(&a, p, n) || fitws_init(&ws, p)) {
     rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
     goto done;
   }
-  /* pass 1: factor [X y], find columns of ones, sum y */
+  set_opts(fit, &chk);
+  /* pass 1: factor sqrt(w) [X y], find columns of ones, sum w y */
   for (size_t j = 0; j < p; j++) ones[j] = 1;
   double ysum = 0;
   size_t tda = a.B->tda;
@@ -528,68 +600,79 @@ int sl_ols(const double *X, const double *y, size_t n, size_t p,
     for (size_t r = 0; r < k; r++) {
       size_t i = i0 + r;
       const double *row = X + i * p;
-      double *dst = qracc_slot(&a, r);
+      double *dst = qracc_slot(&a, r), wi = w ? w[i] : 1, sw = w ? sqrt(wi) : 1;
       for (size_t j = 0; j < p; j++) {
         if (!isfinite(row[j])) { rc = bad_x(e, names, i, j); goto done; }
-        if (row[j] != 1.0) ones[j] = 0;
-        dst[j * tda] = row[j];
+        if (row[j] != 1.0 && wi > 0) ones[j] = 0;
+        dst[j * tda] = w ? sw * row[j] : row[j];
       }
       if (!isfinite(y[i])) {
         rc = sl_error_set(e, SL_EARG, 0, 0, "row %zu: the outcome is not a finite number", i + 1);
         goto done;
       }
-      dst[p * tda] = y[i];
-      part += y[i];
+      dst[p * tda] = w ? sw * y[i] : y[i];
+      part += w ? wi * y[i] : y[i];
     }
     ysum += part;
     qracc_fold(&a, k);
   }
-  qracc_R(&a, w.R);
-  if ((rc = check_rank(w.R, names, fit->aliased, e))) goto done;
-  solve_coef(&a, &w, fit->coef);
-  invert_R(&w);
+  qracc_R(&a, ws.R);
+  if ((rc = check_rank(ws.R, names, fit->aliased, e))) goto done;
+  solve_coef(&a, &ws, fit->coef);
+  invert_R(&ws);
 
-  /* pass 2: residuals, leverages h_i = |z_i|^2 with z_i' = x_i' R^-1, and
-  ** the HC3 meat sum (e_i / (1 - h_i))^2 z_i z_i' */
+  /* pass 2: residuals, leverages h_i = w_i |z_i|^2 with z_i' = x_i' R^-1,
+  ** and the HC3 meat sum (w_i e_i / (1 - h_i))^2 z_i z_i' (statsmodels'
+  ** WLS: the residuals and rows of the weighted problem) */
   int intercept = 0;
   for (size_t j = 0; j < p; j++) intercept |= ones[j];
-  double ybar = ysum / (double)n, rss = 0, tss = 0;
+  double nw = w ? fit->wsum : (double)n;   /* the rows a frequency weight stands for */
+  double ybar = ysum / nw, rss = 0, tss = 0;
   int lev1 = 0;
-  gsl_matrix_set_zero(w.Mz);
+  gsl_matrix_set_zero(ws.Mz);
   for (size_t i0 = 0; i0 < n; i0 += a.m) {
     size_t k = n - i0 < a.m ? n - i0 : a.m;
     double prss = 0, ptss = 0;
-    block_to_z(&a, &w, X + i0 * p, k);
+    block_to_z(&a, &ws, X + i0 * p, k);
     for (size_t r = 0; r < k; r++) {
       const double *row = X + (i0 + r) * p;
       double *z = gsl_matrix_ptr(a.Z, r, 0), fit_i = 0, h = 0, f = 0;
       for (size_t j = 0; j < p; j++) { fit_i += row[j] * fit->coef[j]; h += z[j] * z[j]; }
       double res = y[i0 + r] - fit_i, d = intercept ? y[i0 + r] - ybar : y[i0 + r];
-      prss += res * res;
-      ptss += d * d;
-      if (1 - h <= 1e-10) lev1 = 1;   /* leverage 1: HC3 undefined */
-      else f = fabs(res) / (1 - h);
+      double wi = w ? w[i0 + r] : 1;
+      if (w) {
+        h *= wi;
+        prss += wi * res * res;
+        ptss += wi * d * d;
+      } else {
+        prss += res * res;
+        ptss += d * d;
+      }
+      if (wi == 0) f = 0;
+      else if (1 - h <= 1e-10) lev1 = 1;   /* leverage 1: HC3 undefined */
+      else f = wi * fabs(res) / (1 - h);
       for (size_t j = 0; j < p; j++) z[j] *= f;
     }
     rss += prss;
     tss += ptss;
-    block_meat(&a, &w, k);
+    block_meat(&a, &ws, k);
   }
-  size_t df = n - p;
+  double df = nw - (double)p;   /* n - p, or sum w - p for frequency weights */
   fit->rank = p;
   fit->rss = rss;
-  fit->sigma = df > 0 ? sqrt(rss / (double)df) : NAN;
+  fit->sigma = df > 0 ? sqrt(rss / df) : NAN;
   fit->r2 = 1 - rss / tss;
-  fit->adj_r2 = df > 0 ? 1 - (double)(n - (size_t)intercept) / (double)df * (rss / tss) : NAN;
+  fit->adj_r2 = df > 0 ? 1 - (nw - (double)intercept) / df * (rss / tss) : NAN;
   fit->deviance = rss;
-  fit->loglik = -0.5 * (double)n * (log(2 * M_PI * rss / (double)n) + 1);
+  fit->loglik = -0.5 * nw * (log(2 * M_PI * rss / nw) + 1);
   fit->iterations = 1;
   fit->converged = 1;
-  finish_cov(&w, fit, fit->sigma * fit->sigma, !lev1 && df > 0);
+  finish_cov(&ws, fit, fit->sigma * fit->sigma, !lev1 && fit->npos > p);
+  rc = fit_chosen(&a, &ws, X, y, n, 0, o, fit, e);
 done:
   free(ones);
   qracc_free(&a);
-  fitws_free(&w);
+  fitws_free(&ws);
   if (rc) sl_fit_free(fit);
   return rc;
 }
@@ -787,6 +870,112 @@ static void block_eta(const double *Xb, const double *b, size_t k, size_t p, dou
   }
 }
 
+/* ---- the chosen covariance ---- */
+
+/* The meat of the chosen robust covariance, summed in the coordinates of
+** X R^-1 (ws->Ri holding R^-1) into ws->Mz by one more pass over the rows
+** at the coefficients b.  Row i's score is r_i x_i, with r_i = w_i e_i
+** (least squares) or w_i (y_i - mu_i) (logit), and its leverage is
+** h_i = W_i |x_i' R^-1|^2, W_i being the row's weight in R (w_i, or
+** w_i mu_i (1 - mu_i)): HC0 and HC1 sum r_i^2 z_i z_i', HC3 divides each
+** r_i by 1 - h_i (MacKinnon and White 1985), and the cluster meat sums
+** the scores within each cluster first (S, one row per cluster; Liang and
+** Zeger 1986).  Returns nonzero when HC3 meets a leverage of 1. */
+static int chosen_meat(qracc *a, fitws *ws, const double *X, const double *y, size_t n,
+                       int logit, const sl_fit_opts *o, const double *b, gsl_matrix *S,
+                       double *eta) {
+  size_t p = a->p;
+  const double *w = o ? o->w : NULL;
+  int lev1 = 0, hc3 = o->se == SL_VCOV_HC3;
+  gsl_matrix_set_zero(ws->Mz);
+  if (S) gsl_matrix_set_zero(S);
+  for (size_t i0 = 0; i0 < n; i0 += a->m) {
+    size_t k = n - i0 < a->m ? n - i0 : a->m;
+    const double *Xb = X + i0 * p;
+    block_to_z(a, ws, Xb, k);
+    block_eta(Xb, b, k, p, eta);
+    for (size_t r = 0; r < k; r++) {
+      size_t i = i0 + r;
+      double wi = w ? w[i] : 1, ri, Wi, h = 0, *z = gsl_matrix_ptr(a->Z, r, 0);
+      if (logit) {
+        double mu, omu, var;
+        logistic(eta[r], &mu, &omu, NULL);
+        var = mu * omu;
+        if (var < DBL_EPSILON) var = DBL_EPSILON;   /* as in the QR pass */
+        ri = wi * (y[i] * omu - (1 - y[i]) * mu);
+        Wi = wi * var;
+      } else {
+        ri = wi * (y[i] - eta[r]);
+        Wi = wi;
+      }
+      if (hc3 && wi > 0) {
+        for (size_t j = 0; j < p; j++) h += z[j] * z[j];
+        h *= Wi;
+        if (1 - h <= 1e-10) { lev1 = 1; ri = 0; }
+        else ri /= 1 - h;
+      }
+      if (S) {
+        double *srow = gsl_matrix_ptr(S, o->cluster[i], 0);
+        for (size_t j = 0; j < p; j++) srow[j] += ri * z[j];
+      } else {
+        for (size_t j = 0; j < p; j++) z[j] *= ri;
+      }
+    }
+    if (!S) block_meat(a, ws, k);
+  }
+  if (S) {   /* Mz = S'S, a few rows of S at a time (see gemm_rows) */
+    size_t c = gemm_rows(p);
+    for (size_t r0 = 0; r0 < S->size1; r0 += c) {
+      size_t kr = S->size1 - r0 < c ? S->size1 - r0 : c;
+      gsl_matrix_view Sv = gsl_matrix_submatrix(S, r0, 0, kr, p);
+      gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0, &Sv.matrix, &Sv.matrix, 1.0, ws->Mz);
+    }
+  }
+  return lev1;
+}
+
+/* The chosen covariance into fit->cov_chosen and se_chosen, and the
+** degrees of freedom of its t statistics (least squares; logit: none, the
+** normal).  Classical: the fit's own.  Otherwise factor R^-1 M R^-T with M
+** from chosen_meat and the factor statsmodels applies: HC1 n / (n - p),
+** cluster G / (G - 1) (n - 1) / (n - p) (statsmodels 0.13,
+** stats/sandwich_covariance.py, cov_cluster with use_correction=True, which
+** OLS, WLS, GLM and Logit all use), n the rows of positive weight.
+** ws->Ri must hold R^-1; ws->Mz and ws->W are overwritten. */
+static int fit_chosen(qracc *a, fitws *ws, const double *X, const double *y, size_t n,
+                      int logit, const sl_fit_opts *o, sl_fit *fit, sl_error *e) {
+  size_t p = fit->p;
+  double np = (double)fit->npos, G = (double)fit->nclusters, factor = 1;
+  sl_vcov_kind kind = o ? o->se : SL_VCOV_CLASSICAL;
+  if (kind == SL_VCOV_CLASSICAL) {
+    memcpy(fit->cov_chosen, fit->cov, p * p * sizeof *fit->cov);
+    memcpy(fit->se_chosen, fit->se, p * sizeof *fit->se);
+    fit->df = logit ? INFINITY : (o && o->w ? fit->wsum : (double)n) - (double)p;
+    return SL_OK;
+  }
+  double *eta = malloc(a->m * sizeof *eta);
+  gsl_matrix *S = kind == SL_VCOV_CLUSTER ? gsl_matrix_alloc(o->nclusters, p) : NULL;
+  if (!eta || (kind == SL_VCOV_CLUSTER && !S)) {
+    free(eta);
+    if (S) gsl_matrix_free(S);
+    return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  }
+  int lev1 = chosen_meat(a, ws, X, y, n, logit, o, fit->coef, S, eta);
+  free(eta);
+  if (S) gsl_matrix_free(S);
+  if (kind == SL_VCOV_HC1) factor = np / (np - (double)p);
+  if (kind == SL_VCOV_CLUSTER) factor = G / (G - 1) * (np - 1) / (np - (double)p);
+  int ok = !lev1 && np > (double)p;
+  mul_rows(ws->Ri, CblasNoTrans, ws->Mz, ws->W);
+  mul_rows(ws->W, CblasTrans, ws->Ri, ws->Mz);
+  for (size_t i = 0; i < p; i++)
+    for (size_t j = 0; j < p; j++)
+      fit->cov_chosen[i * p + j] = ok ? factor * gsl_matrix_get(ws->Mz, i, j) : NAN;
+  for (size_t j = 0; j < p; j++) fit->se_chosen[j] = sqrt(fit->cov_chosen[j * p + j]);
+  fit->df = logit ? INFINITY : kind == SL_VCOV_CLUSTER ? G - 1 : np - (double)p;
+  return SL_OK;
+}
+
 typedef struct logit_ctx {
   const double *X, *y, *w;
   size_t n, p;
@@ -959,9 +1148,19 @@ int sl_logit_qr_only = 0;
 int sl_logit(const double *X, const double *y, const double *w, size_t n, size_t p,
              const char *const *names, int max_iter, double tol, sl_fit *fit,
              char *warn, size_t warnsize, sl_error *e) {
+  sl_fit_opts o;
+  memset(&o, 0, sizeof o);
+  o.w = w;
+  return sl_logit_opts(X, y, n, p, names, &o, max_iter, tol, fit, warn, warnsize, e);
+}
+
+int sl_logit_opts(const double *X, const double *y, size_t n, size_t p,
+                  const char *const *names, const sl_fit_opts *opts, int max_iter, double tol,
+                  sl_fit *fit, char *warn, size_t warnsize, sl_error *e) {
   char wbuf[SL_MSG_MAX];
   wbuf[0] = '\0';
   if (warn && warnsize) warn[0] = '\0';
+  const double *w = opts ? opts->w : NULL;
   int rc = check_args("logit", X, y, n, p, fit, e);
   if (rc) return rc;
   if (max_iter <= 0) max_iter = 50;
@@ -984,6 +1183,9 @@ int sl_logit(const double *X, const double *y, const double *w, size_t n, size_t
   if (npos < p)
     return sl_error_set(e, SL_EARG, 0, 0,
                         "logit: %zu rows with positive weight for %zu columns", npos, p);
+  sl_fit chk;
+  memset(&chk, 0, sizeof chk);
+  if ((rc = check_opts("logit", opts, n, &chk, e))) return rc;
   qracc a;
   fitws ws;
   neacc ne;
@@ -999,6 +1201,7 @@ int sl_logit(const double *X, const double *y, const double *w, size_t n, size_t
     rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
     goto done;
   }
+  set_opts(fit, &chk);
   /* X finite; the largest |x_ij| of each column over rows in the fit */
   for (size_t i = 0; i < n; i++) {
     const double *row = X + i * p;
@@ -1093,6 +1296,7 @@ int sl_logit(const double *X, const double *y, const double *w, size_t n, size_t
   fit->iterations = it;
   fit->converged = converged || (stuck && isfinite(o.dev));
   fit->r2 = fit->adj_r2 = fit->sigma = fit->rss = NAN;
+  if ((rc = fit_chosen(&a, &ws, X, y, n, 1, opts, fit, e))) goto done;
   logit_report(wbuf, sizeof wbuf, names, p, step, xmax, fit->converged, stuck, it, &o, wsum);
   if (warn && warnsize) snprintf(warn, warnsize, "%s", wbuf);
 done:

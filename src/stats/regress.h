@@ -22,6 +22,27 @@
 ** one thread, so sums come out in the same order whatever the threads. */
 #define SL_GEMM_WORK 262144u
 
+/* The covariance a fit reports as the one chosen (sl_fit_opts.se):
+** classical (the default), White's HC0, HC1 = HC0 n / (n - p), HC3 (each
+** row's score divided by 1 - h_i, h_i its leverage), and cluster-robust
+** (Liang and Zeger 1986) with statsmodels' small-sample factor
+** G / (G - 1) (n - 1) / (n - p).  n counts the rows of positive weight. */
+typedef enum {
+  SL_VCOV_CLASSICAL, SL_VCOV_HC0, SL_VCOV_HC1, SL_VCOV_HC3, SL_VCOV_CLUSTER
+} sl_vcov_kind;
+
+/* The largest number of clusters (a G x p table of score sums is kept). */
+#define SL_CLUSTERS_MAX 100000000u
+
+/* Options of sl_ols_opts and sl_logit_opts; a zeroed struct is the plain
+** unweighted fit with the classical covariance chosen. */
+typedef struct sl_fit_opts {
+  const double *w;          /* weights, one per row (NULL: all 1) */
+  sl_vcov_kind se;          /* which covariance goes to se_chosen/cov_chosen */
+  const size_t *cluster;    /* SL_VCOV_CLUSTER: each row's cluster, 0..nclusters-1 */
+  size_t nclusters;
+} sl_fit_opts;
+
 typedef struct sl_fit {
   size_t n, p;
   double *coef;          /* p */
@@ -35,6 +56,17 @@ typedef struct sl_fit {
   int iterations, converged;          /* logit (OLS: 1 and 1) */
   size_t rank;           /* numerical rank of X (p: rank deficiency is an error) */
   int *aliased;          /* p flags, all 0 in a returned fit */
+  /* the covariance chosen in sl_fit_opts (the classical one by default) */
+  sl_vcov_kind se_kind;
+  double *se_chosen;     /* p; NaN where undefined (HC3 with a leverage of 1) */
+  double *cov_chosen;    /* p x p row-major */
+  double df;             /* OLS: degrees of freedom of its t statistics (n - p,
+                            sum of weights - p when classical and weighted,
+                            G - 1 when clustered); logit: INFINITY (normal) */
+  double wsum, ess;      /* sum of weights and Kish's effective sample size
+                            (sum w)^2 / sum w^2 (both n when unweighted) */
+  size_t npos;           /* rows of positive weight */
+  size_t nclusters;      /* clusters with a row of positive weight (cluster SEs) */
 } sl_fit;
 
 /* Free the arrays of a fit and zero it; safe on a zeroed fit.  On an error
@@ -48,6 +80,15 @@ void sl_fit_free(sl_fit *fit);
 int sl_ols(const double *X, const double *y, size_t n, size_t p,
            const char *const *names, sl_fit *fit, sl_error *e);
 
+/* Least squares with options: weights w_i (minimizing sum w_i e_i^2) and
+** the chosen covariance.  Weights are frequency weights for the classical
+** covariance (row i counts w_i times: sigma^2 = sum w_i e_i^2 / (sum w_i -
+** p), as statsmodels' GLM freq_weights) and sampling weights for the robust
+** ones (scores w_i e_i x_i, as statsmodels' WLS with cov_type).  A negative
+** or non-finite weight, or all weights 0, is an error naming the row. */
+int sl_ols_opts(const double *X, const double *y, size_t n, size_t p,
+                const char *const *names, const sl_fit_opts *o, sl_fit *fit, sl_error *e);
+
 /* Logistic regression by iteratively reweighted least squares; optional
 ** prior weights w (NULL: 1).  Non-convergence and (quasi-)complete
 ** separation are reported in warn (may be NULL) naming the columns; the fit
@@ -60,6 +101,14 @@ int sl_ols(const double *X, const double *y, size_t n, size_t p,
 int sl_logit(const double *X, const double *y, const double *w, size_t n, size_t p,
              const char *const *names, int max_iter, double tol, sl_fit *fit,
              char *warn, size_t warnsize, sl_error *e);
+
+/* Logistic regression with options: prior weights (as sl_logit's w) and
+** the chosen covariance, whose scores are w_i (y_i - mu_i) x_i (statsmodels'
+** GLM var_weights with cov_type) and whose HC3 leverages are those of the
+** weighted working design, h_i = W_i x_i' (X'WX)^-1 x_i, W_i = w_i mu_i (1 - mu_i). */
+int sl_logit_opts(const double *X, const double *y, size_t n, size_t p,
+                  const char *const *names, const sl_fit_opts *o, int max_iter, double tol,
+                  sl_fit *fit, char *warn, size_t warnsize, sl_error *e);
 
 /* X beta for new rows (n x p): out has n entries; logistic gives
 ** probabilities when prob is nonzero. */

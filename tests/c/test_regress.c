@@ -1015,6 +1015,118 @@ static void iv_same_bits_any_threads(void **st) {
   free(y); free(x); free(Z); free(W);
 }
 
+/* ---- the chosen covariances on the mean (hand-computed) ---- */
+
+/* Regression on an intercept alone estimates the mean, and every
+** covariance has a closed form that can be worked by hand (the sandwich
+** formulas of White 1980, MacKinnon and White 1985 for HC3, Liang and
+** Zeger 1986 with statsmodels' factor G/(G-1) (n-1)/(n-p)):
+** y = 1, 2, 4, 7, 6: mean 4, residuals -3, -2, 0, 3, 2, sum of squares 26,
+** every leverage 1/5.  Classical var = 26 / (5 * 4) = 1.3; HC0 = 26 / 25 =
+** 1.04; HC1 = HC0 * 5/4 = 1.3; HC3 = (26 / 0.8^2) / 25 = 1.625; clusters
+** {1,2}, {3,4}, {5}: score sums -5, 3, 2, so 38 / 25 * 3/2 * 4/4 = 2.28,
+** with 2 degrees of freedom. */
+static void ols_chosen_on_the_mean(void **s) {
+  (void)s;
+  double X[5] = {1, 1, 1, 1, 1}, y[5] = {1, 2, 4, 7, 6};
+  size_t g[5] = {0, 0, 1, 1, 2};
+  const double want[5] = {1.3, 1.04, 1.3, 1.625, 2.28}, df[5] = {4, 4, 4, 4, 2};
+  for (int k = SL_VCOV_CLASSICAL; k <= SL_VCOV_CLUSTER; k++) {
+    sl_fit_opts o;
+    memset(&o, 0, sizeof o);
+    o.se = (sl_vcov_kind)k;
+    o.cluster = g;
+    o.nclusters = 3;
+    sl_fit fit;
+    sl_error e;
+    assert_int_equal(sl_ols_opts(X, y, 5, 1, NULL, &o, &fit, &e), SL_OK);
+    assert_close(fit.coef[0], 4, 1e-14, "mean");
+    assert_close(fit.cov_chosen[0], want[k], 1e-13, "chosen variance of the mean");
+    assert_close(fit.se_chosen[0], sqrt(want[k]), 1e-13, "chosen SE of the mean");
+    assert_close(fit.df, df[k], 0, "degrees of freedom");
+    assert_close(fit.se[0], sqrt(1.3), 1e-13, "classical SE kept");
+    assert_close(fit.robust_se[0], sqrt(1.625), 1e-13, "robust_se stays HC3");
+    sl_fit_free(&fit);
+  }
+}
+
+/* The weighted mean, weights 1, 2, 1, 1, 3 (sum 8): mean 34/8 = 4.25,
+** residuals -3.25, -2.25, -0.25, 2.75, 1.75.  Frequency weights for the
+** classical variance: sum w e^2 = 37.5, var = 37.5 / 7 / 8, 7 degrees of
+** freedom; sampling weights for HC0: sum w^2 e^2 / 8^2 = 66 / 64; Kish's
+** effective sample size 8^2 / 16 = 4. */
+static void ols_weighted_mean(void **s) {
+  (void)s;
+  double X[5] = {1, 1, 1, 1, 1}, y[5] = {1, 2, 4, 7, 6}, w[5] = {1, 2, 1, 1, 3};
+  sl_fit_opts o;
+  memset(&o, 0, sizeof o);
+  o.w = w;
+  sl_fit fit;
+  sl_error e;
+  assert_int_equal(sl_ols_opts(X, y, 5, 1, NULL, &o, &fit, &e), SL_OK);
+  assert_close(fit.coef[0], 4.25, 1e-14, "weighted mean");
+  assert_close(fit.cov_chosen[0], 37.5 / 56, 1e-13, "classical, frequency weights");
+  assert_close(fit.df, 7, 0, "sum of weights - 1");
+  assert_close(fit.ess, 4, 1e-14, "Kish");
+  assert_close(fit.wsum, 8, 0, "sum of weights");
+  sl_fit_free(&fit);
+  o.se = SL_VCOV_HC0;
+  assert_int_equal(sl_ols_opts(X, y, 5, 1, NULL, &o, &fit, &e), SL_OK);
+  assert_close(fit.cov_chosen[0], 66.0 / 64, 1e-13, "HC0, sampling weights");
+  assert_close(fit.df, 4, 0, "rows - 1");
+  sl_fit_free(&fit);
+}
+
+/* Logit on an intercept: mu = mean(y) = 0.6 for y = 1, 0, 0, 1, 1; the
+** information is n mu (1 - mu) = 1.2, so classical = HC0 = 1/1.2; HC1 =
+** 1/1.2 * 5/4; every leverage 1/5, HC3 = (1/1.2) / 0.8^2; clusters {1,2},
+** {3,4}, {5}: score sums -0.2, -0.2, 0.4, so 0.24 / 1.2^2 * 3/2 = 0.25. */
+static void logit_chosen_on_the_mean(void **s) {
+  (void)s;
+  double X[5] = {1, 1, 1, 1, 1}, y[5] = {1, 0, 0, 1, 1};
+  size_t g[5] = {0, 0, 1, 1, 2};
+  const double want[5] = {1 / 1.2, 1 / 1.2, 1 / 1.2 * 1.25, 1 / 1.2 / 0.64, 0.25};
+  for (int k = SL_VCOV_CLASSICAL; k <= SL_VCOV_CLUSTER; k++) {
+    sl_fit_opts o;
+    memset(&o, 0, sizeof o);
+    o.se = (sl_vcov_kind)k;
+    o.cluster = g;
+    o.nclusters = 3;
+    sl_fit fit;
+    sl_error e;
+    assert_int_equal(sl_logit_opts(X, y, 5, 1, NULL, &o, 0, 0, &fit, NULL, 0, &e), SL_OK);
+    assert_close(fit.coef[0], log(1.5), 1e-10, "log odds of the mean");
+    assert_close(fit.cov_chosen[0], want[k], 1e-9, "chosen variance");
+    assert_true(isinf(fit.df));
+    sl_fit_free(&fit);
+  }
+}
+
+/* Bad options: one cluster, a negative weight, every weight 0. */
+static void chosen_bad_input(void **s) {
+  (void)s;
+  double X[5] = {1, 1, 1, 1, 1}, y[5] = {1, 0, 0, 1, 1}, w[5] = {1, 1, -1, 1, 1};
+  size_t g[5] = {0, 0, 0, 0, 0};
+  sl_fit_opts o;
+  memset(&o, 0, sizeof o);
+  o.se = SL_VCOV_CLUSTER;
+  o.cluster = g;
+  o.nclusters = 1;
+  sl_fit fit;
+  sl_error e;
+  assert_int_equal(sl_ols_opts(X, y, 5, 1, NULL, &o, &fit, &e), SL_EARG);
+  assert_contains(e.msg, "one cluster");
+  assert_int_equal(sl_logit_opts(X, y, 5, 1, NULL, &o, 0, 0, &fit, NULL, 0, &e), SL_EARG);
+  assert_contains(e.msg, "one cluster");
+  memset(&o, 0, sizeof o);
+  o.w = w;
+  assert_int_equal(sl_ols_opts(X, y, 5, 1, NULL, &o, &fit, &e), SL_EARG);
+  assert_contains(e.msg, "row 3");
+  for (int i = 0; i < 5; i++) w[i] = 0;
+  assert_int_equal(sl_ols_opts(X, y, 5, 1, NULL, &o, &fit, &e), SL_EARG);
+  assert_contains(e.msg, "every weight is 0");
+}
+
 int main(void) {
   const struct CMUnitTest tests[] = {
     cmocka_unit_test(nist_norris),
@@ -1045,6 +1157,10 @@ int main(void) {
     cmocka_unit_test(iv_statsmodels),
     cmocka_unit_test(iv_bad_input),
     cmocka_unit_test(iv_same_bits_any_threads),
+    cmocka_unit_test(ols_chosen_on_the_mean),
+    cmocka_unit_test(ols_weighted_mean),
+    cmocka_unit_test(logit_chosen_on_the_mean),
+    cmocka_unit_test(chosen_bad_input),
   };
   return cmocka_run_group_tests(tests, NULL, NULL);
 }
