@@ -141,6 +141,19 @@ end
 
 local function out(s) if cap then cap[#cap + 1] = s end end
 
+-- At most this many lines of one entry's output stay in memory for
+-- report() once the log has them: a script that prints a great deal must
+-- not hold it all.
+S.MAX_REPORT_LINES = 2000
+
+local function keep_for_report(e)
+  local n = #e.out
+  if n <= S.MAX_REPORT_LINES then return end
+  for i = n, S.MAX_REPORT_LINES + 1, -1 do e.out[i] = nil end
+  e.out[#e.out + 1] = string.format("... (%d more lines, not kept for the report)",
+                                    n - S.MAX_REPORT_LINES)
+end
+
 local function finish(msg, nres)
   local e = current
   if not e then return end
@@ -160,6 +173,7 @@ local function finish(msg, nres)
   end
   S.entries[#S.entries + 1] = e
   log_append(entry_text(e))
+  keep_for_report(e)
 end
 
 -- An input that did not compile (or, from a log run again, was

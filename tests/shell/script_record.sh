@@ -199,6 +199,10 @@ grep -qF "data read in command 1: \`orchard.csv\` ($bytes bytes, sha256 \`$sha\`
   fail "the script's report lists the data file with its fingerprint"
 for d in typed scripted; do grep -v "^- session started\|^- report written" "$d/r.md" > "$d.md"; done
 cmp -s typed.md scripted.md || { diff typed.md scripted.md > out.txt; fail "the script and the prompt give the same report"; }
+printf 'for i = 1, 2500 do print(i) end\nreport("long.md")\n' > long.lua
+"$exe" long.lua > out.txt 2>&1 || fail "a script that prints 2500 lines exits $?"
+[ "$(grep -c '^[0-9][0-9]*$' long.md)" = 2000 ] || fail "the report keeps 2000 lines of one command's output"
+has_line long.md "... (500 more lines, not kept for the report)" || fail "the report says how many lines it left out"
 ok "report() at the end of a script reports each of its commands, as the prompt does"
 
 # ---- a log run as a script ----
