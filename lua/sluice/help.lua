@@ -674,11 +674,12 @@ a script and prints what the prompt printed.]],
     returns = "path",
     summary = [[Write the session so far as a Markdown report: the metadata (version, start,
 log, data files with their SHA-256), each command (in a script, each top-level
-statement) in a code block with its output, the pictures commands drew (g:draw,
-plot =) as images, and the caution. A path ending in .html gives a
-self-contained page (CommonMark through libcmark, pictures inlined). In a replay with --out DIR a relative path lands in
-DIR, as do those of g:draw, f:write_csv, plot = and exercise{dir=}; a path that
-leaves DIR is blocked.]],
+statement) in a code block with its output (up to 2000 lines of each), the
+pictures commands drew (g:draw, plot =) as images, and the caution. A path
+ending in .html gives a self-contained page (CommonMark through libcmark,
+pictures inlined). In a replay with --out DIR a relative path lands in DIR, as
+do those of g:draw, f:write_csv, plot = and exercise{dir=}; a path that leaves
+DIR is blocked.]],
     example = [[report "orchard-report.html"]] },
   { name = "exercise", topic = "session",
     sig = "exercise{graph=, model=, dir=, treatment=, outcome=, n=, seed=, scenario=, sets=, questions=, digits=, draws=}",
