@@ -161,7 +161,8 @@ function E.check_common(fname, a)
 end
 
 local known = {
-  fit = {data = true, y = true, x = true},
+  fit = {data = true, y = true, x = true, se = true, cluster = true, weights = true,
+         level = true},
   estimate = {data = true, treatment = true, outcome = true, set = true, graph = true,
               method = true, estimand = true, scale = true, interactions = true,
               contrast = true, stabilized = true, truncate = true, boot = true,
@@ -236,11 +237,42 @@ end
 local model_mt = {__name = "sluice.model"}
 model_mt.__index = model_mt
 
+-- What the chosen standard error is, for the line under a model's head.
+local se_words = {
+  classical = "classical",
+  HC0 = "HC0 (heteroskedasticity-robust, White)",
+  HC1 = "HC1 (heteroskedasticity-robust, White, times n/(n-p))",
+  HC3 = "HC3 (heteroskedasticity-robust, leverage-adjusted)",
+}
+
+-- The lines on the standard errors, weights and clusters of a model.
+local function model_notes(m)
+  local se = se_words[m.se_method] or m.se_method
+  if m.se_method == "cluster" then
+    se = string.format("cluster-robust by '%s', %d clusters (Liang-Zeger; factor G/(G-1) (n-1)/(n-p))",
+                       m.cluster, m.clusters)
+  end
+  local df = m.df and (m.df == math.floor(m.df) and string.format("%d", m.df)
+                       or string.format("%.2f", m.df))
+  local dist = string.format("p and %g%% intervals from %s", 100 * m.level,
+                             df and ("t with " .. df .. " df") or "the normal")
+  local lines = {"  SE " .. se .. "; " .. dist}
+  if #lines[1] > 80 then lines = {"  SE " .. se, "  " .. dist} end
+  if m.weights then
+    lines[#lines + 1] = string.format("  weights '%s': sum %s, effective sample size (Kish) %s",
+                                      m.weights, fmt(m.weight_sum), fmt(m.ess))
+  end
+  return table.concat(lines, "\n")
+end
+
 function model_mt.__tostring(m)
   local rows = {}
   for i, t in ipairs(m.terms) do
-    rows[i] = {term = t, est = m.coef[t], se = m.se[t], rse = m.robust_se[t],
-               z = m.coef[t] / m.se[t], p = m.p[t]}
+    rows[i] = {term = t, est = m.coef[t], se = m.se[t], z = m.coef[t] / m.se[t], p = m.p[t],
+               lo = m.lo[t], hi = m.hi[t]}
+    if m.odds_ratio then
+      rows[i].orr, rows[i].orlo, rows[i].orhi = m.odds_ratio[t], m.or_lo[t], m.or_hi[t]
+    end
   end
   local head = m.kind == "ols"
     and string.format("least squares: %s on %d rows (%d dropped for missing values)\n" ..
@@ -250,10 +282,14 @@ function model_mt.__tostring(m)
                      "  log-likelihood %s, %s in %d iterations",
                      m.y, m.n, m.dropped, fmt(m.loglik),
                      m.converged and "converged" or "NOT converged", m.iterations)
-  local text = head .. "\n" .. E.table_text(rows, {
-    {"term", "term", "left"}, {"estimate", "est"}, {"SE", "se"},
-    {m.kind == "ols" and "robust SE (HC3)" or "robust SE", "rse"},
-    {m.kind == "ols" and "t" or "z", "z"}, {"p", "p"}})
+  local cols = {{"term", "term", "left"}, {"estimate", "est"}, {"SE", "se"},
+                {m.kind == "ols" and "t" or "z", "z"}, {"p", "p"}, {"lower", "lo"}, {"upper", "hi"}}
+  if m.odds_ratio then
+    cols[#cols + 1] = {"odds ratio", "orr"}
+    cols[#cols + 1] = {"OR lower", "orlo"}
+    cols[#cols + 1] = {"OR upper", "orhi"}
+  end
+  local text = head .. "\n" .. model_notes(m) .. "\n" .. E.table_text(rows, cols)
   if m.warning and m.warning ~= "" then text = text .. "\n  warning: " .. m.warning end
   return text
 end
@@ -290,6 +326,45 @@ function model_mt:predict(f)
     __tostring = function(p) return string.format("%d predictions", #p) end})
 end
 
+-- Below this many clusters a cluster-robust SE is warned of (common
+-- practice: the sandwich needs many clusters to be near its limit).
+local FEW_CLUSTERS = 30
+
+-- A numeric column named by option key of fit(), or an error naming it.
+local function numeric_column(kind, key, f, name)
+  check_column(kind, key, f, name)
+  if f[name].type == "category" then
+    fail(kind, string.format("%s = '%s' has text values; weights must be numbers", key, name))
+  end
+  return name
+end
+
+-- The options of ols{} and logit{} for S._fit: se =, cluster = (which
+-- alone means se = "cluster"), weights =, level =.
+local function fit_options(kind, a)
+  local o = {}
+  local se = choice(kind, "se", a.se, {"classical", "HC0", "HC1", "HC3", "cluster"})
+  if a.cluster ~= nil then
+    o.cluster = check_column(kind, "cluster", a.data, a.cluster)
+    if se ~= nil and se ~= "cluster" then
+      fail(kind, string.format('cluster = "%s" asks for cluster-robust SEs, but se = "%s"; ' ..
+                               'drop one of them', a.cluster, se))
+    end
+    se = "cluster"
+  elseif se == "cluster" then
+    fail(kind, 'se = "cluster" needs cluster = "column" naming the clusters')
+  end
+  o.se = se or "classical"
+  if a.weights ~= nil then o.weights = numeric_column(kind, "weights", a.data, a.weights) end
+  if a.level ~= nil then
+    if not (type(a.level) == "number" and a.level > 0 and a.level < 1) then
+      fail(kind, "level = " .. show(a.level) .. " must lie strictly between 0 and 1, e.g. 0.95")
+    end
+    o.level = a.level
+  end
+  return o
+end
+
 local function fit(kind, a)
   args(kind, a, known.fit)
   if type(a.y) ~= "string" then fail(kind, "y = must name the response column") end
@@ -299,8 +374,16 @@ local function fit(kind, a)
   end
   local x = as_list(a.x)
   for _, name in ipairs(x) do check_column(kind, "x", a.data, name) end
-  local m = call(kind, S._fit, a.data, a.y, x, kind)
+  local opts = fit_options(kind, a)
+  local m = call(kind, S._fit, a.data, a.y, x, kind, opts)
   m.kind, m.y, m.x = kind, a.y, x
+  m.weights, m.cluster = opts.weights, opts.cluster
+  if m.clusters and m.clusters < FEW_CLUSTERS then
+    local few = string.format("%d clusters in '%s': cluster-robust SEs are unreliable with " ..
+                              "fewer than %d (they tend to be too small)",
+                              m.clusters, opts.cluster, FEW_CLUSTERS)
+    m.warning = (m.warning ~= "" and m.warning .. "; " or "") .. few
+  end
   m._categorical = {}
   for _, name in ipairs(x) do
     if a.data[name].type == "category" then m._categorical[name] = true end

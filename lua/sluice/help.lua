@@ -330,25 +330,54 @@ t = g:test(pupils)                  -- Holm-adjusted, alpha = 0.05
 t[1].verdict, t[1].p_adj, t[1].add
 g:test(pupils, {method = "residual", adjust = "bh", plot = "trial.svg"})]=] },
   { name = "ols", topic = "estimate",
-    sig = "ols{data=, y=, x={...}}",
+    sig = "ols{data=, y=, x={...}, se=, cluster=, weights=, level=}",
     brief = "Least squares regression",
-    returns = "a fitted model: coef, se, robust_se, p, n, r2, :predict(f)",
-    summary = [[Ordinary least squares through GSL (a pivoted QR decomposition, accurate to
-the NIST StRD certified values). An intercept is added; a text column enters
+    returns = "a fitted model: coef, se, p, lo, hi, se_method, n, r2, :predict(f)",
+    summary = [[Ordinary least squares through a streamed Householder QR (accurate to the
+NIST StRD certified values). An intercept is added; a text column enters
 as dummies for every level but the first. Rows with a missing value are
-dropped (n and dropped say how many). robust_se is HC3. Collinear columns
-are an error that names them.]],
+dropped (n and dropped say how many). Collinear columns are an error that
+names them.
+se = "classical" (default), "HC0" (White), "HC1" (HC0 times n/(n-p)),
+"HC3" (each residual over 1 - its leverage; the safest for small n) or
+"cluster" with cluster = "column" (Liang-Zeger, times G/(G-1) (n-1)/(n-p)
+as statsmodels; cluster = alone implies it; fewer than 30 clusters is a
+warning, one an error). The chosen SE gives se, t, p and the intervals lo,
+hi at level (default 0.95): t with n - p degrees of freedom, G - 1 for
+clusters. se_method names it; se_classical and robust_se (HC3) stay.
+weights = "column" fits weighted least squares, minimizing sum w e^2. The
+classical SE takes them as frequency weights (row i stands for w_i rows:
+sigma^2 = sum w e^2 / (sum w - p), df sum w - p); the robust and cluster
+SEs as sampling weights (scores w_i e_i x_i, n the rows of positive
+weight): for survey or inverse-probability weights use se = "HC1" or a
+cluster. A missing, negative or infinite weight, or all weights 0, is an
+error naming the row. weight_sum and ess (Kish: (sum w)^2 / sum w^2) are
+printed.]],
     example = [[m = ols{data = plots, y = "harvest", x = {"mulch", "slope"}}
-m.coef.mulch]] },
+m.coef.mulch, m.lo.mulch, m.hi.mulch
+ols{data = plots, y = "harvest", x = {"mulch"}, se = "HC3"}
+ols{data = plots, y = "harvest", x = {"mulch"}, cluster = "farm", weights = "area"}]] },
   { name = "logit", topic = "estimate",
-    sig = "logit{data=, y=, x={...}}",
-    brief = "Logistic regression",
-    returns = "a fitted model: coef, se, robust_se, p, n, loglik, :predict(f)",
+    sig = "logit{data=, y=, x={...}, se=, cluster=, weights=, level=}",
+    brief = "Logistic regression, with odds ratios",
+    returns = "a fitted model: coef, se, p, lo, hi, odds_ratio, or_lo, or_hi, loglik, :predict(f)",
     summary = [[Logistic regression by iteratively reweighted least squares, for a 0/1
 response. The result says whether it converged; separation (a column that
 predicts the response perfectly) is a warning that names the column.
-:predict(f) gives probabilities.]],
-    example = [[m = logit{data = pupils, y = "passed", x = {"tutoring", "attendance"}}]] },
+:predict(f) gives probabilities. Beside each coefficient: its odds ratio
+exp(coef) and interval exp(lo), exp(hi) (odds_ratio, or_lo, or_hi).
+se = "classical" (default: the inverse information), "HC0", "HC1" (times
+n/(n-p)), "HC3" (leverages of the weighted working design) or "cluster"
+with cluster = "column", as for ols; p and intervals from the normal at
+level (default 0.95). robust_se (HC0) stays. statsmodels 0.13 gives its
+HC0 for HC1 and HC3 of a logit; sluice follows the usual GLM definitions.
+weights = "column": the weighted likelihood; the classical SE is the same
+for frequency and sampling weights, the robust and cluster SEs use scores
+w_i (y_i - mu_i) x_i (sampling weights). Bad weights are errors as in
+ols.]],
+    example = [[m = logit{data = pupils, y = "passed", x = {"tutoring", "attendance"}}
+m.odds_ratio.tutoring, m.or_lo.tutoring, m.or_hi.tutoring
+logit{data = pupils, y = "passed", x = {"tutoring"}, cluster = "school"}]] },
   { name = "estimate", topic = "estimate",
     sig = "estimate{data=, treatment=, outcome=, set= | graph=, method=, se=, weights=, cluster=, boot=, interval=}",
     brief = "The average effect of a treatment",

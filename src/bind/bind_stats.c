@@ -46,11 +46,12 @@ typedef struct design {
   size_t n, p, dropped;
   double *X, *y;
   const char **names;
+  size_t *rows;   /* n: the frame row of each design row */
 } design;
 
 static int design_gc(lua_State *L) {
   design *d = lua_touserdata(L, 1);
-  free(d->X); free(d->y); free(d->names);
+  free(d->X); free(d->y); free(d->names); free(d->rows);
   memset(d, 0, sizeof *d);
   return 0;
 }
@@ -85,7 +86,8 @@ static design *build_design(lua_State *L, const sl_frame *f, int ycol, const int
   d->X = malloc(n * p * sizeof *d->X);
   d->y = malloc(n * sizeof *d->y);
   d->names = calloc(p, sizeof *d->names);
-  if (!d->X || !d->y || !d->names) luaL_error(L, "out of memory");
+  d->rows = malloc(n * sizeof *d->rows);
+  if (!d->X || !d->y || !d->names || !d->rows) luaL_error(L, "out of memory");
   /* term names live in a Lua table kept on the stack */
   lua_createtable(L, (int)p, 0);
   lua_pushliteral(L, "(intercept)");
@@ -115,9 +117,68 @@ static design *build_design(lua_State *L, const sl_frame *f, int ycol, const int
       if (c->type == SL_NUMERIC) x[j++] = c->x[r];
       else for (size_t l = 1; l < c->nlevels; l++) x[j++] = c->code[r] == (int32_t)l;
     }
+    d->rows[row] = r;
     d->y[row++] = f->col[ycol].x[r];
   }
   return d;
+}
+
+/* The weights of the design rows from column wcol, in a userdata pushed;
+** a missing, infinite or negative weight anywhere in the column, or no
+** positive weight among the design rows, is an error naming the column
+** and the row. */
+static double *design_weights(lua_State *L, const sl_frame *f, int wcol, const design *d) {
+  const sl_column *c = &f->col[wcol];
+  if (c->type != SL_NUMERIC) luaL_error(L, "weights: '%s' has text values", c->name);
+  for (size_t r = 0; r < f->nrow; r++) {
+    double v = c->x[r];
+    if (isnan(v)) luaL_error(L, "weights: row %d of '%s' is missing", (int)(r + 1), c->name);
+    if (!isfinite(v) || v < 0) {
+      char num[32];
+      snprintf(num, sizeof num, "%g", v);
+      luaL_error(L, "weights: row %d of '%s' is %s (%s); a weight must be finite and "
+                 "non-negative", (int)(r + 1), c->name, v < 0 ? "negative" : "infinite", num);
+    }
+  }
+  double *w = lua_newuserdatauv(L, d->n * sizeof *w, 0);
+  int any = 0;
+  for (size_t i = 0; i < d->n; i++) { w[i] = c->x[d->rows[i]]; any |= w[i] > 0; }
+  if (!any) luaL_error(L, "weights: every weight in '%s' is 0%s", c->name,
+                       d->dropped ? " among the rows without missing values" : "");
+  return w;
+}
+
+typedef struct keyed { double v; size_t i; } keyed;
+
+static int keyed_cmp(const void *a, const void *b) {
+  double x = ((const keyed *)a)->v, y = ((const keyed *)b)->v;
+  return x < y ? -1 : x > y;
+}
+
+/* Each design row's cluster, 0..*ng-1 (numbered in the order of the
+** column's values or levels), in a userdata pushed; a missing value in
+** the column is an error naming the row. */
+static size_t *design_clusters(lua_State *L, const sl_frame *f, int ccol, const design *d,
+                               size_t *ng) {
+  const sl_column *c = &f->col[ccol];
+  for (size_t r = 0; r < f->nrow; r++)
+    if (missing_cell(c, r)) luaL_error(L, "cluster: row %d of '%s' is missing", (int)(r + 1), c->name);
+  size_t *g = lua_newuserdatauv(L, (d->n ? d->n : 1) * sizeof *g, 0);
+  keyed *k = lua_newuserdatauv(L, (d->n ? d->n : 1) * sizeof *k, 0);
+  for (size_t i = 0; i < d->n; i++) {
+    size_t r = d->rows[i];
+    k[i].v = c->type == SL_NUMERIC ? c->x[r] : (double)c->code[r];
+    k[i].i = i;
+  }
+  qsort(k, d->n, sizeof *k, keyed_cmp);
+  *ng = 0;
+  for (size_t i = 0; i < d->n; i++) {
+    if (i > 0 && k[i].v != k[i - 1].v) (*ng)++;
+    g[k[i].i] = *ng;
+  }
+  if (d->n) (*ng)++;
+  lua_pop(L, 1);
+  return g;
 }
 
 /* Push a table keyed by term name. */
@@ -129,12 +190,37 @@ static void push_by_term(lua_State *L, const design *d, const double *v) {
   }
 }
 
-/* sluice._fit(frame, y, {x...}, "ols" | "logit") -> a table of results */
+/* A table keyed by term: the values v_j transformed by fn (exp), or as
+** they are when fn is NULL. */
+static void push_by_term_fn(lua_State *L, const design *d, const double *v, double (*fn)(double)) {
+  lua_createtable(L, 0, (int)d->p);
+  for (size_t j = 0; j < d->p; j++) {
+    lua_pushnumber(L, fn ? fn(v[j]) : v[j]);
+    lua_setfield(L, -2, d->names[j]);
+  }
+}
+
+static const char *opt_string(lua_State *L, int idx, const char *k, const char *def);
+
+/* The kind of standard error named s (ols.lua has checked it). */
+static sl_vcov_kind vcov_kind(const char *s) {
+  return strcmp(s, "HC0") == 0 ? SL_VCOV_HC0 : strcmp(s, "HC1") == 0 ? SL_VCOV_HC1
+       : strcmp(s, "HC3") == 0 ? SL_VCOV_HC3 : strcmp(s, "cluster") == 0 ? SL_VCOV_CLUSTER
+       : SL_VCOV_CLASSICAL;
+}
+
+/* sluice._fit(frame, y, {x...}, "ols" | "logit" [, {se=, cluster=, weights=,
+** level=}]) -> a table of results: the chosen standard errors (se), with
+** their p-values and intervals at level (t with fit.df degrees of freedom
+** for least squares, normal for logit). */
 static int l_fit(lua_State *L) {
   sl_frame *f = sl_bind_checkframe(L, 1);
   int ycol = column(L, f, 2, luaL_checkstring(L, 2));
   luaL_checktype(L, 3, LUA_TTABLE);
   const char *kind = luaL_checkstring(L, 4);
+  int has_opts = !lua_isnoneornil(L, 5);
+  if (has_opts) luaL_checktype(L, 5, LUA_TTABLE);
+  else { lua_settop(L, 4); lua_newtable(L); }
   size_t nx;
   int *xc = columns(L, f, 3, &nx);
   design *d = build_design(L, f, ycol, xc, nx);
@@ -150,26 +236,63 @@ static int l_fit(lua_State *L) {
         return luaL_error(L, "logit needs a 0/1 response; '%s' takes the value %f",
                           f->col[ycol].name, d->y[i]);
   }
-  int rc = logistic ? sl_logit(d->X, d->y, NULL, d->n, d->p, d->names, 0, 0, &fit, warn,
-                               sizeof warn, &e)
-                    : sl_ols(d->X, d->y, d->n, d->p, d->names, &fit, &e);
+  sl_fit_opts o;
+  memset(&o, 0, sizeof o);
+  o.se = vcov_kind(opt_string(L, 5, "se", "classical"));
+  const char *wname = opt_string(L, 5, "weights", NULL);
+  if (wname) o.w = design_weights(L, f, column(L, f, 5, wname), d);
+  const char *cname = opt_string(L, 5, "cluster", NULL);
+  if (cname) o.cluster = design_clusters(L, f, column(L, f, 5, cname), d, &o.nclusters);
+  if (o.se == SL_VCOV_CLUSTER && !o.cluster) return luaL_error(L, "se = \"cluster\" needs cluster =");
+  lua_getfield(L, 5, "level");
+  double level = lua_isnil(L, -1) ? 0.95 : lua_tonumber(L, -1);
+  lua_pop(L, 1);
+  if (!(level > 0 && level < 1)) return luaL_error(L, "level = must lie strictly between 0 and 1");
+  int rc = logistic ? sl_logit_opts(d->X, d->y, d->n, d->p, d->names, &o, 0, 0, &fit, warn,
+                                    sizeof warn, &e)
+                    : sl_ols_opts(d->X, d->y, d->n, d->p, d->names, &o, &fit, &e);
   if (rc) return sl_bind_raise(L, &e, kind, NULL, 0);
-  lua_createtable(L, 0, 16);
+  double *lo = lua_newuserdatauv(L, 2 * d->p * sizeof *lo, 0), *hi = lo + d->p;
+  lua_createtable(L, 0, 32);
   lua_pushvalue(L, terms);
   lua_setfield(L, -2, "terms");
   push_by_term(L, d, fit.coef); lua_setfield(L, -2, "coef");
-  push_by_term(L, d, fit.se); lua_setfield(L, -2, "se");
+  push_by_term(L, d, fit.se_chosen); lua_setfield(L, -2, "se");
+  push_by_term(L, d, fit.se); lua_setfield(L, -2, "se_classical");
   push_by_term(L, d, fit.robust_se); lua_setfield(L, -2, "robust_se");
-  /* two-sided p-values: t with n - p degrees of freedom (ols), normal (logit) */
+  /* two-sided p-values and intervals: t with fit.df degrees of freedom
+  ** (ols), normal (logit, or no degrees of freedom left) */
+  int normal = logistic || !(fit.df > 0);
+  double q = normal ? gsl_cdf_ugaussian_Pinv(0.5 + level / 2)
+                    : gsl_cdf_tdist_Pinv(0.5 + level / 2, fit.df);
   lua_createtable(L, 0, (int)d->p);
   for (size_t j = 0; j < d->p; j++) {
-    double z = fabs(fit.coef[j] / fit.se[j]), pv;
-    if (logistic || d->n <= d->p) pv = 2 * gsl_cdf_ugaussian_Q(z);
-    else pv = 2 * gsl_cdf_tdist_Q(z, (double)(d->n - d->p));
+    double se = fit.se_chosen[j], z = fabs(fit.coef[j] / se), pv;
+    pv = normal ? 2 * gsl_cdf_ugaussian_Q(z) : 2 * gsl_cdf_tdist_Q(z, fit.df);
+    lo[j] = fit.coef[j] - q * se;
+    hi[j] = fit.coef[j] + q * se;
     lua_pushnumber(L, pv);
     lua_setfield(L, -2, d->names[j]);
   }
   lua_setfield(L, -2, "p");
+  push_by_term(L, d, lo); lua_setfield(L, -2, "lo");
+  push_by_term(L, d, hi); lua_setfield(L, -2, "hi");
+  if (logistic) {   /* odds ratios: exp of the coefficient and of its interval's ends */
+    push_by_term_fn(L, d, fit.coef, exp); lua_setfield(L, -2, "odds_ratio");
+    push_by_term_fn(L, d, lo, exp); lua_setfield(L, -2, "or_lo");
+    push_by_term_fn(L, d, hi, exp); lua_setfield(L, -2, "or_hi");
+  }
+  static const char *const kinds[] = {"classical", "HC0", "HC1", "HC3", "cluster"};
+  lua_pushstring(L, kinds[fit.se_kind]); lua_setfield(L, -2, "se_method");
+  lua_pushnumber(L, level); lua_setfield(L, -2, "level");
+  if (!normal) { lua_pushnumber(L, fit.df); lua_setfield(L, -2, "df"); }
+  if (o.w) {
+    lua_pushnumber(L, fit.wsum); lua_setfield(L, -2, "weight_sum");
+    lua_pushnumber(L, fit.ess); lua_setfield(L, -2, "ess");
+  }
+  if (o.se == SL_VCOV_CLUSTER) {
+    lua_pushinteger(L, (lua_Integer)fit.nclusters); lua_setfield(L, -2, "clusters");
+  }
   lua_pushinteger(L, (lua_Integer)d->n); lua_setfield(L, -2, "n");
   lua_pushinteger(L, (lua_Integer)d->dropped); lua_setfield(L, -2, "dropped");
   if (logistic) {
