@@ -7,15 +7,18 @@
 #include <stdlib.h>
 #include <string.h>
 #include <unistd.h>
+#include <sys/mman.h>
 #include <gsl/gsl_blas.h>
 #include <gsl/gsl_linalg.h>
-#include <gsl/gsl_randist.h>
-#include <gsl/gsl_rng.h>
 #include "sem.h"
 #include "frame_build.h"
+#include "gauss.h"
 #include "regress.h"
 
 #define BLOCK_ROWS 65536   /* rows drawn from one generator */
+#define HUGE_PAGE (2u << 20)  /* a transparent huge page on x86-64 and arm64 */
+#define CHUNK_CELLS 16384     /* rows x nodes solved together: a few hundred KB in cache */
+#define CHUNK_ROWS_MAX 512
 
 void sl_sem_free(sl_sem *m) {
   if (m->names) for (size_t i = 0; i < m->n; i++) free(m->names[i]);
@@ -234,11 +237,10 @@ static uint64_t mix(uint64_t seed, uint64_t k) {
 
 /* Draw the random parts of one row: standard normals z (n) and uniforms
 ** u (n; used by logistic nodes only). */
-static void draw(const sl_sem *m, gsl_rng *r, double *z, double *u) {
-  size_t n = m->n;
-  for (size_t i = 0; i < n; i++) z[i] = gsl_ran_gaussian_ziggurat(r, 1.0);
+static void draw(const sl_sem *m, sl_gauss *g, double *z, double *u) {
+  sl_gauss_normals(g, z, m->n);
   if (m->any_logistic)   /* uniforms only when a node needs them */
-    for (size_t i = 0; i < n; i++) u[i] = gsl_rng_uniform(r);
+    sl_gauss_uniforms(g, u, m->n);
 }
 
 /* Solve the system for one row.  fix >= 0 sets node fix to the value
@@ -260,9 +262,23 @@ static void solve_row(const sl_sem *m, const double *z, const double *u, double 
   }
 }
 
+/* A column of rows doubles that free() releases, on huge pages where the
+** kernel offers them: a simulated frame is written once, and touching
+** 10^7 x 20 doubles page by page costs more than drawing them. */
+static double *column_alloc(size_t rows) {
+  size_t bytes = rows * sizeof(double);
+  if (bytes < HUGE_PAGE) return malloc(bytes);
+  void *p = NULL;
+  if (posix_memalign(&p, HUGE_PAGE, bytes) != 0) return NULL;
+#ifdef MADV_HUGEPAGE
+  madvise(p, bytes, MADV_HUGEPAGE);   /* advice only: without it, small pages */
+#endif
+  return p;
+}
+
 typedef struct sim_job {
   const sl_sem *m;
-  size_t rows, nblocks;
+  size_t rows, nblocks, chunk;
   uint64_t seed;
   double **cols;            /* one array per observed node */
   size_t *col_of;           /* node -> column index, or (size_t)-1 */
@@ -270,28 +286,69 @@ typedef struct sim_job {
   atomic_int bad;
 } sim_job;
 
-static void *sim_worker(void *arg) {
-  sim_job *J = arg;
+/* Solve R rows at once, node by node in topological order, x[i] holding
+** node i's R values: the same operations in the same order as solve_row
+** for each row (so the same values), but each a loop over rows. */
+static void solve_chunk(const sl_sem *m, const double *z, const double *u, double *const *x,
+                        size_t R) {
+  size_t n = m->n;
+  for (size_t k = 0; k < n; k++) {
+    size_t i = (size_t)m->order[k];
+    double *restrict xi = x[i];
+    for (size_t r = 0; r < R; r++) xi[r] = m->a[i];
+    for (uint32_t k2 = m->poff[i]; k2 < m->poff[i + 1]; k2++) {
+      const double *restrict xp = x[m->pidx[k2]];
+      double c = m->pval[k2];
+      for (size_t r = 0; r < R; r++) xi[r] += c * xp[r];
+    }
+    if (m->logistic[i]) {
+      for (size_t r = 0; r < R; r++) xi[r] = u[r * n + i] < 1 / (1 + exp(-xi[r])) ? 1 : 0;
+      continue;
+    }
+    for (uint32_t k2 = m->loff[i]; k2 < m->loff[i + 1]; k2++) {
+      const double *restrict zl = z + m->lidx[k2];
+      double c = m->lval[k2];
+      for (size_t r = 0; r < R; r++) xi[r] += c * zl[r * n];
+    }
+    double cut = m->cut[i];
+    if (!isnan(cut))
+      for (size_t r = 0; r < R; r++) xi[r] = xi[r] > cut ? 1 : 0;
+  }
+}
+
+/* Rows [lo, hi) of one block, a chunk at a time: draw the chunk's rows in
+** row order (the generator's order does not depend on the chunk), solve
+** them into the frame's columns (hidden nodes into scratch). */
+static void sim_block(sim_job *J, sl_gauss *g, double *z, double *u, double *scratch,
+                      double **x, size_t lo, size_t hi) {
   const sl_sem *m = J->m;
   size_t n = m->n;
-  double *buf = malloc(3 * (n ? n : 1) * sizeof *buf);
-  gsl_rng *r = gsl_rng_alloc(gsl_rng_mt19937);
-  if (!buf || !r) { atomic_store(&J->bad, 1); free(buf); if (r) gsl_rng_free(r); return NULL; }
-  double *z = buf, *u = buf + n, *x = buf + 2 * n;
+  for (size_t r0 = lo; r0 < hi; r0 += J->chunk) {
+    size_t R = hi - r0 < J->chunk ? hi - r0 : J->chunk;
+    if (m->any_logistic)
+      for (size_t r = 0; r < R; r++) draw(m, g, z + r * n, u + r * n);
+    else sl_gauss_normals(g, z, R * n);   /* the same draws as row by row */
+    for (size_t i = 0; i < n; i++)
+      x[i] = J->col_of[i] != (size_t)-1 ? J->cols[J->col_of[i]] + r0 : scratch + i * J->chunk;
+    solve_chunk(m, z, u, x, R);
+  }
+}
+
+static void *sim_worker(void *arg) {
+  sim_job *J = arg;
+  size_t n = J->m->n ? J->m->n : 1, cells = J->chunk * n;
+  double *buf = malloc(3 * cells * sizeof *buf);
+  double **x = malloc(n * sizeof *x);
+  sl_gauss *g = malloc(sizeof *g);
+  if (!buf || !x || !g) { atomic_store(&J->bad, 1); free(buf); free(x); free(g); return NULL; }
   for (;;) {
     size_t b = atomic_fetch_add(&J->next, 1);
     if (b >= J->nblocks) break;
-    gsl_rng_set(r, (unsigned long)mix(J->seed, b));
+    sl_gauss_seed(g, (unsigned long)mix(J->seed, b));
     size_t lo = b * BLOCK_ROWS, hi = lo + BLOCK_ROWS < J->rows ? lo + BLOCK_ROWS : J->rows;
-    for (size_t row = lo; row < hi; row++) {
-      draw(m, r, z, u);
-      solve_row(m, z, u, x, -1, 0, 0);
-      for (size_t i = 0; i < n; i++)
-        if (J->col_of[i] != (size_t)-1) J->cols[J->col_of[i]][row] = x[i];
-    }
+    sim_block(J, g, buf, buf + cells, buf + 2 * cells, x, lo, hi);
   }
-  free(buf);
-  gsl_rng_free(r);
+  free(buf); free(x); free(g);
   return NULL;
 }
 
@@ -304,6 +361,9 @@ sl_frame *sl_sem_simulate(const sl_sem *m, size_t rows, uint64_t seed, int threa
   memset(&J, 0, sizeof J);
   J.m = m; J.rows = rows; J.seed = seed;
   J.nblocks = (rows + BLOCK_ROWS - 1) / BLOCK_ROWS;
+  J.chunk = CHUNK_CELLS / (n ? n : 1);
+  if (J.chunk > CHUNK_ROWS_MAX) J.chunk = CHUNK_ROWS_MAX;
+  if (J.chunk < 1) J.chunk = 1;
   J.cols = calloc(nobs ? nobs : 1, sizeof *J.cols);
   J.col_of = malloc((n ? n : 1) * sizeof *J.col_of);
   atomic_init(&J.next, 0);
@@ -313,7 +373,7 @@ sl_frame *sl_sem_simulate(const sl_sem *m, size_t rows, uint64_t seed, int threa
   size_t c = 0;
   for (size_t i = 0; i < n; i++) {
     J.col_of[i] = m->observed[i] ? c : (size_t)-1;
-    if (m->observed[i] && !(J.cols[c++] = malloc(rows * sizeof(double)))) goto nomem;
+    if (m->observed[i] && !(J.cols[c++] = column_alloc(rows))) goto nomem;
   }
   long cores = sysconf(_SC_NPROCESSORS_ONLN);
   int nt = threads > 0 ? threads : (int)(cores > 0 ? cores : 1);
@@ -360,13 +420,13 @@ int sl_sem_effect_mc(const sl_sem *m, int x, int y, size_t draws, uint64_t seed,
   if (draws < 2) return sl_error_set(e, SL_EARG, 0, 0, "draws must be at least 2");
   size_t n = m->n;
   double *buf = malloc(4 * (n ? n : 1) * sizeof *buf);
-  gsl_rng *r = gsl_rng_alloc(gsl_rng_mt19937);
-  if (!buf || !r) { free(buf); if (r) gsl_rng_free(r); return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); }
+  sl_gauss *r = malloc(sizeof *r);
+  if (!buf || !r) { free(buf); free(r); return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); }
   double *z = buf, *u = buf + n, *x1 = buf + 2 * n, *x0 = buf + 3 * n;
   int bin = binary_node(m, x);
   double s = 0, s2 = 0;
   for (size_t k = 0; k < draws; k++) {
-    if (k % BLOCK_ROWS == 0) gsl_rng_set(r, (unsigned long)mix(seed, k / BLOCK_ROWS));
+    if (k % BLOCK_ROWS == 0) sl_gauss_seed(r, (unsigned long)mix(seed, k / BLOCK_ROWS));
     draw(m, r, z, u);
     /* the same random parts under both interventions: common random numbers */
     if (bin) { solve_row(m, z, u, x1, x, 1, 0); solve_row(m, z, u, x0, x, 0, 0); }
@@ -378,7 +438,7 @@ int sl_sem_effect_mc(const sl_sem *m, int x, int y, size_t draws, uint64_t seed,
   double var = (s2 - s * s / (double)draws) / (double)(draws - 1);
   *se = sqrt((var > 0 ? var : 0) / (double)draws);   /* rounding can go below 0 */
   free(buf);
-  gsl_rng_free(r);
+  free(r);
   return SL_OK;
 }
 
@@ -388,12 +448,12 @@ int sl_sem_limit_mc(const sl_sem *m, int x, int y, const int *set, size_t k, siz
   if (draws < p + 1) return sl_error_set(e, SL_EARG, 0, 0, "draws must exceed the number of terms");
   double *X = malloc(draws * p * sizeof *X), *yv = malloc(draws * sizeof *yv);
   double *buf = malloc(3 * (n ? n : 1) * sizeof *buf);
-  gsl_rng *r = gsl_rng_alloc(gsl_rng_mt19937);
+  sl_gauss *r = malloc(sizeof *r);
   int rc = SL_OK;
   if (!X || !yv || !buf || !r) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
   double *z = buf, *u = buf + n, *xv = buf + 2 * n;
   for (size_t d = 0; d < draws; d++) {
-    if (d % BLOCK_ROWS == 0) gsl_rng_set(r, (unsigned long)mix(seed, d / BLOCK_ROWS));
+    if (d % BLOCK_ROWS == 0) sl_gauss_seed(r, (unsigned long)mix(seed, d / BLOCK_ROWS));
     draw(m, r, z, u);
     solve_row(m, z, u, xv, -1, 0, 0);
     double *row = X + d * p;
@@ -410,7 +470,6 @@ int sl_sem_limit_mc(const sl_sem *m, int x, int y, const int *set, size_t k, siz
     sl_fit_free(&fit);
   }
 done:
-  free(X); free(yv); free(buf);
-  if (r) gsl_rng_free(r);
+  free(X); free(yv); free(buf); free(r);
   return rc;
 }
