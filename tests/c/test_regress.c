@@ -657,13 +657,26 @@ static void same_bits_case(size_t n, size_t p) {
     y[i] = eta + gsl_ran_gaussian(r, 1.0 + fabs(X[i * p + 1]));
     t[i] = gsl_rng_uniform(r) < 1 / (1 + exp(-eta));
   }
-  sl_fit a[2], b[2];
+  sl_fit a[2], b[2], c[2], d[2];
   sl_error e;
+  /* the chosen covariances too: weighted cluster-robust least squares and
+  ** a weighted HC3 logit (weights 0.25 to 1.75, 97 clusters) */
+  double *w = malloc(n * sizeof *w);
+  size_t *g = malloc(n * sizeof *g);
+  assert_non_null(w); assert_non_null(g);
+  for (size_t i = 0; i < n; i++) { w[i] = 0.25 + 0.5 * (double)(i % 4); g[i] = i % 97; }
+  sl_fit_opts oc = {w, SL_VCOV_CLUSTER, g, 97}, oh = {w, SL_VCOV_HC3, NULL, 0};
   for (int k = 0; k < 2; k++) {
     openblas_set_num_threads(k + 1);
     assert_int_equal(sl_ols(X, y, n, p, NULL, &a[k], &e), SL_OK);
     assert_int_equal(sl_logit(X, t, NULL, n, p, NULL, 0, 0, &b[k], NULL, 0, &e), SL_OK);
+    assert_int_equal(sl_ols_opts(X, y, n, p, NULL, &oc, &c[k], &e), SL_OK);
+    assert_int_equal(sl_logit_opts(X, t, n, p, NULL, &oh, 0, 0, &d[k], NULL, 0, &e), SL_OK);
   }
+  assert_memory_equal(c[0].cov_chosen, c[1].cov_chosen, p * p * sizeof(double));
+  assert_memory_equal(d[0].cov_chosen, d[1].cov_chosen, p * p * sizeof(double));
+  for (int k = 0; k < 2; k++) { sl_fit_free(&c[k]); sl_fit_free(&d[k]); }
+  free(w); free(g);
   assert_true(b[0].converged);
   assert_memory_equal(a[0].coef, a[1].coef, p * sizeof(double));
   assert_memory_equal(a[0].se, a[1].se, p * sizeof(double));
