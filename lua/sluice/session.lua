@@ -132,11 +132,24 @@ end
 
 -- ---- the session, driven by the shell ----
 
+local pending_at = nil    -- {name=, line=}: where the next entry's code comes from
+
 local function begin(n, typed, expr)
   wrap_output()
   current = {n = n, typed = typed, expr = expr, data = {}, pictures = {},
-             code = expr and show_code(typed) or typed}
+             code = expr and show_code(typed) or typed, at = pending_at}
+  pending_at = nil
   cap = {}
+end
+
+-- The entry's text in the log; an entry of a script also says where its
+-- code stands: "--@ at CHUNKNAME LINE" ("@orchard.lua", "=stdin" or
+-- "=(command line)", and its first line), the name and line it ran under,
+-- so that a replay can run it the same way (LINE - 1 newlines before it).
+local function logged_text(e)
+  local text = entry_text(e)
+  if e.at then text = text .. string.format("--@ at %s %d\n", T.escape(e.at.name), e.at.line) end
+  return text
 end
 
 local function out(s) if cap then cap[#cap + 1] = s end end
@@ -172,7 +185,7 @@ local function finish(msg, nres)
     end
   end
   S.entries[#S.entries + 1] = e
-  log_append(entry_text(e))
+  log_append(logged_text(e))
   keep_for_report(e)
 end
 
@@ -415,23 +428,33 @@ local function log_plan(text, shown)
 end
 
 -- How the shell runs text given as a script: {entries = {{code=, typed=,
--- line=}}} for a script, whole top-level statements each; {log = true,
--- entries = ...} for a session log.  nil and the message when the text
--- does not compile (or the log does not parse).
+-- line=, chunk=}}} for a script, whole top-level statements each, chunk
+-- the script's own chunk name; {log = true, entries = ...} for a session
+-- log.  nil and the message when the text does not compile (or the log
+-- does not parse).
 function S.plan(text, chunkname, shown)
   if K.is_log(text) then return log_plan(text, shown) end
   local body = script_body(text)
   local ok, err = real.load(body, chunkname, "t")
   if not ok then return nil, err end
   local entries = K.split(body, function(c) return real.load(c, "=entry", "t") ~= nil end)
-  for _, e in ipairs(entries) do e.typed = e.code end
+  for _, e in ipairs(entries) do e.typed, e.chunk = e.code, chunkname end
   return {entries = entries}
 end
 
--- Compile entry e of a plan as input k, shown as from the file shown.
+-- Compile entry e of a plan as input k, shown as from the file shown.  A
+-- script's statement runs under the script's own chunk name, after as
+-- many empty lines as precede it, so that every position in it (an error
+-- the script catches, a traceback) is the file's line.  A log's entry runs
+-- as "[input N]", as the prompt ran it; only the error that stops the run
+-- is turned into the log's line (S.where).
 function S.prepare(k, e, shown)
-  origins[k] = {name = shown, line = e.line}
   if e.new_session then S.locals = S.locals_new() end
+  if e.chunk then
+    pending_at = {name = e.chunk, line = e.line}
+    return S.load_entry(string.rep("\n", e.line - 1) .. e.code, e.chunk)
+  end
+  origins[k] = {name = shown, line = e.line}
   return S.load_entry(e.code, "=[input " .. k .. "]")
 end
 

@@ -109,18 +109,23 @@ cat > want.log <<EOF
 -- the orchard's rows
 trees = read_csv "orchard.csv"
 --@ data orchard.csv $bytes $sha
+--@ at @orchard.lua 1
 --@ in 2 (1 line)
 print(#trees)
 --| 2
+--@ at @orchard.lua 3
 --@ in 3 (1 line)
 total = 0
+--@ at @orchard.lua 4
 --@ in 4 (3 lines)
 for i = 1, 3 do
   total = total + i
 end
+--@ at @orchard.lua 6
 --@ in 5 (1 line)
 print(total)
 --| 6
+--@ at @orchard.lua 9
 EOF
 [ -f orchard.log ] || fail "sluice --log LOG script.lua writes LOG"
 head -n 1 orchard.log | grep -qx -- "--@ sluice [0-9.]* session log" || fail "the log's header"
@@ -170,9 +175,25 @@ code=$?
 [ "$code" = 1 ] || fail "a failing script exits 1 (got $code)"
 has "sluice: fails.lua:3: attempt to perform arithmetic on a nil value" "the error names the script's file and line"
 grep -q "not reached" out.txt && fail "the script stops at its error"
-grep -qx -- "--| error: \[input 2\]:2: attempt to perform arithmetic on a nil value" fails.log ||
-  fail "the log records the error as a replay gives it"
+grep -qx -- "--| error: fails.lua:3: attempt to perform arithmetic on a nil value" fails.log ||
+  fail "the log records the error as the script showed it"
+grep -qx -- "--@ at @fails.lua 6" fails.log || fail "the log says where the failing statement stands"
 ok "a failing script exits 1 naming file:line; its log records the error"
+
+# an error the script catches itself, and a traceback, name the file's line
+cat > caught.lua <<'EOF'
+local function cut(n)
+  return n + nil
+end
+local ok, e = pcall(cut, 1)
+print(e)
+print(debug.traceback("here"))
+EOF
+"$exe" caught.lua > out.txt 2>&1 || fail "caught.lua exits $?"
+has_line out.txt "caught.lua:2: attempt to perform arithmetic on a nil value" ||
+  fail "an error the script catches names the script's file and line"
+grep -q "^	caught.lua:6: in " out.txt || fail "a traceback names the script's file and line"
+ok "positions inside a script are the file's lines, also in errors it catches"
 
 # ---- report() at the end of a script ----
 # The same statements typed at the prompt (over a pipe) and run as a script
