@@ -66,5 +66,6 @@ local B, seed = math.tointeger(tonumber(arg[3] or "200")), math.tointeger(tonumb
 local r = estimate{data = d, treatment = "t", outcome = "y",
                    set = {"w1", "w2", "w3", "w4", "w5", "w6"},
                    method = mode, boot = B, seed = seed}
-print(string.format("estimate=%.17g se=%.17g lo=%.17g hi=%.17g boot=%d boot_failed=%d n=%d",
-                    r.estimate, r.se, r.lo, r.hi, r.boot, r.boot_failed, r.n))
+print(string.format("estimate=%.17g se=%.17g lo=%.17g hi=%.17g boot=%d boot_failed=%d n=%d " ..
+                    "se_analytic=%.6g", r.estimate, r.se, r.lo, r.hi, r.boot, r.boot_failed, r.n,
+                    r.se_analytic or 0 / 0))

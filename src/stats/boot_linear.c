@@ -29,9 +29,9 @@ void sl_boot_linear_free(sl_boot_linear *L) {
   memset(L, 0, sizeof *L);
 }
 
-int sl_boot_linear_init(const sl_est_spec *s, const sl_prep *P, sl_boot_linear *L, sl_error *e) {
+int sl_boot_linear_init(const sl_est_spec *s, const sl_prep *P, int inter, sl_boot_linear *L,
+                        sl_error *e) {
   memset(L, 0, sizeof *L);
-  int inter = s->interactions && P->q > 0;
   size_t n = P->n, p = 2 + P->q * (inter ? 2 : 1), m = p;   /* m: p - 1 columns and y */
   L->n = n; L->p = p; L->inter = inter;
   L->Z = malloc(n * m * sizeof *L->Z);
@@ -62,9 +62,7 @@ int sl_boot_linear_init(const sl_est_spec *s, const sl_prep *P, sl_boot_linear *
   return SL_OK;
 }
 
-/* The replicate's coefficients (p) from its counts, or nonzero when the
-** centred cross-products are singular or too ill-conditioned. */
-static int fit(const sl_boot_linear *L, const double *count, double *work, double *beta) {
+int sl_boot_linear_fit(const sl_boot_linear *L, const double *count, double *work, double *beta) {
   size_t n = L->n, p = L->p, m = p;
   size_t rows = SL_GEMM_WORK / (m * m);
   if (rows == 0) rows = 1;
@@ -120,7 +118,7 @@ int sl_boot_linear_point(const sl_est_spec *s, const sl_boot_linear *L, const do
                          double *work, double *est) {
   size_t n = L->n, p = L->p;
   double *beta = work + sl_boot_linear_work(L) - p;
-  if (fit(L, count, work, beta)) return 1;
+  if (sl_boot_linear_fit(L, count, work, beta)) return 1;
   double ma = 0, mb = 0, m = 0;
   for (size_t k = 0; k < n; k++) {
     if (count[k] == 0 || !L->target[k]) continue;

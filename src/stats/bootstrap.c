@@ -25,6 +25,7 @@ typedef struct job {
   const sl_est_spec *s;
   const sl_prep *P;
   const sl_boot_linear *lin;       /* linear standardization from counts, or NULL */
+  const sl_boot_aipw *aipw;        /* AIPW with a linear outcome from counts, or NULL */
   double *est;
   atomic_size_t next, done;
   atomic_int failed_hard;          /* out of memory in a worker */
@@ -57,13 +58,14 @@ static size_t draw(const sl_prep *P, gsl_rng *r, size_t **ix, size_t *cap) {
 /* Replicate b's estimate from its rows ix[0..n): from their counts when
 ** the linear route applies, else by refitting on the rows. */
 static double replicate(const job *J, const size_t *ix, size_t n, double *count, double *work) {
-  if (J->lin) {
+  if (J->lin || J->aipw) {
     memset(count, 0, J->P->n * sizeof *count);
     for (size_t k = 0; k < n; k++) count[ix[k]] += 1;
     if (J->P->w)   /* a drawn row keeps its weight */
       for (size_t k = 0; k < J->P->n; k++) count[k] *= J->P->w[k];
     double est;
-    if (sl_boot_linear_point(J->s, J->lin, count, work, &est) == 0) return est;
+    if (J->lin ? sl_boot_linear_point(J->s, J->lin, count, work, &est) == 0
+               : sl_boot_aipw_point(J->s, J->P, J->aipw, count, work, &est) == 0) return est;
   }
   sl_point pt;
   sl_error e;
@@ -76,10 +78,12 @@ static void *worker(void *arg) {
   job *J = arg;
   size_t cap = J->P->n;
   size_t *ix = malloc(cap * sizeof *ix);
-  double *count = J->lin ? malloc(J->P->n * sizeof *count) : NULL;
-  double *work = J->lin ? malloc(sl_boot_linear_work(J->lin) * sizeof *work) : NULL;
+  int fast = J->lin || J->aipw;
+  size_t nwork = J->lin ? sl_boot_linear_work(J->lin) : J->aipw ? sl_boot_aipw_work(J->aipw) : 0;
+  double *count = fast ? malloc(J->P->n * sizeof *count) : NULL;
+  double *work = fast ? malloc(nwork * sizeof *work) : NULL;
   gsl_rng *r = gsl_rng_alloc(gsl_rng_mt19937);
-  if (!ix || !r || (J->lin && (!count || !work))) {
+  if (!ix || !r || (fast && (!count || !work))) {
     atomic_store(&J->failed_hard, 1);
     free(ix); free(count); free(work);
     if (r) gsl_rng_free(r);
@@ -103,10 +107,14 @@ static void *worker(void *arg) {
 int sl_est_bootstrap(const sl_est_spec *s, const sl_prep *P, double *est, sl_error *e) {
   job J;
   sl_boot_linear lin;
-  J.s = s; J.P = P; J.est = est; J.lin = NULL;
+  sl_boot_aipw aipw;
+  J.s = s; J.P = P; J.est = est; J.lin = NULL; J.aipw = NULL;
   if (s->method == SL_STANDARDIZE && !P->bin_y) {
-    if (sl_boot_linear_init(s, P, &lin, e)) return e->code;
+    if (sl_boot_linear_init(s, P, s->interactions && P->q > 0, &lin, e)) return e->code;
     J.lin = &lin;
+  } else if (s->method == SL_AIPW && !P->bin_y && P->bin_t) {
+    if (sl_boot_aipw_init(s, P, &aipw, e)) return e->code;
+    J.aipw = &aipw;
   }
   atomic_init(&J.next, 0); atomic_init(&J.done, 0); atomic_init(&J.failed_hard, 0);
   for (size_t b = 0; b < s->boot; b++) est[b] = NAN;
@@ -130,6 +138,7 @@ int sl_est_bootstrap(const sl_est_spec *s, const sl_prep *P, double *est, sl_err
   worker(&J);
   for (int i = 0; i < started; i++) pthread_join(th[i], NULL);
   if (J.lin) sl_boot_linear_free(&lin);
+  if (J.aipw) sl_boot_aipw_free(&aipw);
   if (s->progress) s->progress(s->progress_ctx, atomic_load(&J.done), s->boot);
   if (atomic_load(&J.failed_hard)) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory in the bootstrap");
   if (s->stop && *s->stop) return sl_error_set(e, SL_ELIMIT, 0, 0, "interrupted");

@@ -93,11 +93,31 @@ typedef struct sl_boot_linear {
   double *Xa, *Xb;       /* n x p: design rows under the two treatment values */
   unsigned char *target; /* the row belongs to the estimand's target */
 } sl_boot_linear;
-int sl_boot_linear_init(const sl_est_spec *s, const sl_prep *P, sl_boot_linear *L, sl_error *e);
+int sl_boot_linear_init(const sl_est_spec *s, const sl_prep *P, int inter, sl_boot_linear *L,
+                        sl_error *e);
+/* The coefficients (p) of the least-squares fit weighted by count; nonzero
+** when the centred cross-products are singular or too ill-conditioned. */
+int sl_boot_linear_fit(const sl_boot_linear *L, const double *count, double *work, double *beta);
 void sl_boot_linear_free(sl_boot_linear *L);
 size_t sl_boot_linear_work(const sl_boot_linear *L);
 int sl_boot_linear_point(const sl_est_spec *s, const sl_boot_linear *L, const double *count,
                          double *work, double *est);
+
+/* Replicates of AIPW with a linear outcome model from counts
+** (boot_aipw.c): the propensity model by Newton steps on count-weighted
+** cross-products from the whole sample's coefficients, the outcome model
+** as in sl_boot_linear.  Nonzero from the point: refit on the rows. */
+typedef struct sl_boot_aipw {
+  sl_boot_linear lin;    /* the outcome model: treatment x covariates */
+  size_t q1;             /* propensity columns: the intercept and covariates */
+  double *Xp;            /* n x q1 */
+  double *gamma;         /* q1: the whole sample's propensity coefficients */
+} sl_boot_aipw;
+int sl_boot_aipw_init(const sl_est_spec *s, const sl_prep *P, sl_boot_aipw *A, sl_error *e);
+void sl_boot_aipw_free(sl_boot_aipw *A);
+size_t sl_boot_aipw_work(const sl_boot_aipw *A);
+int sl_boot_aipw_point(const sl_est_spec *s, const sl_prep *P, const sl_boot_aipw *A,
+                       const double *count, double *work, double *est);
 
 /* The bootstrap: replicate estimates into est[0..B) (NaN when a replicate
 ** failed). */
