@@ -311,5 +311,16 @@ if grep -q "load_entry" "$replay_lua"; then
 else
   echo "skip  replay of a log with top-level locals (replay.lua does not use S.load_entry yet)"
 fi
+# ... and once it runs a script's entry under its '--@ at' chunk name and
+# line, the log of a failing script (its error at the file's line) replays.
+if grep -q "load_entry" "$replay_lua" && grep -q -- "--@ at" "$repo/lua/sluice/logtext.lua"; then
+  head -n 5 caught.lua > caught2.lua    # without the traceback, which the sandbox blocks
+  "$exe" --log caught.log caught2.lua > out.txt 2>&1 || fail "caught2.lua with --log exits $?"
+  replay_ok caught.log "a script's log with an error it caught"
+  replay_ok fails.log "a failing script's log"
+  ok "the logs of a failing script and of one that catches an error replay"
+else
+  echo "skip  replay of a script's positions (logtext.lua does not read '--@ at' yet)"
+fi
 
 echo "all $n checks passed"
