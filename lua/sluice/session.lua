@@ -132,7 +132,7 @@ end
 
 -- ---- the session, driven by the shell ----
 
-local pending_at = nil    -- {name=, line=}: where the next entry's code comes from
+local pending_at = nil    -- {chunk=, line=}: where the next entry's code comes from
 
 local function begin(n, typed, expr)
   wrap_output()
@@ -148,7 +148,9 @@ end
 -- so that a replay can run it the same way (LINE - 1 newlines before it).
 local function logged_text(e)
   local text = entry_text(e)
-  if e.at then text = text .. string.format("--@ at %s %d\n", T.escape(e.at.name), e.at.line) end
+  if e.at and not text:find("\n%-%-@ at [^\n]*\n$") then   -- unless logtext writes it
+    text = text .. string.format("--@ at %s %d\n", T.escape(e.at.chunk), e.at.line)
+  end
   return text
 end
 
@@ -451,7 +453,7 @@ end
 function S.prepare(k, e, shown)
   if e.new_session then S.locals = S.locals_new() end
   if e.chunk then
-    pending_at = {name = e.chunk, line = e.line}
+    pending_at = {chunk = e.chunk, line = e.line}
     return S.load_entry(string.rep("\n", e.line - 1) .. e.code, e.chunk)
   end
   origins[k] = {name = shown, line = e.line}
