@@ -21,22 +21,10 @@ local exercise_options = {graph = true, model = true, n = true, seed = true, dir
                           treatment = true, outcome = true, scenario = true, draws = true,
                           sets = true, questions = true, digits = true}
 
-local getinfo = debug.getinfo
 
--- "file:line: " of the innermost caller outside sluice's own Lua files:
--- errors point at the user's line, not into sluice.
-local function user_position()
-  for level = 2, 60 do
-    local info = getinfo(level, "Sl")
-    if not info then break end
-    if info.currentline > 0 and not info.short_src:find("^lua/sluice/") then
-      return info.short_src .. ":" .. info.currentline .. ": "
-    end
-  end
-  return ""
-end
-
-local function fail(msg) error(user_position() .. "exercise: " .. msg, 0) end
+-- The public wrapper (src/bind/bind_public.c) puts the user's file and
+-- line in front of the message.
+local function fail(msg) error("exercise: " .. msg, 0) end
 
 -- An error of a function exercise{} called, told as exercise's own: the
 -- positions and the other function's name taken off.
@@ -382,7 +370,7 @@ end
 -- Check the arguments; returns the values the kit is made of.
 local function arguments(o, env)
   if type(o) ~= "table" then
-    error(user_position() .. "bad argument #1 to 'exercise' (a table expected, got " .. type(o) .. ")", 0)
+    error("bad argument #1 to 'exercise' (a table expected, got " .. type(o) .. ")", 0)
   end
   local names, optional = {}, {}
   for k in pairs(exercise_options) do

@@ -401,7 +401,7 @@ int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *
     P->onames[2 + q + m] = nb;
     nb += sprintf(nb, "%s:%s", tname, P->cnames[m]) + 1;
   }
-  if ((rc = code_treatment(s, P, e))) return rc;
+  if ((rc = code_treatment(s, P, e))) { sl_est_prep_free(P); return rc; }
   for (size_t m = 0; m < n; m++)
     P->y[m] = s->outcome >= 0 ? f->col[s->outcome].x[P->rows[m]] : P->t[m];
   P->bin_t = is_binary(P->t, n);

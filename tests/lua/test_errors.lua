@@ -512,15 +512,6 @@ local function run_program(args, input)
   return out, path
 end
 
--- A check that fails today because of a file this test's author does not
--- own: it must keep failing until that is fixed, then move out of here.
-local function known_test(name, why, fn)
-  test(name .. " [known: " .. why .. "]", function()
-    local ok = pcall(fn)
-    if ok then error("passes now: make it an ordinary test", 0) end
-  end)
-end
-
 local script = table.concat({
   'local d = read_csv("tests/data/orchard.csv")',
   'local function cut(f) return f:binarize("rian", 70) end',
@@ -536,13 +527,9 @@ test("a script's error as the shell prints it: the script's line, the public nam
      "the error that ended the script")
 end)
 
--- src/shell/script.c and lua/sluice/session.lua (A): a script runs each
--- top-level statement as a chunk "[input K]", and only the message that
--- ends the script is mapped back to the file; an error the script catches
--- itself names "[input 2]:1".  Fix: load each statement with the script's
--- own chunk name ("@" .. path) and as many newlines before it as lines
--- precede it in the file, so every position is the file's from the start.
-known_test("an error a script catches names the script's file and line", "A, script chunks", function()
+-- A script runs each top-level statement under the script's own chunk name
+-- and line numbers, so an error it catches itself names the file's line.
+test("an error a script catches names the script's file and line", function()
   local out, path = run_program("", script)
   local first = out:match("^([^\n]*)\n")
   eq(first, path .. ":2: bad argument #1 to 'f:binarize' (no column 'rian'; did you mean 'rain'?)")
