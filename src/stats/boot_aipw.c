@@ -26,15 +26,9 @@ void sl_boot_aipw_free(sl_boot_aipw *A) {
   memset(A, 0, sizeof *A);
 }
 
-/* Rows per level-3 product on q columns (one thread; see regress.h). */
-static size_t block_rows(size_t q) {
-  size_t r = SL_GEMM_WORK / (q * q);
-  return r ? r : 1;
-}
-
 size_t sl_boot_aipw_work(const sl_boot_aipw *A) {
   size_t q = A->q1;
-  return sl_boot_linear_work(&A->lin) + q * q + 3 * q + block_rows(q) * q;
+  return sl_boot_linear_work(&A->lin) + q * q + 3 * q + sl_gram_rows(q) * q;
 }
 
 /* The fitted propensity of row k at coefficients g. */
@@ -47,33 +41,27 @@ static double propensity(const sl_boot_aipw *A, size_t k, const double *g) {
 
 /* The logistic model of t on Xp weighted by count, by Newton steps from g
 ** (updated in place); nonzero when it does not settle.  work: q^2 + 2q +
-** block_rows(q) q doubles. */
+** sl_gram_rows(q) q doubles. */
 static int newton(const sl_boot_aipw *A, const double *t, const double *count, double *work,
                   double *g) {
-  size_t n = A->lin.n, q = A->q1, rows = block_rows(q);
+  size_t n = A->lin.n, q = A->q1;
   double *G = work, *sc = G + q * q, *step = sc + q, *blk = step + q;
   gsl_matrix_view Gv = gsl_matrix_view_array(G, q, q);
   double dev_prev = INFINITY;
   for (int it = 0; it < SL_BOOT_NEWTON_MAX; it++) {
-    memset(G, 0, (q * q + q) * sizeof *G);
+    sl_gram gr;
+    sl_gram_start(&gr, G, blk, q);
+    memset(sc, 0, q * sizeof *sc);
     double dev = 0;
-    size_t kb = 0;
     for (size_t k = 0; k < n; k++) {
       if (count[k] == 0) continue;
-      double e = propensity(A, k, g), c = count[k], r = sqrt(c * e * (1 - e));
+      double e = propensity(A, k, g), c = count[k];
       const double *x = A->Xp + k * q;
       dev -= 2 * c * (t[k] ? log(e) : log1p(-e));
-      for (size_t j = 0; j < q; j++) { blk[kb * q + j] = r * x[j]; sc[j] += c * (t[k] - e) * x[j]; }
-      if (++kb == rows) {
-        gsl_matrix_view B = gsl_matrix_view_array(blk, kb, q);
-        gsl_blas_dsyrk(CblasLower, CblasTrans, 1.0, &B.matrix, 1.0, &Gv.matrix);
-        kb = 0;
-      }
+      for (size_t j = 0; j < q; j++) sc[j] += c * (t[k] - e) * x[j];
+      sl_gram_add(&gr, x, sqrt(c * e * (1 - e)));
     }
-    if (kb) {
-      gsl_matrix_view B = gsl_matrix_view_array(blk, kb, q);
-      gsl_blas_dsyrk(CblasLower, CblasTrans, 1.0, &B.matrix, 1.0, &Gv.matrix);
-    }
+    sl_gram_finish(&gr);
     /* sl_logit's rule: |dev - dev_prev| / (|dev| + 0.1) below 1e-10 */
     if (fabs(dev - dev_prev) / (fabs(dev) + 0.1) < 1e-10) return 0;
     dev_prev = dev;

@@ -64,28 +64,20 @@ int sl_boot_linear_init(const sl_est_spec *s, const sl_prep *P, int inter, sl_bo
 
 int sl_boot_linear_fit(const sl_boot_linear *L, const double *count, double *work, double *beta) {
   size_t n = L->n, p = L->p, m = p;
-  size_t rows = SL_GEMM_WORK / (m * m);
-  if (rows == 0) rows = 1;
   double *G = work, *zbar = G + m * m, *blk = zbar + m, N = 0;
-  memset(G, 0, (m * m + m) * sizeof *G);
+  memset(zbar, 0, m * sizeof *zbar);
   gsl_matrix_view Gv = gsl_matrix_view_array(G, m, m);
-  size_t kb = 0;
-  for (size_t k = 0; k < n; k++) {   /* sqrt(count) x row, a block at a time */
+  sl_gram g;
+  sl_gram_start(&g, G, blk, m);
+  for (size_t k = 0; k < n; k++) {
     if (count[k] == 0) continue;
-    double c = count[k], r = sqrt(c);
+    double c = count[k];
     const double *z = L->Z + k * m;
     N += c;
-    for (size_t j = 0; j < m; j++) { blk[kb * m + j] = r * z[j]; zbar[j] += c * z[j]; }
-    if (++kb == rows) {
-      gsl_matrix_view B = gsl_matrix_view_array(blk, kb, m);
-      gsl_blas_dsyrk(CblasLower, CblasTrans, 1.0, &B.matrix, 1.0, &Gv.matrix);
-      kb = 0;
-    }
+    for (size_t j = 0; j < m; j++) zbar[j] += c * z[j];
+    sl_gram_add(&g, z, sqrt(c));
   }
-  if (kb) {
-    gsl_matrix_view B = gsl_matrix_view_array(blk, kb, m);
-    gsl_blas_dsyrk(CblasLower, CblasTrans, 1.0, &B.matrix, 1.0, &Gv.matrix);
-  }
+  sl_gram_finish(&g);
   for (size_t j = 0; j < m; j++) zbar[j] /= N;
   for (size_t i = 0; i < m; i++)   /* the replicate's centred cross-products */
     for (size_t j = 0; j <= i; j++) G[i * m + j] = G[i * m + j] / N - zbar[i] * zbar[j];
@@ -110,8 +102,8 @@ int sl_boot_linear_fit(const sl_boot_linear *L, const double *count, double *wor
 }
 
 size_t sl_boot_linear_work(const sl_boot_linear *L) {
-  size_t m = L->p, rows = SL_GEMM_WORK / (m * m);
-  return m * m + m + (rows ? rows : 1) * m + L->p;
+  size_t m = L->p;
+  return m * m + m + sl_gram_rows(m) * m + L->p;
 }
 
 int sl_boot_linear_point(const sl_est_spec *s, const sl_boot_linear *L, const double *count,

@@ -62,6 +62,18 @@ int sl_est_frontdoor(const sl_est_spec *s, const sl_prep *P, const size_t *ix, s
 int sl_est_iv(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
               sl_point *out, char *warn, sl_error *e);
 
+/* Cross-products of rows given one at a time (gram.c): start with G (q x q,
+** zeroed; the lower triangle is filled) and a block of sl_gram_rows(q) x q
+** doubles; add row x scaled by s (the square root of its weight). */
+typedef struct sl_gram {
+  double *G, *blk;
+  size_t q, rows, kb;
+} sl_gram;
+size_t sl_gram_rows(size_t q);
+void sl_gram_start(sl_gram *a, double *G, double *blk, size_t q);
+void sl_gram_add(sl_gram *a, const double *x, double s);
+void sl_gram_finish(sl_gram *a);
+
 /* Analytic standard errors (influence.c): u = H^-1 d for nd vectors d,
 ** H = sum v x x' / n over X's n rows (SL_EARG when H is singular); and
 ** the contrast's SE from the rows' influence values of mu1 and mu0. */

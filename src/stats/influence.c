@@ -33,25 +33,19 @@
 ** singular H (the working model's columns aliased) is an error. */
 int sl_infl_solve(const double *X, const double *v, size_t n, size_t p, const double *d,
                   size_t nd, double *u, sl_error *e) {
-  size_t c = SL_GEMM_WORK / (p * p);
-  if (c == 0) c = 1;
-  if (c > n) c = n;
-  gsl_matrix *H = gsl_matrix_calloc(p, p), *Z = gsl_matrix_alloc(c, p);
-  if (!H || !Z) {
+  gsl_matrix *H = gsl_matrix_alloc(p, p);
+  double *blk = malloc(sl_gram_rows(p) * p * sizeof *blk);
+  if (!H || !blk) {
     if (H) gsl_matrix_free(H);
-    if (Z) gsl_matrix_free(Z);
+    free(blk);
     return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
   }
-  for (size_t r0 = 0; r0 < n; r0 += c) {   /* a few rows per product: one thread */
-    size_t kr = n - r0 < c ? n - r0 : c;
-    for (size_t k = 0; k < kr; k++) {
-      double s = sqrt(v ? v[r0 + k] : 1);
-      for (size_t j = 0; j < p; j++) gsl_matrix_set(Z, k, j, s * X[(r0 + k) * p + j]);
-    }
-    gsl_matrix_view Zk = gsl_matrix_submatrix(Z, 0, 0, kr, p);
-    gsl_blas_dgemm(CblasTrans, CblasNoTrans, 1.0 / (double)n, &Zk.matrix, &Zk.matrix, 1.0, H);
-  }
-  gsl_matrix_free(Z);
+  sl_gram g;
+  sl_gram_start(&g, H->data, blk, p);
+  double sn = sqrt((double)n);
+  for (size_t k = 0; k < n; k++) sl_gram_add(&g, X + k * p, sqrt(v ? v[k] : 1) / sn);
+  sl_gram_finish(&g);
+  free(blk);
   gsl_error_handler_t *old = gsl_set_error_handler_off();
   int bad = gsl_linalg_cholesky_decomp1(H);
   gsl_set_error_handler(old);
