@@ -450,11 +450,22 @@ end
 -- the script catches, a traceback) is the file's line.  A log's entry runs
 -- as "[input N]", as the prompt ran it; only the error that stops the run
 -- is turned into the log's line (S.where).
+-- A script's statement without a return of its own ends in "return" of
+-- RAN_TO_END, so that one which returns before (a return inside a block at
+-- the script's top level) is seen (S.returned): it ends the script, as it
+-- ends a Lua chunk.
+local RAN_TO_END = "\0sluice: the statement ran to its end"
+function S.returned(...)
+  return not (select("#", ...) == 1 and (...) == RAN_TO_END)
+end
+
 function S.prepare(k, e, shown)
   if e.new_session then S.locals = S.locals_new() end
   if e.chunk then
     pending_at = {chunk = e.chunk, line = e.line}
-    return S.load_entry(string.rep("\n", e.line - 1) .. e.code, e.chunk)
+    local code = e.code
+    if not K.scan(code).ret then code = code .. "\nreturn " .. string.format("%q", RAN_TO_END) end
+    return S.load_entry(string.rep("\n", e.line - 1) .. code, e.chunk)
   end
   origins[k] = {name = shown, line = e.line}
   return S.load_entry(e.code, "=[input " .. k .. "]")
@@ -717,6 +728,7 @@ function S.install(mod, metas, hk)
   hooks.session_load = function(code, name) return S.load_entry(code, name) end
   hooks.session_plan = S.plan
   hooks.session_prepare = S.prepare
+  hooks.session_returned = S.returned
   hooks.session_where = S.where
   hooks.session_logging = function() return log ~= nil end
   hooks.session_start = function()

@@ -110,11 +110,27 @@ static int prepare(lua_State *L, int k, int entry, const char *shown) {
   return LUA_ERRSYNTAX;
 }
 
+/* Whether the script's statement just run (its results from index first
+** to the top) returned before its end: a return at the script's top level,
+** inside a block, which ends the script as it would end a Lua chunk. */
+static int returned(lua_State *L, int first) {
+  int top = lua_gettop(L);
+  if (!push_hook(L, "session_returned")) {
+    lua_pop(L, 1);
+    return 0;
+  }
+  for (int i = first; i <= top; i++)
+    lua_pushvalue(L, i);
+  int yes = lua_pcall(L, top - first + 1, 1, 0) == LUA_OK && lua_toboolean(L, -1);
+  lua_settop(L, top);
+  return yes;
+}
+
 /* Run the entry at index e (a table of the plan) as entry *count + 1 (a
 ** log's entry keeps its number when it is higher).  in_log: an error the
-** entry recorded is expected. */
+** entry recorded is expected.  *ended: the statement ended the script. */
 static int run_entry(lua_State *L, int *count, int e, int in_log,
-                     const char *shown, char **args, int nargs) {
+                     const char *shown, char **args, int nargs, int *ended) {
   lua_getfield(L, e, "n");
   int k = *count + 1, logged = (int)lua_tointeger(L, -1);
   lua_pop(L, 1);
@@ -144,6 +160,7 @@ static int run_entry(lua_State *L, int *count, int e, int in_log,
     lua_pushstring(L, args[i]);
   status = run_call(L, nargs, LUA_MULTRET, RUN_ENTRY);
   if (status == LUA_OK) {
+    *ended = !in_log && returned(L, base + 1);
     log_end(L, NULL, expr ? 1 : 0);   /* a log's show(...) stays one */
   } else {
     const char *text = shown_error(L, k, one_line);
@@ -223,9 +240,10 @@ int script_run(lua_State *L, int *count, const char *text, size_t len,
   lua_pop(L, 1);
   lua_getfield(L, p, "entries");
   lua_Integer n = luaL_len(L, -1);
-  for (lua_Integer i = 1; i <= n && status == LUA_OK; i++) {
+  int ended = 0;
+  for (lua_Integer i = 1; i <= n && status == LUA_OK && !ended; i++) {
     lua_geti(L, p + 1, i);
-    status = run_entry(L, count, lua_gettop(L), in_log, shown, args, nargs);
+    status = run_entry(L, count, lua_gettop(L), in_log, shown, args, nargs, &ended);
     lua_pop(L, 1);
   }
   lua_settop(L, p - 1);

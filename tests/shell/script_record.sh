@@ -52,6 +52,30 @@ grep -q "^error" out.txt && fail "top-level locals over a pipe (-i): an input lo
 for v in 42 82 3 2 41; do grep -q "> $v\$\|^$v\$" out.txt || fail "-i over a pipe prints $v"; done
 ok "top-level locals (plain, local function, <const>, closures, shadowing) persist over a pipe with -i"
 
+# ---- a return at the script's top level ends it ----
+# Lua 5.4 manual 3.3.4: return ends the function, here the main chunk, even
+# from inside a block; what follows does not run.
+cat > early.lua <<'EOF'
+local mode = ...
+print("start")
+if mode == "gen" then
+  print("generated")
+  return
+end
+print("other mode")
+EOF
+"$exe" early.lua gen > out.txt 2>&1 || fail "a script ending in a return inside a block exits $?"
+printf 'start\ngenerated\n' > early.want
+cmp -s out.txt early.want || fail "a return inside if ends the script (got: $(tr '\n' '|' < out.txt))"
+if command -v lua5.4 > /dev/null; then
+  lua5.4 early.lua gen > lua.txt 2>&1
+  cmp -s lua.txt early.want || fail "the expected output is Lua's own"
+fi
+"$exe" early.lua other > out.txt 2>&1
+printf 'start\nother mode\n' > early.want
+cmp -s out.txt early.want || fail "without the return the script goes on"
+ok "a return at the script's top level, inside a block, ends the script as in Lua"
+
 cat > assign_const.lua <<'EOF'
 local k <const> = 5
 k = 6
