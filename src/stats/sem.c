@@ -18,7 +18,7 @@
 #define BLOCK_ROWS 65536   /* rows drawn from one generator */
 #define HUGE_PAGE (2u << 20)  /* a transparent huge page on x86-64 and arm64 */
 #define CHUNK_CELLS 16384     /* rows x nodes solved together: a few hundred KB in cache */
-#define CHUNK_ROWS_MAX 512
+#define CHUNK_ROWS_MAX 512    /* rows of one chunk, however few the nodes */
 
 void sl_sem_free(sl_sem *m) {
   if (m->names) for (size_t i = 0; i < m->n; i++) free(m->names[i]);
@@ -334,6 +334,8 @@ static void sim_block(sim_job *J, sl_gauss *g, double *z, double *u, double *scr
   }
 }
 
+/* One thread: the next block not yet taken, until none is left.  Each
+** block has its own generator, so which thread takes it never matters. */
 static void *sim_worker(void *arg) {
   sim_job *J = arg;
   size_t n = J->m->n ? J->m->n : 1, cells = J->chunk * n;
