@@ -1,7 +1,8 @@
--- sluice.estimate: the public form of the models and estimators: ols{},
--- logit{}, estimate{}, balance{}, overlap{}, with their argument checks
--- and printed tables.  The numbers come from the C primitives S._fit,
--- S._estimate, S._weights, S._histograms.
+-- sluice.estimate: the public form of the estimators, estimate{}, with its
+-- argument checks and printed table, and the argument helpers the other
+-- layers share (sluice.models for ols{} and logit{}, sluice.diagnostics for
+-- balance{} and overlap{}).  The numbers come from the C primitive
+-- S._estimate.
 local P = require "sluice.print"
 local E = {}
 
@@ -161,8 +162,6 @@ function E.check_common(fname, a)
 end
 
 local known = {
-  fit = {data = true, y = true, x = true, se = true, cluster = true, weights = true,
-         level = true},
   estimate = {data = true, treatment = true, outcome = true, set = true, graph = true,
               method = true, estimand = true, scale = true, interactions = true,
               contrast = true, stabilized = true, truncate = true, boot = true,
@@ -175,6 +174,7 @@ known.balance.via, known.balance.instrument = nil, nil
 known.balance.se, known.balance.interval, known.balance.cluster = nil, nil, nil
 known.overlap = {data = true, treatment = true, outcome = true, set = true, graph = true,
                  plot = true, bins = true, weights = true, treated = true}
+E.known = known
 
 -- The argument table, with unknown keys refused (they are typos).
 local function args(fname, a, keys)
@@ -189,6 +189,10 @@ local function args(fname, a, keys)
   if not is_frame(a.data) then fail(fname, "data = must be a data frame (read_csv, read_sql)") end
   return a
 end
+
+E.args = args
+E.as_list = as_list
+E.whole = whole
 
 local function fmt(v)
   if v == nil then return "" end
@@ -230,165 +234,6 @@ function E.table_text(rows, cols)
   local lines = {line(head)}
   for i = 1, #rows do lines[#lines + 1] = line(cells[i]) end
   return table.concat(lines, "\n")
-end
-
--- ---- models ----
-
-local model_mt = {__name = "sluice.model"}
-model_mt.__index = model_mt
-
--- What the chosen standard error is, for the line under a model's head.
-local se_words = {
-  classical = "classical",
-  HC0 = "HC0 (heteroskedasticity-robust, White)",
-  HC1 = "HC1 (heteroskedasticity-robust, White, times n/(n-p))",
-  HC3 = "HC3 (heteroskedasticity-robust, leverage-adjusted)",
-}
-
--- The lines on the standard errors, weights and clusters of a model.
-local function model_notes(m)
-  local se = se_words[m.se_method] or m.se_method
-  if m.se_method == "cluster" then
-    se = string.format("cluster-robust by '%s', %d clusters (Liang-Zeger; factor G/(G-1) (n-1)/(n-p))",
-                       m.cluster, m.clusters)
-  end
-  local df = m.df and (m.df == math.floor(m.df) and string.format("%d", m.df)
-                       or string.format("%.2f", m.df))
-  local dist = string.format("p and %g%% intervals from %s", 100 * m.level,
-                             df and ("t with " .. df .. " df") or "the normal")
-  local lines = {"  SE " .. se .. "; " .. dist}
-  if #lines[1] > 80 then lines = {"  SE " .. se, "  " .. dist} end
-  if m.weights then
-    lines[#lines + 1] = string.format("  weights '%s': sum %s, effective sample size (Kish) %s",
-                                      m.weights, fmt(m.weight_sum), fmt(m.ess))
-  end
-  return table.concat(lines, "\n")
-end
-
-function model_mt.__tostring(m)
-  local rows = {}
-  for i, t in ipairs(m.terms) do
-    rows[i] = {term = t, est = m.coef[t], se = m.se[t], z = m.coef[t] / m.se[t], p = m.p[t],
-               lo = m.lo[t], hi = m.hi[t]}
-    if m.odds_ratio then
-      rows[i].orr, rows[i].orlo, rows[i].orhi = m.odds_ratio[t], m.or_lo[t], m.or_hi[t]
-    end
-  end
-  local head = m.kind == "ols"
-    and string.format("least squares: %s on %d rows (%d dropped for missing values)\n" ..
-                      "  R^2 %s, adjusted %s, residual SD %s",
-                      m.y, m.n, m.dropped, fmt(m.r2), fmt(m.adj_r2), fmt(m.sigma))
-    or string.format("logistic regression: %s on %d rows (%d dropped for missing values)\n" ..
-                     "  log-likelihood %s, %s in %d iterations",
-                     m.y, m.n, m.dropped, fmt(m.loglik),
-                     m.converged and "converged" or "NOT converged", m.iterations)
-  local cols = {{"term", "term", "left"}, {"estimate", "est"}, {"SE", "se"},
-                {m.kind == "ols" and "t" or "z", "z"}, {"p", "p"}, {"lower", "lo"}, {"upper", "hi"}}
-  if m.odds_ratio then
-    cols[#cols + 1] = {"odds ratio", "orr"}
-    cols[#cols + 1] = {"OR lower", "orlo"}
-    cols[#cols + 1] = {"OR upper", "orhi"}
-  end
-  local text = head .. "\n" .. model_notes(m) .. "\n" .. E.table_text(rows, cols)
-  if m.warning and m.warning ~= "" then text = text .. "\n  warning: " .. m.warning end
-  return text
-end
-
--- Predictions for the rows of a frame: a list (NaN where a value is missing).
-function model_mt:predict(f)
-  if getmetatable(self) ~= model_mt then
-    error("m:predict: call it on a model from ols{} or logit{}, as m:predict(f)", 0)
-  end
-  if not is_frame(f) then error("m:predict: expects a data frame, got " .. show(f), 0) end
-  local n, out = #f, {}
-  local cols = {}
-  for i, term in ipairs(self.terms) do
-    if i > 1 then
-      local col, level = term:match("^(.-)=(.*)$")
-      if not (col and self._categorical[col]) then col, level = term, nil end
-      local ok, c = pcall(function() return f[col] end)
-      if not ok or c == nil then error("m:predict: the frame has no column '" .. col .. "'", 0) end
-      cols[#cols + 1] = {c = c, level = level, b = self.coef[term]}
-    end
-  end
-  local b0 = self.coef["(intercept)"]
-  for r = 1, n do
-    local eta = b0
-    for _, t in ipairs(cols) do
-      local v = t.c[r]
-      if v == nil then eta = 0 / 0; break end
-      if t.level then eta = eta + (v == t.level and t.b or 0) else eta = eta + v * t.b end
-    end
-    if self.kind == "logit" then eta = 1 / (1 + math.exp(-eta)) end
-    out[r] = eta
-  end
-  return setmetatable(out, {__name = "sluice.predictions",
-    __tostring = function(p) return string.format("%d predictions", #p) end})
-end
-
--- Below this many clusters a cluster-robust SE is warned of (common
--- practice: the sandwich needs many clusters to be near its limit).
-local FEW_CLUSTERS = 30
-
--- A numeric column named by option key of fit(), or an error naming it.
-local function numeric_column(kind, key, f, name)
-  check_column(kind, key, f, name)
-  if f[name].type == "category" then
-    fail(kind, string.format("%s = '%s' has text values; weights must be numbers", key, name))
-  end
-  return name
-end
-
--- The options of ols{} and logit{} for S._fit: se =, cluster = (which
--- alone means se = "cluster"), weights =, level =.
-local function fit_options(kind, a)
-  local o = {}
-  local se = choice(kind, "se", a.se, {"classical", "HC0", "HC1", "HC3", "cluster"})
-  if a.cluster ~= nil then
-    o.cluster = check_column(kind, "cluster", a.data, a.cluster)
-    if se ~= nil and se ~= "cluster" then
-      fail(kind, string.format('cluster = "%s" asks for cluster-robust SEs, but se = "%s"; ' ..
-                               'drop one of them', a.cluster, se))
-    end
-    se = "cluster"
-  elseif se == "cluster" then
-    fail(kind, 'se = "cluster" needs cluster = "column" naming the clusters')
-  end
-  o.se = se or "classical"
-  if a.weights ~= nil then o.weights = numeric_column(kind, "weights", a.data, a.weights) end
-  if a.level ~= nil then
-    if not (type(a.level) == "number" and a.level > 0 and a.level < 1) then
-      fail(kind, "level = " .. show(a.level) .. " must lie strictly between 0 and 1, e.g. 0.95")
-    end
-    o.level = a.level
-  end
-  return o
-end
-
-local function fit(kind, a)
-  args(kind, a, known.fit)
-  if type(a.y) ~= "string" then fail(kind, "y = must name the response column") end
-  check_column(kind, "y", a.data, a.y)
-  if a.x ~= nil and type(a.x) ~= "string" and type(a.x) ~= "table" then
-    fail(kind, "x = must be a column name or a list of names, got " .. show(a.x))
-  end
-  local x = as_list(a.x)
-  for _, name in ipairs(x) do check_column(kind, "x", a.data, name) end
-  local opts = fit_options(kind, a)
-  local m = call(kind, S._fit, a.data, a.y, x, kind, opts)
-  m.kind, m.y, m.x = kind, a.y, x
-  m.weights, m.cluster = opts.weights, opts.cluster
-  if m.clusters and m.clusters < FEW_CLUSTERS then
-    local few = string.format("%d clusters in '%s': cluster-robust SEs are unreliable with " ..
-                              "fewer than %d (they tend to be too small)",
-                              m.clusters, opts.cluster, FEW_CLUSTERS)
-    m.warning = (m.warning ~= "" and m.warning .. "; " or "") .. few
-  end
-  m._categorical = {}
-  for _, name in ipairs(x) do
-    if a.data[name].type == "category" then m._categorical[name] = true end
-  end
-  return setmetatable(m, model_mt)
 end
 
 -- ---- the estimate ----
@@ -761,7 +606,7 @@ local function treated_text(fname, v)
        .. show(v))
 end
 
-local function spec(fname, a)
+function E.spec(fname, a)
   args(fname, a, known[fname])
   check_column(fname, "treatment", a.data, a.treatment)
   if fname == "estimate" or a.outcome ~= nil then check_column(fname, "outcome", a.data, a.outcome) end
@@ -1023,7 +868,7 @@ function E.estimate(a)
   if type(a) == "table" and a.instrument ~= nil then
     fail("estimate", 'instrument = applies to method = "iv"')
   end
-  local set, why, opts = spec("estimate", a)
+  local set, why, opts = E.spec("estimate", a)
   local outcome = a.outcome
   local r = call("estimate", S._estimate, a.data, a.treatment, outcome, set, opts)
   r.method, r.estimand, r.scale = opts.method, opts.estimand, opts.scale
@@ -1037,161 +882,9 @@ function E.estimate(a)
   return setmetatable(r, estimate_mt)
 end
 
--- ---- diagnostics ----
-
--- Standardized mean difference of x between t = 1 and t = 0, weighted.
-local function smd(x, t, w)
-  local s = {[0] = {0, 0, 0}, [1] = {0, 0, 0}}
-  for i = 1, #x do
-    local g = s[t[i]]
-    g[1] = g[1] + w[i]; g[2] = g[2] + w[i] * x[i]; g[3] = g[3] + w[i] * x[i] * x[i]
-  end
-  local function mv(g) local m = g[2] / g[1]; return m, g[3] / g[1] - m * m end
-  local m1, v1 = mv(s[1])
-  local m0, v0 = mv(s[0])
-  local pooled = math.sqrt((v1 + v0) / 2)
-  if pooled == 0 then return 0 end
-  return (m1 - m0) / pooled
-end
-
-local balance_mt = {__name = "sluice.balance"}
-function balance_mt.__tostring(b)
-  return string.format("covariate balance between treated and control (%s weights for the %s)\n",
-                       b.weights, b.estimand) ..
-         E.table_text(b, {{"covariate", "covariate", "left"}, {"SMD before", "before"},
-                          {"SMD after", "after"}, {"", "flag", "left"}}) ..
-         "\n  * |SMD| > 0.1 after weighting (common practice; Austin 2009)"
-end
-
--- A covariate that takes one value among the treated and another among
--- the controls: the treatment under another name; no weights balance it.
-local function separates(x, t)
-  local v = {}
-  for i = 1, #x do
-    local g = t[i]
-    if v[g] == nil then v[g] = x[i] elseif v[g] ~= x[i] then return false end
-  end
-  return v[0] ~= nil and v[1] ~= nil and v[0] ~= v[1]
-end
-
-function E.balance(a)
-  local set, _, opts = spec("balance", a)
-  for _, name in ipairs(set) do
-    if name == a.treatment then
-      fail("balance", "set = holds the treatment '" .. name .. "': a covariate cannot be the treatment")
-    end
-  end
-  opts.method = "ipw"
-  local ps, w, t, rows = call("balance", S._weights, a.data, a.treatment, a.outcome, set, opts)
-  local out = {weights = "inverse probability", estimand = opts.estimand}
-  local ones = {}   -- before weighting: the rows' own weights, or 1
-  local sw = a.weights and a.data[a.weights]
-  for i = 1, #w do ones[i] = sw and sw[rows[i]] or 1 end
-  if sw then out.weights = "inverse probability times " .. P.name(a.weights) end
-  for _, name in ipairs(set) do
-    local c = a.data[name]
-    local function add(label, x)
-      if separates(x, t) then
-        fail("balance", string.format("the covariate '%s' takes one value among the treated and " ..
-             "another among the controls: it is the treatment '%s' under another name, and its " ..
-             "SMD is not defined", label, a.treatment))
-      end
-      local before, after = smd(x, t, ones), smd(x, t, w)
-      out[#out + 1] = {covariate = label, before = before, after = after,
-                       flag = math.abs(after) > 0.1 and "*" or ""}
-    end
-    if c.type == "category" then
-      local lv = c:levels()
-      for l = 2, #lv do
-        local x = {}
-        for i, r in ipairs(rows) do x[i] = c[r] == lv[l] and 1 or 0 end
-        add(name .. "=" .. lv[l], x)
-      end
-    else
-      local x = {}
-      for i, r in ipairs(rows) do x[i] = c[r] end
-      add(name, x)
-    end
-  end
-  return setmetatable(out, balance_mt)
-end
-
-local overlap_mt = {__name = "sluice.overlap"}
-function overlap_mt.__tostring(o)
-  local lines = {"propensity of treatment by group (" .. o.n .. " rows)",
-                 E.table_text(o.groups, {{"group", "group", "left"}, {"n", "n"}, {"min", "min"},
-                                         {"q1", "q1"}, {"median", "median"}, {"q3", "q3"},
-                                         {"max", "max"}}),
-                 "", "  propensity  treated (#)   control (o)"}
-  local maxc, first, last = 1, #o.hist, 1
-  for k = 1, #o.hist do
-    maxc = math.max(maxc, o.hist[k][1], o.hist[k][2])
-    if o.hist[k][1] + o.hist[k][2] > 0 then first = math.min(first, k); last = k end
-  end
-  for k = first, last do
-    local a, b = o.hist[k][1], o.hist[k][2]
-    lines[#lines + 1] = string.format("  %4.2f-%4.2f  %-12s  %s", (k - 1) / #o.hist, k / #o.hist,
-      string.rep("#", math.floor(12 * a / maxc + 0.5)),
-      string.rep("o", math.floor(12 * b / maxc + 0.5))):gsub("%s+$", "")
-  end
-  if o.extreme > 0 then
-    lines[#lines + 1] = string.format("  warning: %d propensities outside [0.01, 0.99] " ..
-                                      "(common practice): weights there are unstable", o.extreme)
-  end
-  if o.plot then lines[#lines + 1] = "  picture: " .. o.plot end
-  return table.concat(lines, "\n")
-end
-
-local function quantiles(v)
-  table.sort(v)
-  local function q(p)
-    local h = (#v - 1) * p
-    local lo = math.floor(h)
-    if lo + 1 >= #v then return v[#v] end
-    return v[lo + 1] + (h - lo) * (v[lo + 2] - v[lo + 1])
-  end
-  return {n = #v, min = v[1], q1 = q(0.25), median = q(0.5), q3 = q(0.75), max = v[#v]}
-end
-
-function E.overlap(a)
-  local set, _, opts = spec("overlap", a)
-  local bins = 20
-  if a.bins ~= nil then
-    bins = whole(a.bins, 1, 1000)
-    if not bins then fail("overlap", "bins = " .. show(a.bins) .. " must be a whole number from 1 to 1000") end
-  end
-  if a.plot ~= nil and type(a.plot) ~= "string" then
-    fail("overlap", "plot = must be a file name ending in .svg, .png or .pdf, got " .. show(a.plot))
-  end
-  local ps, _, t = call("overlap", S._weights, a.data, a.treatment, a.outcome, set, opts)
-  local g1, g0, extreme = {}, {}, 0
-  local hist = {}
-  for k = 1, bins do hist[k] = {0, 0} end
-  for i = 1, #ps do
-    if t[i] == 1 then g1[#g1 + 1] = ps[i] else g0[#g0 + 1] = ps[i] end
-    if ps[i] < 0.01 or ps[i] > 0.99 then extreme = extreme + 1 end
-    local k = math.min(bins, math.floor(ps[i] * bins) + 1)
-    local h = hist[k]
-    if t[i] == 1 then h[1] = h[1] + 1 else h[2] = h[2] + 1 end
-  end
-  local treated, control = quantiles({table.unpack(g1)}), quantiles({table.unpack(g0)})
-  treated.group, control.group = "treated", "control"
-  local o = {groups = {treated, control}, n = #ps, extreme = extreme, hist = hist, ps = ps}
-  if a.plot then
-    o.plot = call("overlap", S._histograms, a.plot, "Propensity of " .. a.treatment .. " by group",
-                  "fitted propensity", g1, "treated", g0, "control", 0, 1, bins)
-  end
-  return setmetatable(o, overlap_mt)
-end
-
-function E.install(M, metas)
+function E.install(M)
   S = M
-  metas.model = model_mt   -- its methods are made public with the module's
-  M.ols = function(a) return fit("ols", a) end
-  M.logit = function(a) return fit("logit", a) end
   M.estimate = E.estimate
-  M.balance = E.balance
-  M.overlap = E.overlap
 end
 
 return E

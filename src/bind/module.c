@@ -98,7 +98,7 @@ int luaopen_sluice(lua_State *L) {
   lua_pushliteral(L, SLUICE_VERSION);
   lua_setfield(L, -2, "version");
   /* the Lua layer: printing, then help; each may add to the module */
-  const char *layers[] = {"sluice.print", "sluice.explain", "sluice.identify", "sluice.frame", "sluice.estimate", "sluice.compare", "sluice.citest", "sluice.sensitivity", "sluice.session", "sluice.replay",
+  const char *layers[] = {"sluice.print", "sluice.explain", "sluice.identify", "sluice.frame", "sluice.estimate", "sluice.models", "sluice.diagnostics", "sluice.compare", "sluice.citest", "sluice.sensitivity", "sluice.session", "sluice.replay",
                           "sluice.help", NULL};
   for (int i = 0; layers[i]; i++) {
     require(L, layers[i]);     /* a table with install(M, metas, hooks) */
