@@ -9,7 +9,7 @@ PYTHON   ?= $(shell test -x /usr/bin/python3 && echo /usr/bin/python3 || echo py
 PKGS     := lua5.4 gsl libgvc readline sqlite3 plplot libsodium libcmark
 PKGCFLAGS = $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
 LIBLIBS   = $(shell pkg-config --libs libgvc sqlite3 plplot libsodium 2>/dev/null) $(shell pkg-config --libs libcmark) -lcsv \
-            -lgsl -lopenblas -lpthread -lm
+            -lgsl -lopenblas -lpthread -lm -lpq
 PKGLIBS   = $(shell pkg-config --libs lua5.4 readline libseccomp 2>/dev/null) $(LIBLIBS)
 SANITIZE ?=
 OPT      ?= -O2
@@ -17,7 +17,7 @@ CFLAGS   ?= $(OPT) -g
 WERROR   ?= -Werror
 ALLCFLAGS = -std=c11 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE -fPIC \
             -Wall -Wextra $(WERROR) $(SANITIZE) $(CFLAGS) \
-            -Isrc/graph -Isrc/stats -Isrc/bind $(PKGCFLAGS) \
+            -Isrc/graph -Isrc/stats -Isrc/bind $(PKGCFLAGS) -I/usr/include/postgresql \
             -DSLUICE_VERSION='"$(VERSION)"'
 LDFLAGS  += $(SANITIZE)
 

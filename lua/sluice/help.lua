@@ -737,6 +737,31 @@ file names; other files in it are left alone. An unknown argument or
 part is an error naming the closest.]],
     example = [=[exercise{graph = g, model = m, treatment = "mulch", outcome = "harvest",
          n = 300, seed = 4, dir = "kit", questions = {"valid", "estimate"}}]=] },
+  { name = "connect", topic = "data",
+    sig = "connect(target); db:table(name), db:query(sql), db:close()",
+    brief = "Connect to a database and read its tables lazily",
+    returns = "a connection; its tables and queries as lazy tables",
+    summary = [[target is an SQLite file (read through the SQLite built into sluice) or a
+PostgreSQL URI, postgresql://user@host:port/dbname, as libpq takes it (a
+socket folder as ?host=/path). db:table(name) takes the exact name of a
+table or view, whatever characters it holds (an unknown name suggests the
+closest); db:query(sql) takes one SELECT. Each gives a lazy table t that
+knows its columns and their types but holds no rows: t:names(),
+t:types() ({column = "number" or "category"}), #t (counted by the
+database), t:summary() (as f:summary(), computed by queries), t:head(n)
+(the first n rows, 6 unless given, as a frame) and t:fetch{limit=} (every
+row as a frame; more than 1000000 rows is refused unless limit is raised,
+math.huge for none). Whole numbers, reals and booleans are numbers; texts
+and other types categories; NULL is missing. sluice only reads: an SQLite
+file is opened read-only, and every PostgreSQL query runs in a read-only
+transaction that is rolled back. Names are quoted and values bound, never
+pasted into SQL. tostring(db) names the engine, file or database and user,
+never a password. db:close() ends the connection; its tables then say so.
+Errors relay the engine's own message on one line. Ctrl-C cancels a
+query.]],
+    example = [[db = connect "survey.db"      -- or "postgresql:///survey?host=/run/postgresql"
+trees = db:table "trees"
+#trees; trees:summary(); f = trees:fetch()]] },
 }
 
 -- The entries of the data frame functions live beside their binding.
@@ -751,6 +776,11 @@ end
 -- the methods of an identification result are told in g:identify's entry
 for _, k in ipairs({"r:evaluate", "evaluate", "r:latex", "latex"}) do
   by_name[k] = by_name[k] or by_name["g:identify"]
+end
+-- the methods of a connection and of a lazy table are told in connect's
+for _, k in ipairs({"db:table", "db:query", "db:close", "t:names", "t:types", "t:summary",
+                    "t:head", "t:fetch"}) do
+  by_name[k] = by_name[k] or by_name["connect"]
 end
 
 -- Edit distance, for suggestions.

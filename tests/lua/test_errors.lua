@@ -122,6 +122,7 @@ local spec = {
               opt = {at = 2, key = "delm", real = "delim", value = '","'}},
   read_sql = {P, "read_sql(%s)", {'"tests/data/none.db"', '"SELECT 1"', '{limit = 5}'}, need = 2,
               opt = {at = 3, key = "limt", real = "limit", value = "5"}},
+  connect = {P, "connect(%s)", {'"tests/data/none.db"'}, need = 1},
   ["f:names"] = {P, "d:names(%s)", {}},
   ["f:column"] = {P, "d:column(%s)", {'"yield"'}, need = 1,
                   names = {{at = 1, bad = '"yeild"', near = "yield"}}},

@@ -1,0 +1,65 @@
+/*
+** db_internal.h: what db.c (the engine-neutral queries) shares with the
+** two engines, db_sqlite.c and db_pg.c.  Internal to src/stats.
+*/
+#ifndef SL_DB_INTERNAL_H
+#define SL_DB_INTERNAL_H
+
+#include "db.h"
+
+/* The kind of a cell of a result row. */
+enum { SL_DB_CELL_NULL = 0, SL_DB_CELL_NUMBER, SL_DB_CELL_TEXT, SL_DB_CELL_BLOB };
+
+/* A row of a running query, as the engine's cursor sees it. */
+typedef struct sl_db_row { const sl_db *db; void *cur; int row; } sl_db_row;
+
+/* Called once per row (i from 0); returns SL_OK to go on, SL_DB_STOP to end
+** the query early without an error, or an error code with e filled. */
+#define SL_DB_STOP (-1)
+typedef int (*sl_db_row_fn)(void *ctx, const sl_db_row *r, size_t i, sl_error *e);
+
+/* A bound parameter: a double or a 64-bit integer. */
+typedef struct sl_db_param { int is_int; double x; int64_t i; } sl_db_param;
+
+/* Columns of a described statement; types SL_NUMERIC, SL_CATEGORICAL, or
+** -1 when the engine cannot tell without looking at a value. */
+typedef struct sl_db_desc {
+  size_t n;
+  char **names, **sqltypes;
+  int *types;
+  int *pgbool;   /* PostgreSQL boolean: a number through CAST(... AS INTEGER) */
+} sl_db_desc;
+void sl_db_desc_free(sl_db_desc *d);
+
+typedef struct sl_db_ops {
+  const char *engine;          /* "SQLite", "PostgreSQL" */
+  int (*exec)(sl_db *db, const char *sql, const sl_db_param *p, size_t np, sl_db_row_fn fn,
+              void *ctx, sl_error *e);
+  int (*describe)(sl_db *db, const char *sql, sl_db_desc *d, sl_error *e);
+  /* the SQL that lists the names of tables and views, one column */
+  const char *tables_sql;
+  int (*kind)(const sl_db_row *r, int j);
+  double (*number)(const sl_db_row *r, int j);
+  const char *(*text)(const sl_db_row *r, int j, size_t *len);
+  void (*disconnect)(sl_db *db);
+  char *(*label)(const sl_db *db, char *buf, size_t size);
+} sl_db_ops;
+
+struct sl_db {
+  const sl_db_ops *ops;
+  int engine;
+  volatile int *stop;
+  void *h;                     /* sqlite3 * or PGconn *; NULL once closed */
+  char *path;                  /* SQLite: the file */
+  int version;                 /* PostgreSQL: PQserverVersion */
+  char label[256];             /* sl_db_describe's text, made while connected */
+};
+
+/* Placeholder k (1-based) in the engine's syntax: "?k" or "$k". */
+const char *sl_db_placeholder(const sl_db *db, int k, char buf[16]);
+
+/* The engines (db_sqlite.c, db_pg.c): fill db or return an error. */
+int sl_db_sqlite_open(sl_db *db, const char *path, sl_error *e);
+int sl_db_pg_open(sl_db *db, const char *uri, sl_error *e);
+
+#endif
