@@ -6,8 +6,9 @@
 set -e
 build="make gcc pkg-config lua5.4 liblua5.4-dev libgsl-dev libopenblas-dev
 libreadline-dev libgraphviz-dev libcsv-dev libsqlite3-dev libplplot-dev
-libsodium-dev plplot-driver-cairo libcmark-dev libseccomp-dev"
-check="libcmocka-dev python3 python3-networkx python3-statsmodels python3-pandas python3-scipy"
+libsodium-dev plplot-driver-cairo libcmark-dev libseccomp-dev libpq-dev"
+check="libcmocka-dev python3 python3-networkx python3-statsmodels python3-pandas python3-scipy
+postgresql-15 postgresql-client-15"
 want=$build
 [ "$1" = check ] && want="$build $check"
 [ "$1" = fuzz ] && want="$build clang libclang-rt-dev"
