@@ -20,6 +20,10 @@
 --   --| sluice-logs/session-20260101-000000.lua
 --   --@ volatile 1                        output line 1 is sluice's own and
 --                                         changes between runs (the log's path)
+--   --@ in 5 (1 line)                     an entry of a script ends with the
+--   local area = 6 * 7                    chunk name and line its code had in
+--   --@ at @orchard.lua 12                the script; replay runs it so (the
+--                                         name and line only label messages)
 --
 -- The line count makes entry boundaries unforgeable: typed text (a long
 -- string holding "--@ in 99", say) is code, whatever it looks like.  Every
@@ -45,6 +49,9 @@ local concat, move = table.concat, table.move
 T.MAX_DIGITS = 15
 T.MAX_LINES = 4000000   -- lines of a log (the parser keeps each as a string)
 T.MAX_VERSION = 32      -- characters of a version in a header line
+T.MAX_CHUNK = 4096      -- bytes of the chunk name of a '--@ at' line
+T.MAX_AT_LINE = 10000000  -- line of a '--@ at' line (replay puts that many
+                          -- newlines before the entry's code)
 
 -- ---- escaping ----
 
@@ -146,7 +153,8 @@ local function lines_word(k) return k == 1 and "1 line" or k .. " lines" end
 
 -- The text of one entry: e = {n=, typed=, expr=, skip=, code=, out = {lines},
 -- data = {{path=, bytes=, sha256=}}, pictures = {paths}, volatile = {[line]
--- = true}}.  The output of a query of the log's path is marked volatile.
+-- = true}, at = {chunk=, line=}}.  The output of a query of the log's path is
+-- marked volatile; the place of a script's entry (at) is its last line.
 function T.entry_text(e)
   local out = {}
   if e.skip then
@@ -169,6 +177,9 @@ function T.entry_text(e)
     out[#out + 1] = format("--@ data %s %d %s", T.escape(d.path), d.bytes, T.escape(d.sha256))
   end
   for _, p in ipairs(e.pictures or {}) do out[#out + 1] = "--@ picture " .. T.escape(p) end
+  if e.at and not e.skip then
+    out[#out + 1] = format("--@ at %s %d", T.escape(e.at.chunk), e.at.line)
+  end
   return concat(out, "\n") .. "\n"
 end
 
@@ -247,6 +258,22 @@ local function add_meta(e, l)
   end
   local pic = match(l, "^%-%-@ picture (.+)$")
   if pic then e.pictures[#e.pictures + 1] = T.escape(pic) return nil end
+  local chunk, at = match(l, "^%-%-@ at ([=@][^\0]*) (%d+)$")
+  if chunk then
+    local k = number(at)
+    if not k or k < 1 or k > T.MAX_AT_LINE then
+      return format("the line of '--@ at' is not a whole number from 1 to %d", T.MAX_AT_LINE)
+    end
+    if #chunk > T.MAX_CHUNK then
+      return format("the chunk name of '--@ at' is longer than %d bytes", T.MAX_CHUNK)
+    end
+    if e.at then return "a second '--@ at' line in one entry" end
+    e.at = {chunk = T.escape(chunk), line = k}
+    return nil
+  end
+  if find(l, "^%-%-@ at ") then
+    return "a '--@ at' line that is not '--@ at CHUNKNAME LINE' (CHUNKNAME beginning with '@' or '=')"
+  end
   local v = match(l, "^%-%-@ volatile (%d+)$")
   if v then
     local k = number(v)
@@ -295,7 +322,8 @@ end
 -- or nil and "NAME:LINE: message".  Each entry is {n=, line= (of its marker),
 -- new_session= (true when a later session's header precedes it), expr=,
 -- skip=, code=, typed=, out = {lines, escaped}, data = {{path=, bytes=,
--- sha256=}}, pictures = {paths}, volatile = {[line] = true}}.  A log saved
+-- sha256=}}, pictures = {paths}, volatile = {[line] = true}, at = {chunk=,
+-- line=} (a script's entry: its chunk name and first line)}.  A log saved
 -- with CRLF line ends (its first line ends in CR LF) has one CR removed
 -- before each LF; a UTF-8 byte order mark at the start is skipped.
 -- truncated: the last line has no newline, or the last entry has fewer

@@ -289,13 +289,20 @@ local function strip_position(e, msg)
   return msg
 end
 
--- Run one entry as the prompt would: the text it printed, whether it
--- raised an error, the files it read and drew, and a compile message.
-local function run_entry(e, env, placed)
+-- Run one entry as the prompt (or the script) did: the text it printed,
+-- whether it raised an error, the files it read and drew, and a compile
+-- message.  It sees the top-level locals of the entries before it (locals,
+-- S.locals_new) and leaves its own there.  An entry of a script runs under
+-- the script's chunk name and line ('--@ at', e.at), which only label the
+-- positions in messages.
+local function run_entry(e, env, placed, locals)
   -- as statements only, the way `sluice LOG` runs them: the prompt wrote an
   -- expression as show(...), so no entry of a real log is a bare expression
-  local name = "=[input " .. e.n .. "]"
-  local fn, msg = real.load(e.code, name, "t", env)
+  local name, code = "=[input " .. e.n .. "]", e.code
+  if e.at then name, code = e.at.chunk, string.rep("\n", e.at.line - 1) .. e.code end
+  local fn, msg = S.load_entry(code, name, env, locals)
+  -- the suggestion for a misspelled name comes from the log's own globals
+  local function handler(err) return S._error_text(err, env) end
   local failed = false
   local text, run = S._capture(e.n, function(cap)
     if not fn then
@@ -303,7 +310,10 @@ local function run_entry(e, env, placed)
       cap[#cap + 1] = "error: " .. strip_position(e, msg) .. "\n"
       return
     end
-    local r = pack(xpcall(fn, S._error_text))
+    local r = pack(xpcall(fn, handler))
+    -- a script's statement prints nothing of what it returns (a return at
+    -- its top level ended the script, which the log then ends with too)
+    if r[1] and e.at then return end
     if r[1] then
       for i = 2, r.n do
         local ok, s = pcall(P.format, r[i])
@@ -324,6 +334,9 @@ end
 local function child_main(parsed, o)
   local send, leave = hooks.replay_send, hooks.replay_exit
   S._wrap_output()   -- before the environment copies print and io.write
+  -- help() pages only when the prompt set the pager up; a replay child
+  -- never starts one (nor any other program), trusted or not
+  hooks.page = nil
   if not o.trust then
     -- what code that escaped the Lua layer could still misuse: native
     -- loaders, the replay's own hooks, the debug library (the session
@@ -340,11 +353,12 @@ local function child_main(parsed, o)
   local blocked_here, log_paths = {}, {}
   local hear = {blocked = function(name) blocked_here[#blocked_here + 1] = name end,
                 log_path = function(p) log_paths[p] = true end}
-  local env
+  local env, locals
   -- SLUICE_TEST_KERNEL_ONLY: the tests' way to show that the kernel alone holds
   local bare = os.getenv("SLUICE_TEST_KERNEL_ONLY") ~= nil
   local placed = not (o.trust or bare) and new_placed(o.out and hooks.realpath(o.out)) or nil
   local function fresh()
+    locals = S.locals_new()
     if o.trust or bare then
       env = _G
       env.log = function() return nil end
@@ -358,7 +372,7 @@ local function child_main(parsed, o)
       if e.new_session then fresh() end
       blocked_here, log_paths = {}, {}
       send("E", tostring(e.n))
-      local text, failed, run, cmsg = run_entry(e, env, placed)
+      local text, failed, run, cmsg = run_entry(e, env, placed, locals)
       send("O", text)
       -- the lines that are what sluice's log() gave: the log's path
       if next(log_paths) then
@@ -757,7 +771,7 @@ function R.rewrite(path, old_text, parsed)
     local n = {n = e.n, typed = e.typed, expr = e.expr, skip = e.skip, code = e.code,
                out = e.new_out or e.out, data = e.new_data or e.data,
                pictures = e.new_pictures or e.pictures,
-               volatile = e.new_volatile or e.volatile}
+               volatile = e.new_volatile or e.volatile, at = e.at}
     out[#out + 1] = sub(T.entry_text(n), 1, -2)
   end
   local f, err = real.open(path, "wb")

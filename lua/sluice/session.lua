@@ -142,17 +142,12 @@ local function begin(n, typed, expr)
   cap = {}
 end
 
--- The entry's text in the log; an entry of a script also says where its
--- code stands: "--@ at CHUNKNAME LINE" ("@orchard.lua", "=stdin" or
--- "=(command line)", and its first line), the name and line it ran under,
--- so that a replay can run it the same way (LINE - 1 newlines before it).
-local function logged_text(e)
-  local text = entry_text(e)
-  if e.at and not text:find("\n%-%-@ at [^\n]*\n$") then   -- unless logtext writes it
-    text = text .. string.format("--@ at %s %d\n", T.escape(e.at.chunk), e.at.line)
-  end
-  return text
-end
+-- The entry's text in the log (T.entry_text); an entry of a script ends
+-- with where its code stands, "--@ at CHUNKNAME LINE" ("@orchard.lua",
+-- "=stdin" or "=(command line)", and its first line): the name and line it
+-- ran under, so that a replay can run it the same way (LINE - 1 newlines
+-- before it).
+local logged_text = entry_text
 
 local function out(s) if cap then cap[#cap + 1] = s end end
 
@@ -281,9 +276,10 @@ end
 -- locals in a function).
 S.MAX_LOCALS = 180
 local KEEP = "__sluice_keep"   -- the wrapper's name for the hand-over call
+local TAG = "__sluice_tag"     -- the wrapper's name for the input's own token
 
 -- A fresh set of session locals: kind[name] is "cell" (cell[name] is a
--- closure whose first upvalue is the variable) or "const" (value[name]).
+-- closure whose second upvalue is the variable) or "const" (value[name]).
 function S.locals_new() return {kind = {}, cell = {}, value = {}} end
 S.locals = S.locals_new()     -- the shell's own session
 
@@ -297,16 +293,20 @@ local function kept_decls(decls)
   end
   for _, name in ipairs(order) do
     local d = last[name]
-    if d.attrib ~= "close" and name ~= KEEP then out[#out + 1] = d end
+    if d.attrib ~= "close" and name ~= KEEP and name ~= TAG then out[#out + 1] = d end
   end
   return out
 end
 
 -- The hand-over call of one input: it takes one closure per kept local,
--- each defined in this very chunk (source) over the variable of that name,
--- and records them in st.  Anything else is ignored, so code that calls it
--- itself can only hand over its own variables.
-local function hand_over(st, source, decls)
+-- each defined in this very chunk over the variable of that name, and
+-- records them in st.  Anything else is ignored, so code that calls it
+-- itself can only hand over its own variables.  "This very chunk" is not
+-- told by the source name (a replayed log chooses its chunk names, and may
+-- name one of sluice's own files): each closure's first upvalue must be
+-- the wrapper's TAG holding tag, a table made for this input alone, which
+-- no function outside the chunk can hold; its second is the variable.
+local function hand_over(st, source, decls, tag)
   return function(...)
     if select("#", ...) ~= #decls then return end
     local got = {}
@@ -314,14 +314,16 @@ local function hand_over(st, source, decls)
       local f = select(i, ...)
       if type(f) ~= "function" then return end
       local info = getinfo(f, "S")
-      local up = getupvalue(f, 1)
       if not info or info.source ~= source or info.what ~= "Lua" then return end
+      local t, tv = getupvalue(f, 1)
+      if t ~= TAG or not rawequal(tv, tag) then return end
+      local up = getupvalue(f, 2)
       if up ~= d.name and not (d.attrib == "const" and up == nil) then return end
       got[i] = f
     end
     for i, d in ipairs(decls) do
       if d.attrib == "const" then
-        st.kind[d.name], st.cell[d.name], st.value[d.name] = "const", nil, got[i]()
+        st.kind[d.name], st.cell[d.name], st.value[d.name] = "const", nil, select(2, got[i]())
       else
         st.kind[d.name], st.cell[d.name], st.value[d.name] = "cell", got[i], nil
       end
@@ -338,7 +340,7 @@ end
 -- (joined afterwards), and the hand-over call of decls before a top-level
 -- return or at the end.
 local function wrapper_text(code, consts, cells, decls, ret)
-  local head = {"local ", KEEP}
+  local head = {"local ", KEEP, ", ", TAG}
   for _, name in ipairs(consts) do head[#head + 1] = ", " .. name .. " <const>" end
   head[#head + 1] = " = ...;"
   if #cells > 0 then head[#head + 1] = " local " .. table.concat(cells, ", ") .. ";" end
@@ -346,7 +348,7 @@ local function wrapper_text(code, consts, cells, decls, ret)
   local body = code
   if #decls > 0 then
     local ks = {}
-    for i, d in ipairs(decls) do ks[i] = "function() return " .. d.name .. " end" end
+    for i, d in ipairs(decls) do ks[i] = "function() return " .. TAG .. ", " .. d.name .. " end" end
     local call = ";" .. KEEP .. "(" .. table.concat(ks, ", ") .. ")"
     if ret then body = code:sub(1, ret - 1) .. call .. " " .. code:sub(ret)
     else body = code .. "\n" .. call end
@@ -385,13 +387,14 @@ function S.load_entry(code, name, env, st)
   end
   local values = {}
   for i, nm in ipairs(consts) do values[i] = st.value[nm] end
-  local inner = wrap(hand_over(st, name, decls), table.unpack(values, 1, #consts))
+  local tag = {}
+  local inner = wrap(hand_over(st, name, decls, tag), tag, table.unpack(values, 1, #consts))
   local is_cell = {}
   for _, nm in ipairs(cells) do is_cell[nm] = true end
   for i = 1, 255 do
     local up = getupvalue(inner, i)
     if up == nil then break end
-    if is_cell[up] then upvaluejoin(inner, i, st.cell[up], 1) end
+    if is_cell[up] then upvaluejoin(inner, i, st.cell[up], 2) end
   end
   return inner
 end

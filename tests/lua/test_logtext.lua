@@ -33,6 +33,8 @@ local function same_entry(a, b, what)
     eq(d.sha256, b.data[i].sha256, what .. ": data sha256")
   end
   same_list(a.pictures, b.pictures, what .. ": pictures")
+  eq(a.at and a.at.chunk, b.at and b.at.chunk, what .. ": at chunk")
+  eq(a.at and a.at.line, b.at and b.at.line, what .. ": at line")
 end
 
 -- parse, write every entry again, parse again: the same entries.
@@ -470,4 +472,50 @@ test("volatile lines: the query of the log's path is marked, marks are read back
   local nok, why = T.parse(HEAD .. "--@ in 1 (1 line)\nx = 1\n--@ volatile 1234567890123456\n", "v.lua")
   eq(nok, nil)
   eq(why, "v.lua:6: a volatile line number with more than 15 digits")
+end)
+
+test("a script's entry: '--@ at CHUNK LINE' is written last, read back, and refused when bad", function()
+  local e = {n = 3, code = "local a = 41", typed = "local a = 41", out = {"x"},
+             pictures = {"g.svg"}, at = {chunk = "@my orchard.lua", line = 12}}
+  local text = T.entry_text(e)
+  eq(text:match("[^\n]*\n$"), "--@ at @my orchard.lua 12\n", "the place is the entry's last line")
+  eq(select(2, text:gsub("%-%-@ at ", "")), 1, "written once")
+  local p = round_trip(HEAD .. text, "at")
+  eq(p.entries[1].at.chunk, "@my orchard.lua", "a chunk name with a space")
+  eq(p.entries[1].at.line, 12)
+  same_list(p.entries[1].out, {"x"})
+  -- control bytes in the chunk name stay inert (escaped as every meta line)
+  local q = round_trip(HEAD .. T.entry_text{n = 1, code = "x = 1", typed = "x = 1",
+                                             at = {chunk = "=a\nos.exit()\r", line = 1}}, "ctl")
+  eq(q.entries[1].at.chunk, "=a\\nos.exit()\\r")
+  eq(#q.entries, 1)
+  -- no place for an entry that is not a script's
+  eq(T.parse(HEAD .. "--@ in 1 (1 line)\nx = 1\n", "p.lua").entries[1].at, nil)
+  -- the limits: a line from 1 to T.MAX_AT_LINE (the replay puts LINE - 1
+  -- newlines before the code), a chunk name of at most T.MAX_CHUNK bytes
+  eq(T.MAX_AT_LINE, 10000000)
+  local at = assert(T.parse(HEAD .. "--@ in 1 (1 line)\nx = 1\n--@ at =x 10000000\n", "m.lua"))
+  eq(at.entries[1].at.line, 10000000)
+  local function bad(meta, msg, what)
+    local r, why = T.parse(HEAD .. "--@ in 1 (1 line)\nx = 1\n" .. meta .. "\n", "b.lua")
+    eq(r, nil, what)
+    eq(why, "b.lua:6: " .. msg, what)
+  end
+  local line_msg = "the line of '--@ at' is not a whole number from 1 to 10000000"
+  bad("--@ at =x 10000001", line_msg, "a line past the limit")
+  bad("--@ at =x 0", line_msg, "line 0")
+  bad("--@ at =x 1234567890123456789", line_msg, "a line of too many digits")
+  bad("--@ at @" .. string.rep("a", 4096) .. " 1", "the chunk name of '--@ at' is longer than 4096 bytes",
+      "a long chunk name")
+  bad("--@ at x.lua 1", "a '--@ at' line that is not '--@ at CHUNKNAME LINE' (CHUNKNAME beginning "
+      .. "with '@' or '=')", "a chunk name without @ or =")
+  bad("--@ at =x -1", "a '--@ at' line that is not '--@ at CHUNKNAME LINE' (CHUNKNAME beginning "
+      .. "with '@' or '=')", "a negative line")
+  local two, why = T.parse(HEAD .. "--@ in 1 (1 line)\nx = 1\n--@ at =x 1\n--@ at =y 2\n", "b.lua")
+  eq(two, nil)
+  eq(why, "b.lua:7: a second '--@ at' line in one entry")
+  -- 4096 bytes is still a chunk name
+  local long = assert(T.parse(HEAD .. "--@ in 1 (1 line)\nx = 1\n--@ at @" .. string.rep("a", 4095)
+                              .. " 1\n", "l.lua"))
+  eq(#long.entries[1].at.chunk, 4096)
 end)

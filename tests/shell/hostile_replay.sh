@@ -350,6 +350,13 @@ replay --out out
 expect 1 "1=ok 2=bad 3=bad 4=ok 5=differs" "" "inside out"
 done_case
 
+# The hand-over of top-level locals under a chunk name of sluice's own
+# files: no variable of the replay or the session reaches the log.
+setup handover_forge
+replay --out out
+expect 1 "1=ok 2=ok 3=ok 4=ok 5=ok 6=ok 7=ok 8=ok 9=differs" "" "inside out"
+done_case
+
 setup session_install
 replay --out out
 expect 1 "1=any 2=bad 3=bad 4=ok 5=differs" "" "inside out"

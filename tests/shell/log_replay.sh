@@ -326,6 +326,37 @@ has "11 commands: 8 matched, 0 differed, 3 blocked" "the summary"
 grep -q 'out3' out3/session.md && fail "the report names nothing of --out"
 ok "--out DIR: relative writes land in DIR as typed; reads stay; writes leaving DIR are blocked"
 
+# ---- a script's log: its entries' places ('--@ at') ----
+# A script's statement runs under the script's chunk name and line, so an
+# error names the file's line (Lua 5.4 manual, 4.6: luaL_loadbuffer's chunk
+# name "@file" gives positions "file:LINE:"); the replay runs each entry the
+# same way, --update keeps the places, and a place that would cost more than
+# the documented limit of newlines is refused with the log's line.  A return
+# at the script's top level ends it (manual 3.3.4) and prints nothing, in
+# the replay too.
+cat > places.lua <<'EOF2'
+local area = 6 * 7
+print(area)
+
+print(pcall(function() error("negative width") end))
+if area then return area end
+print("not reached")
+EOF2
+"$exe" --log places.log places.lua > out.txt 2>&1 || fail "places.lua with --log exits $?"
+grep -qx -- "--| false	places.lua:4: negative width" places.log || fail "the log records the file's line"
+[ "$(grep -c -- '^--@ at @places.lua ' places.log)" = 4 ] || fail "each entry of the script has its place"
+grep -q "not reached" out.txt && fail "a return at the script's top level ends it"
+"$exe" --replay places.log --update > out.txt 2>&1 || fail "a script's log replays (exit $?)"
+has "4 commands: 4 matched, 0 differed" "the script's log matches"
+[ "$(grep -c -- '^--@ at @places.lua ' places.log)" = 4 ] || fail "--update keeps the places"
+grep -qx -- "--@ at @places.lua 4" places.log || fail "--update keeps the line of a place"
+"$exe" --replay places.log > out.txt 2>&1 || fail "the updated script's log replays"
+printf '%s\n--@ in 1 (1 line)\nprint(1)\n--| 1\n--@ at =x 10000001\n' "$head3" > far.lua
+"$exe" --replay far.lua > out.txt 2>&1
+[ $? = 1 ] || fail "a place past the limit is refused"
+has "sluice: far.lua:7: the line of '--@ at' is not a whole number from 1 to 10000000" "the refusal names the log's line"
+ok "a script's log replays at the script's lines, --update keeps them, a place past the limit is refused"
+
 # ---- logs that are not plain files, and a log saved with CRLF ----
 "$exe" --replay . > out.txt 2>&1
 [ $? = 1 ] || fail "a folder as the log exits 1"

@@ -219,6 +219,15 @@ has_line out.txt "caught.lua:2: attempt to perform arithmetic on a nil value" ||
 grep -q "^	caught.lua:6: in " out.txt || fail "a traceback names the script's file and line"
 ok "positions inside a script are the file's lines, also in errors it catches"
 
+# an error without a position of its own is placed at the innermost line
+# outside sluice's own Lua files (lua/sluice/*.lua): the user's line
+printf 'x = 1\nload("error({})", "@lua/sluice/estimate.lua")()\n' > inner.lua
+"$exe" inner.lua > out.txt 2>&1
+[ $? = 1 ] || fail "an error object without a position stops the script"
+has_line out.txt "sluice: inner.lua:2: (error object is a table value)" ||
+  fail "the error is placed at the script's line, not in sluice's own files"
+ok "an error without a position names the script's line, never sluice's own files"
+
 # ---- report() at the end of a script ----
 # The same statements typed at the prompt (over a pipe) and run as a script
 # give the same report, apart from the times.
@@ -322,29 +331,19 @@ replay_ok suggest.log "a log with a suggested name"
 ok "a recorded error with a suggested name replays the same"
 
 # ---- replay of a log whose entries share top-level locals ----
-# The replay runs the entries in lua/sluice/replay.lua; once it compiles
-# each entry through the session's S.load_entry, a script's log with
-# locals replays.  Until then this check says it is skipped.
-replay_lua="$repo/lua/sluice/replay.lua"
+# The replay compiles each entry through the session's S.load_entry, so a
+# script's log whose entries share locals replays as it ran.
 "$exe" --log locals.log locals.lua > out.txt 2>&1 || fail "locals.lua with --log exits $?"
 "$exe" locals.log > out.txt 2>&1 || fail "the locals log runs as a script (exit $?)"
 cmp -s out.txt locals.want || fail "the locals log run as a script prints what the script printed"
-if grep -q "load_entry" "$replay_lua"; then
-  replay_ok locals.log "a script's log whose entries share locals"
-  ok "a script's log whose entries share top-level locals replays"
-else
-  echo "skip  replay of a log with top-level locals (replay.lua does not use S.load_entry yet)"
-fi
-# ... and once it runs a script's entry under its '--@ at' chunk name and
-# line, the log of a failing script (its error at the file's line) replays.
-if grep -q "load_entry" "$replay_lua" && grep -q -- "--@ at" "$repo/lua/sluice/logtext.lua"; then
-  head -n 5 caught.lua > caught2.lua    # without the traceback, which the sandbox blocks
-  "$exe" --log caught.log caught2.lua > out.txt 2>&1 || fail "caught2.lua with --log exits $?"
-  replay_ok caught.log "a script's log with an error it caught"
-  replay_ok fails.log "a failing script's log"
-  ok "the logs of a failing script and of one that catches an error replay"
-else
-  echo "skip  replay of a script's positions (logtext.lua does not read '--@ at' yet)"
-fi
+replay_ok locals.log "a script's log whose entries share locals"
+ok "a script's log whose entries share top-level locals replays"
+# ... and it runs a script's entry under its '--@ at' chunk name and line,
+# so the log of a failing script (its error at the file's line) replays.
+head -n 5 caught.lua > caught2.lua    # without the traceback, which the sandbox blocks
+"$exe" --log caught.log caught2.lua > out.txt 2>&1 || fail "caught2.lua with --log exits $?"
+replay_ok caught.log "a script's log with an error it caught"
+replay_ok fails.log "a failing script's log"
+ok "the logs of a failing script and of one that catches an error replay"
 
 echo "all $n checks passed"
