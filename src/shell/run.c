@@ -117,11 +117,13 @@ static const char *error_string(lua_State *L) {
 }
 
 /* Push "where:123: ", the place of the innermost Lua function on the
-** stack; 0 (nothing pushed) when there is none. */
+** stack outside sluice's own Lua files (an error raised there belongs to
+** the user's line that called it); 0 (nothing pushed) when there is none. */
 static int push_position(lua_State *L) {
   lua_Debug ar;
   for (int level = 1; lua_getstack(L, level, &ar); level++) {
-    if (lua_getinfo(L, "Sl", &ar) && ar.currentline > 0) {
+    if (lua_getinfo(L, "Sl", &ar) && ar.currentline > 0
+        && strncmp(ar.source, "@lua/sluice/", 12) != 0) {
       lua_pushfstring(L, "%s:%d: ", ar.short_src, ar.currentline);
       return 1;
     }
