@@ -519,11 +519,16 @@ local function as_caller(fn, ...)
   return table.unpack(r, 2, r.n)
 end
 
+-- g:draw as the library has it: exercise{} draws the kit's graph into a
+-- temporary folder with it, and notes the picture where the kit ends up.
+local raw_draw = nil
+
 -- Wrap the functions of the library that write files.
 local function wrap_writers()
   local gm = registry["sluice.graph"]
   if gm and type(gm.__index) == "table" and gm.__index.draw then
     local draw = gm.__index.draw
+    raw_draw = draw
     gm.__index.draw = function(g, path, ...)
       local to = guard and guard(path, "g:draw") or path
       local r = as_caller(draw, g, to, ...)
@@ -705,11 +710,15 @@ S.base64 = base64
 
 -- ---- exercise (sluice.exercise) ----
 
--- What the kit writer may use: the guarded file services of this session.
+-- What the kit writer may use: the guarded file services of this session;
+-- draw writes the graph without noting a picture (its temporary folder
+-- goes away) and picture notes the kit's graph.svg where it ends up.
 local function exercise_env()
+  local g = guard
   return {M = M, registry = registry, fence = fence, open = real.open,
           mkdir = hooks.mkdir, rename = real.rename, remove = real.remove,
-          guard = guard}
+          guard = g, picture = note_picture,
+          draw = raw_draw and function(gr, p) return raw_draw(gr, g and g(p, "exercise") or p) end}
 end
 
 local X = require "sluice.exercise"

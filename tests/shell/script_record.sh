@@ -259,6 +259,21 @@ printf 'for i = 1, 2500 do print(i) end\nreport("long.md")\n' > long.lua
 has_line long.md "... (500 more lines, not kept for the report)" || fail "the report says how many lines it left out"
 ok "report() at the end of a script reports each of its commands, as the prompt does"
 
+# exercise{} writes its kit into a temporary folder and moves it into place:
+# the picture the session notes (and report() links) is the kit's graph.svg
+cat > kit.lua <<'EOF'
+g = graph("z -> x; z -> y; x -> y")
+m = sem(g, {["z -> x"] = 0.5, ["z -> y"] = 0.4, ["x -> y"] = 0.3})
+exercise{graph = g, model = m, treatment = "x", outcome = "y", n = 200, seed = 1, dir = "kit"}
+report("kit.md")
+EOF
+"$exe" --log kit.log kit.lua > out.txt 2>&1 || fail "kit.lua exits $?"
+grep -qxF "![kit/graph.svg](<kit/graph.svg>)" kit.md || fail "report() links the kit's graph.svg"
+[ -s kit/graph.svg ] || fail "the picture report() links exists"
+grep -q "part-" kit.md kit.log && fail "the temporary folder of the kit is named in the report or the log"
+grep -qx -- "--@ picture kit/graph.svg" kit.log || fail "the log notes the kit's graph.svg"
+ok "exercise{} then report(): the picture linked is the kit's graph.svg, which exists"
+
 # ---- a log run as a script ----
 # A session over a pipe with a typo corrected on the next line, and a
 # local; the log records the typo's error.
