@@ -536,22 +536,18 @@ local function wrap_writers()
       return r
     end
   end
+  -- f:write_csv in the frame's methods (the table its __index reads), so
+  -- that the module makes it public like every method: the public wrapper
+  -- puts the user's line and the name in front of its errors
   local fm = registry["sluice.frame"]
-  if fm and fm.__index then
-    local index = fm.__index
-    local function write_csv(f, path, ...)
+  local methods = fm and fm.methods
+  if type(methods) == "table" and methods.write_csv then
+    local write = methods.write_csv
+    methods.write_csv = function(f, path, ...)
       if type(path) ~= "string" then
-        error(user_position() .. "f:write_csv: a file name expected as the path, got "
-              .. type(path), 0)
+        error("f:write_csv: a file name expected as the path, got " .. type(path), 0)
       end
-      local to = guard and guard(path, "f:write_csv") or path
-      local r = table.pack(as_caller(index(f, "write_csv"), f, to, ...))
-      return table.unpack(r, 1, r.n)    -- not a tail call: as_caller counts levels
-    end
-    fm.__index = function(f, k)
-      if k == "write_csv" then return write_csv end
-      local v = as_caller(index, f, k)
-      return v                          -- not a tail call: as_caller counts levels
+      return write(f, guard and guard(path, "f:write_csv") or path, ...)
     end
   end
   for _, name in ipairs({"_forest", "_histograms"}) do

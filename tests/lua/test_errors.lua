@@ -201,15 +201,6 @@ local any_input = {show = true}
 -- names the file and the fix.  This list should be emptied; a case on it
 -- that passes makes the test fail until it is removed.
 local KNOWN = {
-  -- lua/sluice/session.lua (A): f:write_csv is a Lua function returned by
-  -- the frame's replaced __index, so it is not made public, and called as
-  -- "return d:write_csv()" its own user_position() walks past the C pcall
-  -- to the line of whoever called the chunk.  Fix: put the guarded
-  -- write_csv in registry["sluice.frame"].methods (the table __index
-  -- reads) instead of replacing __index, and raise with error(msg, 0):
-  -- the wrapper of bind_public.c then adds the user's line.
-  ["f:write_csv | type #1"] = "session.lua",
-  ["f:write_csv | missing #1"] = "session.lua",
 }
 
 -- ---- generating the calls ----
