@@ -84,7 +84,7 @@ static void gauss_is_mt19937(void **state) {
 ** three nodes (so the topological order runs from vn down to v1), a few nodes are hidden, correlated errors between
 ** some pairs; flags add a logistic node and a binarized one. */
 static void model(sl_sem *m, size_t n, int logistic, int binarized) {
-  char (*nm)[8] = malloc(n * sizeof *nm);
+  char (*nm)[24] = malloc(n * sizeof *nm);   /* "v" and any size_t */
   const char **names = malloc(n * sizeof *names);
   unsigned char *obs = malloc(n), *lg = calloc(n, 1);
   double *B = calloc(n * n, sizeof *B), *a = malloc(n * sizeof *a);
