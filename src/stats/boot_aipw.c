@@ -40,38 +40,43 @@ static double propensity(const sl_boot_aipw *A, size_t k, const double *g) {
 }
 
 /* The logistic model of t on Xp weighted by count, by Newton steps from g
-** (updated in place); nonzero when it does not settle.  work: q^2 + 2q +
-** sl_gram_rows(q) q doubles. */
+** (updated in place); nonzero when it does not settle.  It settles when the
+** Newton decrement sc' G^-1 sc (about twice the deviance a further step
+** would gain) is below 1e-10 (N + 0.1), N the sum of the counts: sl_logit's
+** rule of a deviance change below 1e-10 relative, with N in place of the
+** deviance (which lies between 0 and 2 N log 2), so that no logarithm is
+** taken.  The last, small step is taken too (its error is of the order
+** of its square).  work: q^2 + 2q + sl_gram_rows(q) q doubles. */
 static int newton(const sl_boot_aipw *A, const double *t, const double *count, double *work,
                   double *g) {
   size_t n = A->lin.n, q = A->q1;
   double *G = work, *sc = G + q * q, *step = sc + q, *blk = step + q;
   gsl_matrix_view Gv = gsl_matrix_view_array(G, q, q);
-  double dev_prev = INFINITY;
+  double N = 0;
+  for (size_t k = 0; k < n; k++) N += count[k];
   for (int it = 0; it < SL_BOOT_NEWTON_MAX; it++) {
     sl_gram gr;
     sl_gram_start(&gr, G, blk, q);
     memset(sc, 0, q * sizeof *sc);
-    double dev = 0;
     for (size_t k = 0; k < n; k++) {
       if (count[k] == 0) continue;
-      double e = propensity(A, k, g), c = count[k];
+      double c = count[k];
       const double *x = A->Xp + k * q;
-      dev -= 2 * c * (t[k] ? log(e) : log1p(-e));
+      double e = propensity(A, k, g);
       for (size_t j = 0; j < q; j++) sc[j] += c * (t[k] - e) * x[j];
       sl_gram_add(&gr, x, sqrt(c * e * (1 - e)));
     }
     sl_gram_finish(&gr);
-    /* sl_logit's rule: |dev - dev_prev| / (|dev| + 0.1) below 1e-10 */
-    if (fabs(dev - dev_prev) / (fabs(dev) + 0.1) < 1e-10) return 0;
-    dev_prev = dev;
     gsl_error_handler_t *old = gsl_set_error_handler_off();
     int bad = gsl_linalg_cholesky_decomp1(&Gv.matrix);
     gsl_set_error_handler(old);
     if (bad) return 1;
     gsl_vector_view sv = gsl_vector_view_array(sc, q), dv = gsl_vector_view_array(step, q);
     gsl_linalg_cholesky_solve(&Gv.matrix, &sv.vector, &dv.vector);
+    double decrement = 0;
+    for (size_t j = 0; j < q; j++) decrement += sc[j] * step[j];
     for (size_t j = 0; j < q; j++) g[j] += step[j];
+    if (decrement < 1e-10 * (N + 0.1)) return 0;
   }
   return 1;
 }
@@ -115,13 +120,13 @@ int sl_boot_aipw_point(const sl_est_spec *s, const sl_prep *P, const sl_boot_aip
     const double *xa = L->Xa + k * p, *xb = L->Xb + k * p;
     double m1 = 0, m0 = 0;
     for (size_t j = 0; j < p; j++) { m1 += xa[j] * beta[j]; m0 += xb[j] * beta[j]; }
-    double t = P->t[k], y = P->y[k], e = propensity(A, k, g), a, b, in;
+    double t = P->t[k], y = P->y[k], ek = propensity(A, k, g), a, b, in;
     if (s->estimand == SL_ATE) {
-      a = m1 + t * (y - m1) / e; b = m0 + (1 - t) * (y - m0) / (1 - e); in = 1;
+      a = m1 + t * (y - m1) / ek; b = m0 + (1 - t) * (y - m0) / (1 - ek); in = 1;
     } else if (s->estimand == SL_ATT) {
-      a = t * y; b = t * m0 + (1 - t) * e / (1 - e) * (y - m0); in = t;
+      a = t * y; b = t * m0 + (1 - t) * ek / (1 - ek) * (y - m0); in = t;
     } else {
-      a = (1 - t) * m1 + t * (1 - e) / e * (y - m1); b = (1 - t) * y; in = 1 - t;
+      a = (1 - t) * m1 + t * (1 - ek) / ek * (y - m1); b = (1 - t) * y; in = 1 - t;
     }
     s1 += c * a; s0 += c * b; win += c * in;
   }
