@@ -22,11 +22,8 @@ struct sl_db_table {
 
 /* ---- text ---- */
 
-/* A growing string for building SQL; on failure it stays NULL. */
-typedef struct sbuf { char *s; size_t n, cap; int bad; } sbuf;
-
 /* Append printf-style text. */
-static void sb_add(sbuf *b, const char *fmt, ...) {
+void sl_db_buf_add(sl_db_buf *b, const char *fmt, ...) {
   if (b->bad) return;
   for (;;) {
     va_list ap;
@@ -44,7 +41,7 @@ static void sb_add(sbuf *b, const char *fmt, ...) {
 }
 
 /* The string built, or NULL (e filled) when memory ran out. */
-static char *sb_done(sbuf *b, sl_error *e) {
+char *sl_db_buf_done(sl_db_buf *b, sl_error *e) {
   if (b->bad || !b->s) {
     free(b->s);
     sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
@@ -221,9 +218,9 @@ static int probe_row(void *ctx, const sl_db_row *r, size_t i, sl_error *e) {
 /* SQLite's typeof() of the first present value of column j (number when
 ** there is none). */
 static int probe_type(sl_db_table *t, size_t j, const char *q, sl_error *e) {
-  sbuf b = {0};
-  sb_add(&b, "SELECT typeof(%s) FROM %s WHERE %s IS NOT NULL LIMIT 1", q, t->from, q);
-  char *sql = sb_done(&b, e);
+  sl_db_buf b = {0};
+  sl_db_buf_add(&b, "SELECT typeof(%s) FROM %s WHERE %s IS NOT NULL LIMIT 1", q, t->from, q);
+  char *sql = sl_db_buf_done(&b, e);
   if (!sql) return e->code;
   probe p = {SL_NUMERIC};
   int status = db_exec(t->db, sql, NULL, 0, probe_row, &p, e);
@@ -234,9 +231,9 @@ static int probe_type(sl_db_table *t, size_t j, const char *q, sl_error *e) {
 
 /* Columns, their quoted names and their value expressions. */
 static int describe(sl_db_table *t, sl_error *e) {
-  sbuf b = {0};
-  sb_add(&b, "SELECT * FROM %s", t->from);
-  char *sql = sb_done(&b, e);
+  sl_db_buf b = {0};
+  sl_db_buf_add(&b, "SELECT * FROM %s", t->from);
+  char *sql = sl_db_buf_done(&b, e);
   if (!sql) return e->code;
   if (!t->db->h) { free(sql); return db_exec(t->db, "", NULL, 0, NULL, NULL, e); }
   int status = t->db->ops->describe(t->db, sql, &t->d, e);
@@ -256,13 +253,13 @@ static int describe(sl_db_table *t, sl_error *e) {
     char *q = sl_db_quote_ident(t->d.names[j], e);
     if (!q) return sl_error_set(e, e->code, 0, (int)j + 1, "column %zu: %s", j + 1, e->msg);
     if (t->d.types[j] < 0 && probe_type(t, j, q, e) != SL_OK) { free(q); return e->code; }
-    sbuf x = {0};
+    sl_db_buf x = {0};
     if (t->db->engine == SL_DB_POSTGRES && t->d.types[j] == SL_NUMERIC)
-      sb_add(&x, t->d.pgbool[j] ? "CAST(CAST(%s AS INTEGER) AS DOUBLE PRECISION)"
+      sl_db_buf_add(&x, t->d.pgbool[j] ? "CAST(CAST(%s AS INTEGER) AS DOUBLE PRECISION)"
                                 : "CAST(%s AS DOUBLE PRECISION)", q);
-    else sb_add(&x, "%s", q);
+    else sl_db_buf_add(&x, "%s", q);
     free(q);
-    if (!(t->expr[j] = sb_done(&x, e))) return e->code;
+    if (!(t->expr[j] = sl_db_buf_done(&x, e))) return e->code;
   }
   return SL_OK;
 }
@@ -295,9 +292,9 @@ sl_db_table *sl_db_query_open(sl_db *db, const char *sql, sl_error *e) {
   size_t n = strlen(sql);
   while (n > 0 && strchr(" \t\r\n;", sql[n - 1])) n--;   /* a final ';' is allowed */
   if (n == 0) { sl_error_set(e, SL_EARG, 0, 0, "the query is empty"); return NULL; }
-  sbuf b = {0};
+  sl_db_buf b = {0};
   /* the query whole, as a subquery; a line break ends a final -- comment */
-  sb_add(&b, "(%.*s\n) AS sl_source", (int)n, sql);
+  sl_db_buf_add(&b, "(%.*s\n) AS sl_source", (int)n, sql);
   char *from = b.bad ? NULL : b.s;
   if (!from) free(b.s);
   return new_table(db, sql, 1, from, e);
@@ -318,6 +315,8 @@ const char *sl_db_colname(const sl_db_table *t, size_t j) { return t->d.names[j]
 int sl_db_coltype(const sl_db_table *t, size_t j) { return t->d.types[j]; }
 const char *sl_db_colsql(const sl_db_table *t, size_t j) { return t->d.sqltypes[j]; }
 sl_db *sl_db_of(const sl_db_table *t) { return t->db; }
+const char *sl_db_from(const sl_db_table *t) { return t->from; }
+const char *sl_db_expr(const sl_db_table *t, size_t j) { return t->expr[j]; }
 const char *sl_db_source(const sl_db_table *t, int *is_query) {
   if (is_query) *is_query = t->is_query;
   return t->text;
@@ -337,7 +336,7 @@ static int take_row(void *ctx, const sl_db_row *r, size_t i, sl_error *e) {
 }
 
 /* Run sql, a query of one row of n numbers, into v. */
-static int numbers(const sl_db_table *t, const char *sql, const sl_db_param *p, size_t np,
+int sl_db_numbers(const sl_db_table *t, const char *sql, const sl_db_param *p, size_t np,
                    double *v, size_t n, sl_error *e) {
   one_row o = {v, n, 0};
   for (size_t j = 0; j < n; j++) v[j] = NAN;
@@ -345,12 +344,12 @@ static int numbers(const sl_db_table *t, const char *sql, const sl_db_param *p, 
 }
 
 int sl_db_count(const sl_db_table *t, uint64_t *n, sl_error *e) {
-  sbuf b = {0};
-  sb_add(&b, "SELECT COUNT(*) FROM %s", t->from);
-  char *sql = sb_done(&b, e);
+  sl_db_buf b = {0};
+  sl_db_buf_add(&b, "SELECT COUNT(*) FROM %s", t->from);
+  char *sql = sl_db_buf_done(&b, e);
   if (!sql) return e->code;
   double v;
-  int status = numbers(t, sql, NULL, 0, &v, 1, e);
+  int status = sl_db_numbers(t, sql, NULL, 0, &v, 1, e);
   free(sql);
   *n = status == SL_OK && v >= 0 ? (uint64_t)v : 0;
   return status;
@@ -363,15 +362,15 @@ static int quartile(const sl_db_table *t, size_t j, size_t n, double p, double *
   double h = (double)(n - 1) * p;
   size_t lo = (size_t)floor(h);
   char ph[16];
-  sbuf b = {0};
-  sb_add(&b, "SELECT MIN(v), MAX(v) FROM (SELECT %s AS v FROM %s WHERE %s IS NOT NULL "
+  sl_db_buf b = {0};
+  sl_db_buf_add(&b, "SELECT MIN(v), MAX(v) FROM (SELECT %s AS v FROM %s WHERE %s IS NOT NULL "
          "ORDER BY %s LIMIT 2 OFFSET %s) AS sl_pair", t->expr[j], t->from, t->expr[j],
          t->expr[j], sl_db_placeholder(t->db, 1, ph));
-  char *sql = sb_done(&b, e);
+  char *sql = sl_db_buf_done(&b, e);
   if (!sql) return e->code;
   sl_db_param par = {1, 0, (int64_t)lo};
   double v[2];
-  int status = numbers(t, sql, &par, 1, v, 2, e);
+  int status = sl_db_numbers(t, sql, &par, 1, v, 2, e);
   free(sql);
   if (status != SL_OK) return status;
   double a = v[0], c = v[1], f = h - (double)lo;
@@ -386,34 +385,34 @@ static int quartile(const sl_db_table *t, size_t j, size_t n, double p, double *
 /* First pass: COUNT(*), then per column COUNT and, for numbers, AVG, MIN,
 ** MAX, or for texts COUNT(DISTINCT). */
 static char *first_pass_sql(const sl_db_table *t, sl_error *e) {
-  sbuf b = {0};
-  sb_add(&b, "SELECT COUNT(*)");
+  sl_db_buf b = {0};
+  sl_db_buf_add(&b, "SELECT COUNT(*)");
   for (size_t j = 0; j < t->d.n; j++) {
     const char *x = t->expr[j];
-    if (t->d.types[j] == SL_NUMERIC) sb_add(&b, ", COUNT(%s), AVG(%s), MIN(%s), MAX(%s)", x, x, x, x);
-    else sb_add(&b, ", COUNT(%s), COUNT(DISTINCT %s), 0, 0", x, x);
+    if (t->d.types[j] == SL_NUMERIC) sl_db_buf_add(&b, ", COUNT(%s), AVG(%s), MIN(%s), MAX(%s)", x, x, x, x);
+    else sl_db_buf_add(&b, ", COUNT(%s), COUNT(DISTINCT %s), 0, 0", x, x);
   }
-  sb_add(&b, " FROM %s", t->from);
-  return sb_done(&b, e);
+  sl_db_buf_add(&b, " FROM %s", t->from);
+  return sl_db_buf_done(&b, e);
 }
 
 /* Second pass: per numeric column SUM(x - m) and SUM((x - m)^2) about the
 ** first mean m, bound as parameters. */
 static char *second_pass_sql(const sl_db_table *t, const double *v, sl_db_param *par,
                              size_t *np, sl_error *e) {
-  sbuf b = {0};
+  sl_db_buf b = {0};
   char ph[16];
-  sb_add(&b, "SELECT 0");
+  sl_db_buf_add(&b, "SELECT 0");
   *np = 0;
   for (size_t j = 0; j < t->d.n; j++) {
     if (t->d.types[j] != SL_NUMERIC || !isfinite(v[1 + 4 * j + 1])) continue;
     par[*np] = (sl_db_param){0, v[1 + 4 * j + 1], 0};
     sl_db_placeholder(t->db, (int)++*np, ph);
-    sb_add(&b, ", SUM(%s - %s), SUM((%s - %s) * (%s - %s))", t->expr[j], ph, t->expr[j], ph,
+    sl_db_buf_add(&b, ", SUM(%s - %s), SUM((%s - %s) * (%s - %s))", t->expr[j], ph, t->expr[j], ph,
            t->expr[j], ph);
   }
-  sb_add(&b, " FROM %s", t->from);
-  return sb_done(&b, e);
+  sl_db_buf_add(&b, " FROM %s", t->from);
+  return sl_db_buf_done(&b, e);
 }
 
 int sl_db_summary(const sl_db_table *t, sl_summary *s, size_t *levels, sl_error *e) {
@@ -423,13 +422,13 @@ int sl_db_summary(const sl_db_table *t, sl_summary *s, size_t *levels, sl_error 
   char *sql = NULL;
   int status = !v || !par ? sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory") : SL_OK;
   if (status == SL_OK && !(sql = first_pass_sql(t, e))) status = e->code;
-  if (status == SL_OK) status = numbers(t, sql, NULL, 0, v, nv, e);
+  if (status == SL_OK) status = sl_db_numbers(t, sql, NULL, 0, v, nv, e);
   free(sql);
   sql = NULL;
   size_t np = 0;
   double *w = v ? v + nv : NULL;
   if (status == SL_OK && !(sql = second_pass_sql(t, v, par, &np, e))) status = e->code;
-  if (status == SL_OK && np > 0) status = numbers(t, sql, par, np, w, 1 + 2 * np, e);
+  if (status == SL_OK && np > 0) status = sl_db_numbers(t, sql, par, np, w, 1 + 2 * np, e);
   free(sql);
   for (size_t j = 0, k = 0; status == SL_OK && j < m; j++) {
     const double *c = v + 1 + 4 * j;
@@ -531,12 +530,12 @@ static int as_categories(const sl_db_table *t, sl_frame *fr, sl_error *e) {
 
 sl_frame *sl_db_fetch(const sl_db_table *t, size_t head, size_t limit, sl_error *e) {
   if (limit == 0) limit = SL_DB_FETCH_MAX_ROWS;
-  sbuf q = {0};
+  sl_db_buf q = {0};
   char ph[16];
-  sb_add(&q, "SELECT ");
-  for (size_t j = 0; j < t->d.n; j++) sb_add(&q, "%s%s", j ? ", " : "", t->expr[j]);
-  sb_add(&q, " FROM %s LIMIT %s", t->from, sl_db_placeholder(t->db, 1, ph));
-  char *sql = sb_done(&q, e);
+  sl_db_buf_add(&q, "SELECT ");
+  for (size_t j = 0; j < t->d.n; j++) sl_db_buf_add(&q, "%s%s", j ? ", " : "", t->expr[j]);
+  sl_db_buf_add(&q, " FROM %s LIMIT %s", t->from, sl_db_placeholder(t->db, 1, ph));
+  char *sql = sl_db_buf_done(&q, e);
   if (!sql) return NULL;
   /* one row past the limit tells that there are more */
   size_t want = head < limit ? head : limit < INT64_MAX ? limit + 1 : limit;
@@ -567,26 +566,26 @@ done:
 ** NULL, sum the complete rows only. */
 static char *sums_sql(const sl_db_table *t, const int *cols, size_t p, int w,
                       const double *centre, sl_db_param *par, size_t *np, sl_error *e) {
-  sbuf b = {0};
+  sl_db_buf b = {0};
   char ph[16];
   *np = 0;
-  sb_add(&b, "SELECT COUNT(*), COUNT(sl_k), SUM(sl_k * sl_w)");
-  for (size_t k = 0; k < p; k++) sb_add(&b, ", SUM(sl_k * sl_w * sl_x%zu)", k);
+  sl_db_buf_add(&b, "SELECT COUNT(*), COUNT(sl_k), SUM(sl_k * sl_w)");
+  for (size_t k = 0; k < p; k++) sl_db_buf_add(&b, ", SUM(sl_k * sl_w * sl_x%zu)", k);
   for (size_t k = 0; k < p; k++)
-    for (size_t l = k; l < p; l++) sb_add(&b, ", SUM(sl_k * sl_w * sl_x%zu * sl_x%zu)", k, l);
-  sb_add(&b, " FROM (SELECT CASE WHEN ");
-  for (size_t k = 0; k < p; k++) sb_add(&b, "%s IS NOT NULL AND ", t->expr[cols[k]]);
-  if (w >= 0) sb_add(&b, "%s IS NOT NULL AND ", t->expr[w]);
-  sb_add(&b, "1 = 1 THEN 1 END AS sl_k, %s AS sl_w", w >= 0 ? t->expr[w] : "1.0");
+    for (size_t l = k; l < p; l++) sl_db_buf_add(&b, ", SUM(sl_k * sl_w * sl_x%zu * sl_x%zu)", k, l);
+  sl_db_buf_add(&b, " FROM (SELECT CASE WHEN ");
+  for (size_t k = 0; k < p; k++) sl_db_buf_add(&b, "%s IS NOT NULL AND ", t->expr[cols[k]]);
+  if (w >= 0) sl_db_buf_add(&b, "%s IS NOT NULL AND ", t->expr[w]);
+  sl_db_buf_add(&b, "1 = 1 THEN 1 END AS sl_k, %s AS sl_w", w >= 0 ? t->expr[w] : "1.0");
   for (size_t k = 0; k < p; k++) {
     if (centre) {
       par[*np] = (sl_db_param){0, centre[k], 0};
       sl_db_placeholder(t->db, (int)++*np, ph);
-      sb_add(&b, ", %s - %s AS sl_x%zu", t->expr[cols[k]], ph, k);
-    } else sb_add(&b, ", %s AS sl_x%zu", t->expr[cols[k]], k);
+      sl_db_buf_add(&b, ", %s - %s AS sl_x%zu", t->expr[cols[k]], ph, k);
+    } else sl_db_buf_add(&b, ", %s AS sl_x%zu", t->expr[cols[k]], k);
   }
-  sb_add(&b, " FROM %s) AS sl_rows", t->from);
-  return sb_done(&b, e);
+  sl_db_buf_add(&b, " FROM %s) AS sl_rows", t->from);
+  return sl_db_buf_done(&b, e);
 }
 
 int sl_db_sums(const sl_db_table *t, const int *cols, size_t p, int w, const double *centre,
@@ -607,7 +606,7 @@ int sl_db_sums(const sl_db_table *t, const int *cols, size_t p, int w, const dou
   char *sql = sums_sql(t, cols, p, w, centre, par, &np, e);
   if (!sql) return e->code;
   double *v = malloc(nv * sizeof *v);
-  int status = v ? numbers(t, sql, par, np, v, nv, e) : sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  int status = v ? sl_db_numbers(t, sql, par, np, v, nv, e) : sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
   free(sql);
   if (status == SL_OK) {
     out->used = (uint64_t)v[1];

@@ -58,6 +58,21 @@ struct sl_db {
 /* Placeholder k (1-based) in the engine's syntax: "?k" or "$k". */
 const char *sl_db_placeholder(const sl_db *db, int k, char buf[16]);
 
+/* A growing string for building SQL (db.c, db_regress.c); after a failure
+** it stays bad and sl_db_buf_done returns NULL with e filled. */
+typedef struct sl_db_buf { char *s; size_t n, cap; int bad; } sl_db_buf;
+void sl_db_buf_add(sl_db_buf *b, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+char *sl_db_buf_done(sl_db_buf *b, sl_error *e);
+
+/* What follows FROM for a lazy table, and column j's value in SQL (its
+** quoted name, cast to a double on PostgreSQL). */
+const char *sl_db_from(const sl_db_table *t);
+const char *sl_db_expr(const sl_db_table *t, size_t j);
+
+/* Run sql, a query of one row of n numbers (NULL as NaN), into v. */
+int sl_db_numbers(const sl_db_table *t, const char *sql, const sl_db_param *p, size_t np,
+                  double *v, size_t n, sl_error *e);
+
 /* The engines (db_sqlite.c, db_pg.c): fill db or return an error. */
 int sl_db_sqlite_open(sl_db *db, const char *path, sl_error *e);
 int sl_db_pg_open(sl_db *db, const char *uri, sl_error *e);
