@@ -287,6 +287,9 @@ end
 -- log, or first + k - 1.  Returns the line and message of a refusal.
 local function finish_entry(e, code, first, at)
   e.code = concat(code, "\n")
+  -- as T.entry_text writes it: a statement opening with "(" gets a ";", so
+  -- that an entry read from an older log is written back the same way
+  if not e.skip and find(e.code, "^%s*%(") then e.code = ";" .. e.code end
   if e.skip then
     local typed = {}
     for k, l in ipairs(code) do

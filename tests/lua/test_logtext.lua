@@ -519,3 +519,15 @@ test("a script's entry: '--@ at CHUNK LINE' is written last, read back, and refu
                               .. " 1\n", "l.lua"))
   eq(#long.entries[1].at.chunk, 4096)
 end)
+
+-- Found by make fuzz (fuzz_logparse): an entry of the older format whose code
+-- opens with "(" was written back with a ";" and so read back as other code.
+test("an older entry opening with '(' reads as it is written back", function()
+  local old = HEAD .. "--@ in 1\nx = 1\n--@ in 2\n(print)(x)\n--| 1\n"
+  local p = assert(T.parse(old, "old.lua"))
+  eq(p.entries[2].code, ";(print)(x)", "the ';' the writer puts in front")
+  local again = assert(T.parse(HEAD .. T.entry_text(p.entries[1]) .. T.entry_text(p.entries[2]),
+                               "again.lua"))
+  eq(again.entries[2].code, p.entries[2].code, "the same code written back")
+  eq(again.entries[2].typed, p.entries[2].typed, "the same typed text")
+end)
