@@ -352,11 +352,17 @@ SEs as sampling weights (scores w_i e_i x_i, n the rows of positive
 weight): for survey or inverse-probability weights use se = "HC1" or a
 cluster. A missing, negative or infinite weight, or all weights 0, is an
 error naming the row. weight_sum and ess (Kish: (sum w)^2 / sum w^2) are
-printed.]],
+printed.
+data = a lazy table (connect) fits inside the database: one query for the
+means, one for the cross-products centred at them, solved in sluice; the
+rows stay there. Numeric columns only; se = "classical", "HC0" or "HC1"
+(one more query), robust_se the chosen HC0/HC1 (NaN when classical);
+HC3, cluster = and weights = are refused (fetch the rows for them).]],
     example = [[m = ols{data = plots, y = "harvest", x = {"mulch", "slope"}}
 m.coef.mulch, m.lo.mulch, m.hi.mulch
 ols{data = plots, y = "harvest", x = {"mulch"}, se = "HC3"}
-ols{data = plots, y = "harvest", x = {"mulch"}, cluster = "farm", weights = "area"}]] },
+ols{data = plots, y = "harvest", x = {"mulch"}, cluster = "farm", weights = "area"}
+ols{data = connect("farm.db"):table("plots"), y = "harvest", x = {"mulch"}, se = "HC1"}]] },
   { name = "logit", topic = "estimate",
     sig = "logit{data=, y=, x={...}, se=, cluster=, weights=, level=}",
     brief = "Logistic regression, with odds ratios",
@@ -374,10 +380,15 @@ HC0 for HC1 and HC3 of a logit; sluice follows the usual GLM definitions.
 weights = "column": the weighted likelihood; the classical SE is the same
 for frequency and sampling weights, the robust and cluster SEs use scores
 w_i (y_i - mu_i) x_i (sampling weights). Bad weights are errors as in
-ols.]],
+ols.
+data = a lazy table (connect) fits inside the database: one aggregate
+query per iteration (the probabilities computed in SQL), the rows stay
+there. Numeric columns only; se = "classical", "HC0" or "HC1"; HC3,
+cluster = and weights = are refused (fetch the rows for them).]],
     example = [[m = logit{data = pupils, y = "passed", x = {"tutoring", "attendance"}}
 m.odds_ratio.tutoring, m.or_lo.tutoring, m.or_hi.tutoring
-logit{data = pupils, y = "passed", x = {"tutoring"}, cluster = "school"}]] },
+logit{data = pupils, y = "passed", x = {"tutoring"}, cluster = "school"}
+logit{data = connect("school.db"):table("pupils"), y = "passed", x = {"tutoring"}}]] },
   { name = "estimate", topic = "estimate",
     sig = "estimate{data=, treatment=, outcome=, set= | graph=, method=, se=, weights=, cluster=, boot=, interval=}",
     brief = "The average effect of a treatment",
@@ -758,7 +769,8 @@ transaction that is rolled back. Names are quoted and values bound, never
 pasted into SQL. tostring(db) names the engine, file or database and user,
 never a password. db:close() ends the connection; its tables then say so.
 Errors relay the engine's own message on one line. Ctrl-C cancels a
-query.]],
+query. ols{} and logit{} take a lazy table as data = and fit inside the
+database from aggregate queries.]],
     example = [[db = connect "survey.db"      -- or "postgresql:///survey?host=/run/postgresql"
 trees = db:table "trees"
 #trees; trees:summary(); f = trees:fetch()]] },

@@ -37,6 +37,9 @@ local function model_notes(m)
                              df and ("t with " .. df .. " df") or "the normal")
   local lines = {"  SE " .. se .. "; " .. dist}
   if #lines[1] > 80 then lines = {"  SE " .. se, "  " .. dist} end
+  if m.in_database then
+    lines[#lines + 1] = "  summed inside the database (aggregate queries; the rows stayed there)"
+  end
   if m.weights then
     lines[#lines + 1] = string.format("  weights '%s': sum %s, effective sample size (Kish) %s",
                                       m.weights, fmt(m.weight_sum), fmt(m.ess))
@@ -144,8 +147,68 @@ local function fit_options(kind, a)
   return o
 end
 
-local function fit(kind, a)
+-- Whether v is a lazy table (connect(...):table or :query).
+local function is_lazy(v)
+  local mt = getmetatable(v)
+  return type(v) == "userdata" and type(mt) == "table" and mt.__name == "sluice.lazy"
+end
+
+-- ols{} and logit{} of a lazy table: summed inside the database
+-- (S._fit_db); numeric columns, no weights or clusters, se = classical,
+-- HC0 or HC1.
+local function fit_db(kind, a)
+  for _, key in ipairs({"weights", "cluster"}) do
+    if a[key] ~= nil then
+      fail(kind, key .. " = is not available for a lazy table yet; fetch the rows " ..
+                 "(t:fetch()) and fit in memory")
+    end
+  end
+  local se = choice(kind, "se", a.se, {"classical", "HC0", "HC1", "HC3", "cluster"})
+  if se == "HC3" or se == "cluster" then
+    fail(kind, string.format('se = "%s" is not available for a lazy table (%s); use "HC1" ' ..
+                             'or "HC0", or fetch the rows (t:fetch()) and fit in memory', se,
+                             se == "HC3" and "it needs each row's leverage"
+                             or "it needs each cluster's sums"))
+  end
+  local o = {se = se or "classical"}
+  if a.level ~= nil then
+    if not (type(a.level) == "number" and a.level > 0 and a.level < 1) then
+      fail(kind, "level = " .. show(a.level) .. " must lie strictly between 0 and 1, e.g. 0.95")
+    end
+    o.level = a.level
+  end
+  local types = a.data:types()
+  for _, name in ipairs(as_list(a.x)) do
+    if types[name] == "category" then
+      fail(kind, string.format("x: '%s' has text values; a lazy table's model takes numeric " ..
+                               "columns only (code the levels as 0/1 columns in db:query, " ..
+                               "or fetch the rows)", name))
+    end
+  end
+  if types[a.y] == "category" then
+    fail(kind, string.format("y: '%s' has text values", a.y))
+  end
+  return o
+end
+
+-- The argument checks of args(), for data = a frame or a lazy table;
+-- true for a lazy table.
+local function fit_args(kind, a)
+  if type(a) == "table" and is_lazy(a.data) then
+    local names = {}
+    for k in pairs(known_fit) do names[#names + 1] = k end
+    table.sort(names)
+    for k in pairs(a) do
+      if not known_fit[k] then E.unknown_key(kind, k, names, "argument") end
+    end
+    return true
+  end
   args(kind, a, known_fit)
+  return false
+end
+
+local function fit(kind, a)
+  local lazy = fit_args(kind, a)
   if type(a.y) ~= "string" then fail(kind, "y = must name the response column") end
   check_column(kind, "y", a.data, a.y)
   if a.x ~= nil and type(a.x) ~= "string" and type(a.x) ~= "table" then
@@ -153,9 +216,9 @@ local function fit(kind, a)
   end
   local x = as_list(a.x)
   for _, name in ipairs(x) do check_column(kind, "x", a.data, name) end
-  local opts = fit_options(kind, a)
-  local m = call(kind, S._fit, a.data, a.y, x, kind, opts)
-  m.kind, m.y, m.x = kind, a.y, x
+  local opts = lazy and fit_db(kind, a) or fit_options(kind, a)
+  local m = call(kind, lazy and S._fit_db or S._fit, a.data, a.y, x, kind, opts)
+  m.kind, m.y, m.x, m.in_database = kind, a.y, x, lazy or nil
   m.weights, m.cluster = opts.weights, opts.cluster
   if m.clusters and m.clusters < FEW_CLUSTERS then
     local few = string.format("%d clusters in '%s': cluster-robust SEs are unreliable with " ..
@@ -164,7 +227,7 @@ local function fit(kind, a)
     m.warning = (m.warning ~= "" and m.warning .. "; " or "") .. few
   end
   m._categorical = {}
-  for _, name in ipairs(x) do
+  for _, name in ipairs(lazy and {} or x) do
     if a.data[name].type == "category" then m._categorical[name] = true end
   end
   return setmetatable(m, model_mt)

@@ -94,4 +94,8 @@ int sl_open_db(lua_State *L);       /* connect, lazy tables of a database */
 ** handler); library loops poll it. */
 extern volatile int sl_bind_stop;
 
+/* The lazy table (db:table, db:query) at arg, or an argument error
+** (bind_db.c; the fits of bind_stats.c take one as data). */
+struct sl_db_table *sl_bind_checklazy(lua_State *L, int arg);
+
 #endif

@@ -39,6 +39,10 @@ static sl_db_table *check_lazy(lua_State *L, int arg) {
   return b->t;
 }
 
+sl_db_table *sl_bind_checklazy(lua_State *L, int arg) {
+  return check_lazy(L, arg);
+}
+
 /* connect(target) */
 static int l_connect(lua_State *L) {
   const char *target = luaL_checkstring(L, 1);

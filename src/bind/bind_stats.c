@@ -11,6 +11,7 @@
 #include "bind.h"
 #include "bind_frame.h"
 #include "regress.h"
+#include "db_regress.h"
 #include "estimate.h"
 #include "plot.h"
 #include <gsl/gsl_cdf.h>
@@ -201,6 +202,23 @@ static void push_by_term_fn(lua_State *L, const design *d, const double *v, doub
 }
 
 static const char *opt_string(lua_State *L, int idx, const char *k, const char *def);
+static int push_fit(lua_State *L, const design *d, sl_fit *fp, int logistic, double level,
+                    int weighted, int clustered, int terms, const char *warn);
+
+/* The column of a lazy table named by the string at idx, or an error
+** naming the closest. */
+static int db_column(lua_State *L, const sl_db_table *t, int idx) {
+  const char *name = luaL_checkstring(L, idx);
+  size_t m = sl_db_ncol(t);
+  const char **names = lua_newuserdatauv(L, (m ? m : 1) * sizeof *names, 0);
+  for (size_t j = 0; j < m; j++) {
+    names[j] = sl_db_colname(t, j);
+    if (strcmp(names[j], name) == 0) { lua_pop(L, 1); return (int)j; }
+  }
+  const char *near = sl_closest(name, names, m);
+  if (near) return luaL_error(L, "no column '%s'; did you mean '%s'?", name, near);
+  return luaL_error(L, "no column '%s'", name);
+}
 
 /* The kind of standard error named s (ols.lua has checked it). */
 static sl_vcov_kind vcov_kind(const char *s) {
@@ -252,6 +270,15 @@ static int l_fit(lua_State *L) {
                                     sizeof warn, &e)
                     : sl_ols_opts(d->X, d->y, d->n, d->p, d->names, &o, &fit, &e);
   if (rc) return sl_bind_raise(L, &e, kind, NULL, 0);
+  return push_fit(L, d, &fit, logistic, level, o.w != NULL, o.se == SL_VCOV_CLUSTER, terms, warn);
+}
+
+/* The result table of a fit (ols or logit, of a frame or in a database):
+** the chosen SEs with their p-values and intervals at level, and the fit's
+** other numbers; frees the fit. */
+static int push_fit(lua_State *L, const design *d, sl_fit *fp, int logistic, double level,
+                    int weighted, int clustered, int terms, const char *warn) {
+  sl_fit fit = *fp;
   double *lo = lua_newuserdatauv(L, 2 * d->p * sizeof *lo, 0), *hi = lo + d->p;
   lua_createtable(L, 0, 32);
   lua_pushvalue(L, terms);
@@ -286,11 +313,11 @@ static int l_fit(lua_State *L) {
   lua_pushstring(L, kinds[fit.se_kind]); lua_setfield(L, -2, "se_method");
   lua_pushnumber(L, level); lua_setfield(L, -2, "level");
   if (!normal) { lua_pushnumber(L, fit.df); lua_setfield(L, -2, "df"); }
-  if (o.w) {
+  if (weighted) {
     lua_pushnumber(L, fit.wsum); lua_setfield(L, -2, "weight_sum");
     lua_pushnumber(L, fit.ess); lua_setfield(L, -2, "ess");
   }
-  if (o.se == SL_VCOV_CLUSTER) {
+  if (clustered) {
     lua_pushinteger(L, (lua_Integer)fit.nclusters); lua_setfield(L, -2, "clusters");
   }
   lua_pushinteger(L, (lua_Integer)d->n); lua_setfield(L, -2, "n");
@@ -306,8 +333,58 @@ static int l_fit(lua_State *L) {
     lua_pushnumber(L, fit.sigma); lua_setfield(L, -2, "sigma");
   }
   lua_pushstring(L, warn); lua_setfield(L, -2, "warning");
-  sl_fit_free(&fit);
+  sl_fit_free(fp);
   return 1;
+}
+
+/* sluice._fit_db(lazy, y, {x...}, "ols" | "logit" [, {se=, level=}]): as
+** _fit, summed inside the database (src/stats/db_regress.c); models.lua
+** has refused the options a database fit lacks. */
+static int l_fit_db(lua_State *L) {
+  sl_db_table *t = sl_bind_checklazy(L, 1);
+  int ycol = db_column(L, t, 2);
+  luaL_checktype(L, 3, LUA_TTABLE);
+  int logistic = strcmp(luaL_checkstring(L, 4), "logit") == 0;
+  if (lua_isnoneornil(L, 5)) { lua_settop(L, 4); lua_newtable(L); }
+  luaL_checktype(L, 5, LUA_TTABLE);
+  size_t nx = (size_t)luaL_len(L, 3);
+  if (nx > SL_DB_FIT_MAX_X) luaL_error(L, "%d regressors at most in a database fit", SL_DB_FIT_MAX_X);
+  int xc[SL_DB_FIT_MAX_X];
+  design d;
+  memset(&d, 0, sizeof d);
+  d.p = nx + 1;
+  d.names = lua_newuserdatauv(L, d.p * sizeof *d.names, 0);
+  lua_createtable(L, (int)d.p, 0);   /* the terms, anchoring the names */
+  lua_pushliteral(L, "(intercept)");
+  lua_rawseti(L, -2, 1);
+  for (size_t k = 0; k < nx; k++) {
+    lua_geti(L, 3, (lua_Integer)k + 1);
+    xc[k] = db_column(L, t, lua_gettop(L));
+    lua_rawseti(L, -2, (lua_Integer)k + 2);
+  }
+  int terms = lua_gettop(L);
+  for (size_t j = 0; j < d.p; j++) {
+    lua_rawgeti(L, terms, (lua_Integer)j + 1);
+    d.names[j] = lua_tostring(L, -1);
+    lua_pop(L, 1);
+  }
+  sl_vcov_kind se = vcov_kind(opt_string(L, 5, "se", "classical"));
+  lua_getfield(L, 5, "level");
+  double level = lua_isnil(L, -1) ? 0.95 : lua_tonumber(L, -1);
+  lua_pop(L, 1);
+  if (!(level > 0 && level < 1)) return luaL_error(L, "level = must lie strictly between 0 and 1");
+  sl_fit fit;
+  sl_error e;
+  char warn[512] = "";
+  uint64_t dropped = 0;
+  sl_bind_stop = 0;
+  int rc = logistic ? sl_db_logit(t, ycol, xc, nx, se, d.names, 0, 0, &fit, &dropped, warn,
+                                  sizeof warn, &e)
+                    : sl_db_ols(t, ycol, xc, nx, se, d.names, &fit, &dropped, &e);
+  if (rc) return sl_bind_raise(L, &e, logistic ? "logit" : "ols", NULL, 0);
+  d.n = fit.n;
+  d.dropped = (size_t)dropped;
+  return push_fit(L, &d, &fit, logistic, level, 0, 0, terms, warn);
 }
 
 /* Strings at the fields of the options table at idx. */
@@ -573,7 +650,7 @@ static int l_forest(lua_State *L) {
 }
 
 static const luaL_Reg funcs[] = {
-  {"_fit", l_fit}, {"_estimate", l_estimate}, {"_estimate_route", l_estimate_route},
+  {"_fit", l_fit}, {"_fit_db", l_fit_db}, {"_estimate", l_estimate}, {"_estimate_route", l_estimate_route},
   {"_weights", l_weights},
   {"_histograms", l_histograms}, {"_forest", l_forest},
   {NULL, NULL}

@@ -204,6 +204,9 @@ test(name("sums and cross-products in one aggregate equal the fetched frame's"),
   raises(function() t:_sums({"soil"}) end, "categorical")
 end)
 
+-- ols{} and logit{} inside the database equal the fits of the fetched rows
+dofile("tests/lua/db_models.lua")(name, db)
+
 test(name("db:close() ends the connection; its tables say so"), function()
   local d2 = connect(target)
   local t2 = d2:table("y")
