@@ -280,6 +280,16 @@ static void test_errors(void **st) {
   assert_int_equal(sl_db_logit(t, 0, x, 2, SL_VCOV_CLASSICAL, names, 0, 0, &f, &d, w, sizeof w,
                                &e), SL_EARG);
   assert_non_null(strstr(e.msg, "0/1 response; 'y' takes other values"));
+  /* x1 + 1e-7 x2 beside x1: a sine near 2e-6 (sd of x2 about 14, of x1
+  ** about 0.87), which the in-memory QR fits but the p x p sums cannot
+  ** hold to the digits: refused, naming the column */
+  sl_db_table *q = sl_db_query_open(db, "SELECT y, x1, x1 + 1e-7 * x2 AS near FROM r", &e);
+  assert_non_null(q);
+  static const char *const nn[] = {"(intercept)", "x1", "near"};
+  assert_int_equal(sl_db_ols(q, 0, x, 2, SL_VCOV_CLASSICAL, nn, &f, &d, &e), SL_EARG);
+  assert_non_null(strstr(e.msg, "column 'near' is nearly a linear combination"));
+  assert_non_null(strstr(e.msg, "fetch the rows"));
+  sl_db_table_free(q);
   sl_db_table_free(t);
   sl_db_close(db);
 }
