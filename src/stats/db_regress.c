@@ -10,6 +10,8 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_linalg.h>
 #include "db_internal.h"
 #include "db_regress.h"
 
@@ -187,43 +189,49 @@ static int run(const dfit *d, sl_db_buf *b, const sl_db_param *par, size_t np, d
 
 /* ---- the p x p algebra ---- */
 
-/* A = L L' in place (L in the lower triangle, p x p row-major); returns
-** the first column whose pivot is not positive, or p. */
+/* A = L L' in place through GSL (L in the lower triangle, p x p
+** row-major); returns the first column whose pivot is not positive, or p.
+** On a failure the leading blocks are factored, one size at a time (p is
+** small), to find that column; A is then left with the block before it
+** factored. */
 static size_t cholesky(double *A, size_t p) {
-  for (size_t j = 0; j < p; j++) {
-    double s = A[j * p + j];
-    for (size_t k = 0; k < j; k++) s -= A[j * p + k] * A[j * p + k];
-    if (!(s > 0)) return j;
-    double l = sqrt(s);
-    A[j * p + j] = l;
-    for (size_t i = j + 1; i < p; i++) {
-      double t = A[i * p + j];
-      for (size_t k = 0; k < j; k++) t -= A[i * p + k] * A[j * p + k];
-      A[i * p + j] = t / l;
+  gsl_matrix_view M = gsl_matrix_view_array(A, p, p);
+  double *copy = malloc(p * p * sizeof *copy);
+  if (copy) memcpy(copy, A, p * p * sizeof *copy);
+  gsl_error_handler_t *old = gsl_set_error_handler_off();
+  size_t bad = p;
+  if (gsl_linalg_cholesky_decomp1(&M.matrix)) {
+    bad = 0;
+    for (size_t k = 1; copy && k <= p; k++) {   /* the largest block that factors */
+      memcpy(A, copy, p * p * sizeof *copy);
+      gsl_matrix_view B = gsl_matrix_view_array_with_tda(A, k, k, p);
+      if (gsl_linalg_cholesky_decomp1(&B.matrix)) break;
+      bad = k;
+    }
+    if (copy) {
+      memcpy(A, copy, p * p * sizeof *copy);
+      gsl_matrix_view B = gsl_matrix_view_array_with_tda(A, bad ? bad : 1, bad ? bad : 1, p);
+      if (bad) gsl_linalg_cholesky_decomp1(&B.matrix);
     }
   }
-  return p;
+  gsl_set_error_handler(old);
+  free(copy);
+  return bad;
 }
 
 /* x = (L L')^-1 b in place. */
 static void chol_solve(const double *L, size_t p, double *x) {
-  for (size_t i = 0; i < p; i++) {
-    for (size_t k = 0; k < i; k++) x[i] -= L[i * p + k] * x[k];
-    x[i] /= L[i * p + i];
-  }
-  for (size_t i = p; i-- > 0;) {
-    for (size_t k = i + 1; k < p; k++) x[i] -= L[k * p + i] * x[k];
-    x[i] /= L[i * p + i];
-  }
+  gsl_matrix_const_view M = gsl_matrix_const_view_array(L, p, p);
+  gsl_vector_view v = gsl_vector_view_array(x, p);
+  gsl_linalg_cholesky_svx(&M.matrix, &v.vector);
 }
 
-/* Ai = (L L')^-1, column by column. */
+/* Ai = (L L')^-1. */
 static void chol_inverse(const double *L, size_t p, double *Ai, double *col) {
-  for (size_t j = 0; j < p; j++) {
-    for (size_t i = 0; i < p; i++) col[i] = i == j;
-    chol_solve(L, p, col);
-    for (size_t i = 0; i < p; i++) Ai[i * p + j] = col[i];
-  }
+  (void)col;
+  memcpy(Ai, L, p * p * sizeof *Ai);
+  gsl_matrix_view M = gsl_matrix_view_array(Ai, p, p);
+  gsl_linalg_cholesky_invert(&M.matrix);
 }
 
 /* Factor A (the sums of z z' over the rows, A_00 = n) into L, refusing
