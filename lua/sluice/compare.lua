@@ -365,6 +365,10 @@ function C.compare(a)
   for k in pairs(a) do
     if not allowed[k] then E.unknown_key("compare", k, names, "argument") end
   end
+  if E.is_lazy(a.data) then
+    fail("data = is a database table: compare{} runs on data frames so far; fetch the rows " ..
+         "with t:fetch()")
+  end
   if not E.is_frame(a.data) then fail("data = must be a data frame (read_csv, read_sql)") end
   local x, y = a.treatment, a.outcome
   E.check_column("compare", "treatment", a.data, x)

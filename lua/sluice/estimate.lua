@@ -96,6 +96,12 @@ local function as_list(v)
   return out
 end
 
+-- Whether v is a lazy table (connect(...):table or :query).
+function E.is_lazy(v)
+  local mt = getmetatable(v)
+  return type(v) == "userdata" and type(mt) == "table" and mt.__name == "sluice.lazy"
+end
+
 local function is_frame(v)
   local mt = getmetatable(v)
   return type(mt) == "table" and mt.__name == "sluice.frame"
@@ -185,6 +191,10 @@ local function args(fname, a, keys)
   table.sort(names)
   for k in pairs(a) do
     if not keys[k] then unknown_key(fname, k, names, "argument") end
+  end
+  if E.is_lazy(a.data) then
+    fail(fname, "data = is a database table: " .. fname .. "{} runs on data frames so far " ..
+         "(ols{} and logit{} run in the database); fetch the rows with t:fetch()")
   end
   if not is_frame(a.data) then fail(fname, "data = must be a data frame (read_csv, read_sql)") end
   return a

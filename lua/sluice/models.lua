@@ -147,11 +147,7 @@ local function fit_options(kind, a)
   return o
 end
 
--- Whether v is a lazy table (connect(...):table or :query).
-local function is_lazy(v)
-  local mt = getmetatable(v)
-  return type(v) == "userdata" and type(mt) == "table" and mt.__name == "sluice.lazy"
-end
+local is_lazy = E.is_lazy
 
 -- ols{} and logit{} of a lazy table: summed inside the database
 -- (S._fit_db); numeric columns, no weights or clusters, se = classical,
