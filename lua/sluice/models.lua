@@ -122,6 +122,14 @@ local function numeric_column(kind, key, f, name)
 end
 
 -- The options of ols{} and logit{} for S._fit: se =, cluster = (which
+-- level =, checked: a number strictly between 0 and 1, or nil.
+local function level_option(kind, a)
+  if a.level ~= nil and not (type(a.level) == "number" and a.level > 0 and a.level < 1) then
+    fail(kind, "level = " .. show(a.level) .. " must lie strictly between 0 and 1, e.g. 0.95")
+  end
+  return a.level
+end
+
 -- alone means se = "cluster"), weights =, level =.
 local function fit_options(kind, a)
   local o = {}
@@ -138,12 +146,7 @@ local function fit_options(kind, a)
   end
   o.se = se or "classical"
   if a.weights ~= nil then o.weights = numeric_column(kind, "weights", a.data, a.weights) end
-  if a.level ~= nil then
-    if not (type(a.level) == "number" and a.level > 0 and a.level < 1) then
-      fail(kind, "level = " .. show(a.level) .. " must lie strictly between 0 and 1, e.g. 0.95")
-    end
-    o.level = a.level
-  end
+  o.level = level_option(kind, a)
   return o
 end
 
@@ -167,12 +170,7 @@ local function fit_db(kind, a)
                              or "it needs each cluster's sums"))
   end
   local o = {se = se or "classical"}
-  if a.level ~= nil then
-    if not (type(a.level) == "number" and a.level > 0 and a.level < 1) then
-      fail(kind, "level = " .. show(a.level) .. " must lie strictly between 0 and 1, e.g. 0.95")
-    end
-    o.level = a.level
-  end
+  o.level = level_option(kind, a)
   local types = a.data:types()
   for _, name in ipairs(as_list(a.x)) do
     if types[name] == "category" then

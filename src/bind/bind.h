@@ -97,5 +97,8 @@ extern volatile int sl_bind_stop;
 /* The lazy table (db:table, db:query) at arg, or an argument error
 ** (bind_db.c; the fits of bind_stats.c take one as data). */
 struct sl_db_table *sl_bind_checklazy(lua_State *L, int arg);
+/* The column of lazy table t named by the string at idx, or an error
+** naming the closest column. */
+int sl_bind_db_column(lua_State *L, const struct sl_db_table *t, int idx);
 
 #endif

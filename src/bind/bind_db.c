@@ -234,8 +234,7 @@ static int t_fetch(lua_State *L) {
   return push_frame(L, sl_db_fetch(t, SIZE_MAX, limit, &e), &e);
 }
 
-/* The column index of the name at idx, or an error naming the closest. */
-static int column_index(lua_State *L, sl_db_table *t, int idx) {
+int sl_bind_db_column(lua_State *L, const sl_db_table *t, int idx) {
   const char *name = luaL_checkstring(L, idx);
   size_t m = sl_db_ncol(t);
   const char **names = lua_newuserdatauv(L, (m ? m : 1) * sizeof *names, 0);
@@ -261,11 +260,11 @@ static int t_sums(lua_State *L) {
   int centred = 0;
   for (lua_Integer k = 1; k <= p; k++) {
     lua_geti(L, 2, k);
-    cols[k - 1] = column_index(L, t, -1);
+    cols[k - 1] = sl_bind_db_column(L, t, -1);
     lua_pop(L, 1);
   }
   if (lua_istable(L, 3)) {
-    if (lua_getfield(L, 3, "weight") != LUA_TNIL) w = column_index(L, t, -1);
+    if (lua_getfield(L, 3, "weight") != LUA_TNIL) w = sl_bind_db_column(L, t, -1);
     lua_pop(L, 1);
     if (lua_getfield(L, 3, "centre") == LUA_TTABLE) {
       centred = 1;

@@ -205,20 +205,6 @@ static const char *opt_string(lua_State *L, int idx, const char *k, const char *
 static int push_fit(lua_State *L, const design *d, sl_fit *fp, int logistic, double level,
                     int weighted, int clustered, int terms, const char *warn);
 
-/* The column of a lazy table named by the string at idx, or an error
-** naming the closest. */
-static int db_column(lua_State *L, const sl_db_table *t, int idx) {
-  const char *name = luaL_checkstring(L, idx);
-  size_t m = sl_db_ncol(t);
-  const char **names = lua_newuserdatauv(L, (m ? m : 1) * sizeof *names, 0);
-  for (size_t j = 0; j < m; j++) {
-    names[j] = sl_db_colname(t, j);
-    if (strcmp(names[j], name) == 0) { lua_pop(L, 1); return (int)j; }
-  }
-  const char *near = sl_closest(name, names, m);
-  if (near) return luaL_error(L, "no column '%s'; did you mean '%s'?", name, near);
-  return luaL_error(L, "no column '%s'", name);
-}
 
 /* The kind of standard error named s (ols.lua has checked it). */
 static sl_vcov_kind vcov_kind(const char *s) {
@@ -342,7 +328,7 @@ static int push_fit(lua_State *L, const design *d, sl_fit *fp, int logistic, dou
 ** has refused the options a database fit lacks. */
 static int l_fit_db(lua_State *L) {
   sl_db_table *t = sl_bind_checklazy(L, 1);
-  int ycol = db_column(L, t, 2);
+  int ycol = sl_bind_db_column(L, t, 2);
   luaL_checktype(L, 3, LUA_TTABLE);
   int logistic = strcmp(luaL_checkstring(L, 4), "logit") == 0;
   if (lua_isnoneornil(L, 5)) { lua_settop(L, 4); lua_newtable(L); }
@@ -359,7 +345,7 @@ static int l_fit_db(lua_State *L) {
   lua_rawseti(L, -2, 1);
   for (size_t k = 0; k < nx; k++) {
     lua_geti(L, 3, (lua_Integer)k + 1);
-    xc[k] = db_column(L, t, lua_gettop(L));
+    xc[k] = sl_bind_db_column(L, t, lua_gettop(L));
     lua_rawseti(L, -2, (lua_Integer)k + 2);
   }
   int terms = lua_gettop(L);

@@ -305,24 +305,9 @@ static void sandwich(size_t p, const double *Ai, const double *M, double f, doub
     }
 }
 
-/* The arrays of a fit (as regress.c's), zeroed. */
+/* The arrays of a fit, zeroed (sl_fit_alloc), or an error. */
 static int fit_alloc(sl_fit *fit, size_t n, size_t p, sl_error *e) {
-  memset(fit, 0, sizeof *fit);
-  fit->n = n;
-  fit->p = p;
-  fit->coef = calloc(p, sizeof *fit->coef);
-  fit->se = calloc(p, sizeof *fit->se);
-  fit->robust_se = calloc(p, sizeof *fit->robust_se);
-  fit->cov = calloc(p * p, sizeof *fit->cov);
-  fit->aliased = calloc(p, sizeof *fit->aliased);
-  fit->se_chosen = calloc(p, sizeof *fit->se_chosen);
-  fit->cov_chosen = calloc(p * p, sizeof *fit->cov_chosen);
-  if (!fit->coef || !fit->se || !fit->robust_se || !fit->cov || !fit->aliased ||
-      !fit->se_chosen || !fit->cov_chosen) {
-    sl_fit_free(fit);
-    return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
-  }
-  return SL_OK;
+  return sl_fit_alloc(fit, n, p) ? sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory") : SL_OK;
 }
 
 /* The SEs of a covariance (NaN where the variance is not positive). */

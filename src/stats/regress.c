@@ -341,8 +341,7 @@ void sl_fit_free(sl_fit *fit) {
   memset(fit, 0, sizeof *fit);
 }
 
-/* Allocate the arrays of a fit with p columns; 0 on success. */
-static int fit_alloc(sl_fit *fit, size_t n, size_t p) {
+int sl_fit_alloc(sl_fit *fit, size_t n, size_t p) {
   memset(fit, 0, sizeof *fit);
   fit->n = n;
   fit->p = p;
@@ -585,7 +584,7 @@ int sl_ols_opts(const double *X, const double *y, size_t n, size_t p,
   memset(&a, 0, sizeof a);
   memset(&ws, 0, sizeof ws);
   int *ones = malloc(p * sizeof *ones);
-  if (!ones || fit_alloc(fit, n, p) || qracc_init(&a, p, n) || fitws_init(&ws, p)) {
+  if (!ones || sl_fit_alloc(fit, n, p) || qracc_init(&a, p, n) || fitws_init(&ws, p)) {
     rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
     goto done;
   }
@@ -1195,7 +1194,7 @@ int sl_logit_opts(const double *X, const double *y, size_t n, size_t p,
   int fast = !sl_logit_qr_only;
   double *b = calloc(p, sizeof *b), *bn = calloc(p, sizeof *bn);
   double *step = calloc(p, sizeof *step), *xmax = calloc(p, sizeof *xmax), *rows = NULL;
-  if (!b || !bn || !step || !xmax || fit_alloc(fit, n, p) || qracc_init(&a, p, n) ||
+  if (!b || !bn || !step || !xmax || sl_fit_alloc(fit, n, p) || qracc_init(&a, p, n) ||
       fitws_init(&ws, p) || !(rows = malloc(4 * a.m * sizeof *rows)) ||
       (fast && neacc_init(&ne, p, a.m))) {
     rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");

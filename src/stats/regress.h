@@ -73,6 +73,10 @@ typedef struct sl_fit {
 ** return the fit holds no memory (freeing it is harmless). */
 void sl_fit_free(sl_fit *fit);
 
+/* The zeroed arrays of a fit of n rows and p columns; nonzero when memory
+** runs out (the fit then holds none). */
+int sl_fit_alloc(sl_fit *fit, size_t n, size_t p);
+
 /* Ordinary least squares.  A rank-deficient X is an error whose message
 ** names the aliased columns (names: p strings, may be NULL); so are n < p
 ** and a NaN or infinity in X or y (naming the row).  With n == p the fit is
