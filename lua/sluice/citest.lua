@@ -1,8 +1,10 @@
 -- sluice.citest: g:test(f, opts), the graph on trial: each conditional
--- independence the graph implies (g:implications) tested on a data frame,
--- the p-values adjusted for multiple testing, a verdict per implication, the
--- edges whose addition would remove a contradicted one, a picture, and the
--- caution.  The tests themselves are the C primitive S._citest (citest.c).
+-- independence the graph implies (g:implications) tested on a data frame or
+-- a lazy table, the p-values adjusted for multiple testing, a verdict per
+-- implication, the edges whose addition would remove a contradicted one, a
+-- picture, and the caution.  The tests themselves are the C primitives
+-- S._citest (a frame) and S._citest_db (a lazy table, inside the database;
+-- citest.c).
 local P = require "sluice.print"
 local E = require "sluice.estimate"
 local C = {}
@@ -124,15 +126,31 @@ local function additions(g, a, b, given)
   return out
 end
 
--- One row: the test of one implication on f.
+-- The bootstrap needs the rows, which stay in the database (so do the
+-- methods S._citest_db refuses by name).
+local function db_options(o)
+  if o.boot > 0 then
+    fail(fname, string.format("boot = %d resamples the rows, which stay in the database: " ..
+                              "fetch them (t:fetch()) and test the frame, or leave boot out " ..
+                              "(the intervals then come from Fisher's z)", o.boot))
+  end
+end
+
+-- One row: the test of one implication on f (a frame or a lazy table).
 local function test_one(f, names, imp, o)
   local row = {a = imp.a, b = imp.b, given = {}}
   for i, v in ipairs(imp.given or {}) do row.given[i] = v end
   row.text = implication_text(row.a, row.b, row.given)
   local why = missing_columns(f, names, imp)
   if not why then
-    local r, msg, n, dropped = S._citest(f, imp.a, imp.b, row.given, o.method, o.level,
-                                         o.boot, o.seed)
+    local r, msg, n, dropped
+    if o.lazy then
+      r, msg, n, dropped = E.call(fname, S._citest_db, f, imp.a, imp.b, row.given, o.method,
+                                  o.level)
+    else
+      r, msg, n, dropped = S._citest(f, imp.a, imp.b, row.given, o.method, o.level, o.boot,
+                                     o.seed)
+    end
     if r then
       for k, v in pairs(r) do row[k] = v end
       if row.stat ~= row.stat then row.stat = nil end
@@ -211,10 +229,11 @@ function result_mt.__tostring(t)
                stat = stat_text(r), p = p_text(r.p), p_adj = p_text(r.p_adj),
                verdict = r.verdict}
   end
-  local lines = {string.format("tests of %d implication%s of the graph (%s; %g%% intervals)",
+  local lines = {string.format("tests of %d implication%s of the graph (%s; %g%% intervals%s)",
                                #t, #t == 1 and "" or "s", t.method == "auto"
                                and "test by column types" or "method = " .. t.method,
-                               t.level * 100)}
+                               t.level * 100, t.in_database and "; summed inside the database"
+                               or "")}
   if #t > 0 then
     lines[#lines + 1] = E.table_text(rows, {
       {"implication", "imp", "left"}, {"test", "test", "left"}, {"n", "n"},
@@ -278,15 +297,19 @@ end
 -- g:test(f, opts): the result table (see the help entry).
 function C.test(g, f, opts)
   if not is_graph(g) then fail(fname, "call it on a graph: g:test(f, {...})") end
-  if not E.is_frame(f) then
-    fail(fname, "the data must be a data frame (read_csv, read_sql, m:simulate), got " .. show(f))
+  local lazy = E.is_lazy(f)
+  if not lazy and not E.is_frame(f) then
+    fail(fname, "the data must be a data frame (read_csv, read_sql, m:simulate) or a lazy " ..
+                "table (connect), got " .. show(f))
   end
   local o = options(opts)
+  o.lazy = lazy
+  if lazy then db_options(o) end
   local list = implications(g, o.implications)
   local names = {}
   for _, v in ipairs(f:names()) do names[v] = true end
   local t = {alpha = o.alpha, adjust = o.adjust, method = o.method, level = o.level,
-             untestable = list.untestable or 0}
+             untestable = list.untestable or 0, in_database = lazy or nil}
   local ps = {}
   for i, imp in ipairs(list) do
     t[i] = test_one(f, names, imp, o)

@@ -291,9 +291,10 @@ r:evaluate(plots, {at = {irrigation = 1}})]=] },
   { name = "g:test", topic = "adjust",
     brief = "Put the graph on trial: test its implications",
     sig = "g:test(f, {method=, alpha=, adjust=, level=, boot=, seed=, plot=, implications=})",
-    returns = "a table, one row per implication: a, b, given, test, n, dropped, effect, lo, hi, stat, df, p, p_adj, verdict, why, add; fields alpha, adjust, untestable",
+    returns = "a table, one row per implication: a, b, given, test, n, dropped, effect, lo, hi, stat, df, p, p_adj, verdict, why, add; fields alpha, adjust, untestable, in_database (a lazy table)",
     summary = [[Tests every conditional independence of g:implications() (or the list given
-as implications =) on the data frame f. The test follows the column types:
+as implications =) on the data frame f, or on a lazy table (connect; see the
+end). The test follows the column types:
 both continuous: the partial correlation (residuals of least squares on the
 given set) with Fisher's z test and interval (SE 1/sqrt(n - k - 3), k the
 conditioning columns, text columns as dummies); a binary (0/1 or two-level)
@@ -319,7 +320,16 @@ the graph acyclic and would remove it. The printout shows the table, the
 summary, a text picture of the effects and the caution; plot = "file.svg"
 (.png, .pdf) draws them sorted with a zero line, contradicted ones marked.
 Passing does not prove the graph: hidden confounders and the direction of
-edges stay untested.]],
+edges stay untested.
+f = a lazy table tests inside the database: per implication one query for
+the columns' means and kinds over the complete rows and one for their
+centred cross-products, from which the partial correlation (and method =
+"lr" with a continuous response) comes as it does for a frame; the rows
+stay there. Numeric columns only. method = "residual" and "gtest" and boot
+= are refused (they need the rows: fetch them with t:fetch()); an
+implication whose columns would get the G-test or the logistic LR test, or
+that has a text column, is "not tested" with why saying so (method =
+"partial" runs 0/1 columns in the database).]],
     example = [=[g = graph [[
   "home support" -> attendance -> grade
   "home support" -> homework -> grade
@@ -328,7 +338,8 @@ edges stay untested.]],
 pupils = read_csv "pupils.csv"
 t = g:test(pupils)                  -- Holm-adjusted, alpha = 0.05
 t[1].verdict, t[1].p_adj, t[1].add
-g:test(pupils, {method = "residual", adjust = "bh", plot = "trial.svg"})]=] },
+g:test(pupils, {method = "residual", adjust = "bh", plot = "trial.svg"})
+g:test(connect("school.db"):table("pupils"))   -- inside the database]=] },
   { name = "ols", topic = "estimate",
     sig = "ols{data=, y=, x={...}, se=, cluster=, weights=, level=}",
     brief = "Least squares regression",

@@ -1,6 +1,7 @@
 /*
 ** bind_citest.c: the raw primitives behind g:test (lua/sluice/citest.lua
-** gives them their public form): sluice._citest tests one implication,
+** gives them their public form): sluice._citest tests one implication on
+** a frame, sluice._citest_db on a lazy table inside the database,
 ** sluice._padjust adjusts a list of p-values.
 */
 #include <math.h>
@@ -8,6 +9,7 @@
 #include "bind.h"
 #include "bind_frame.h"
 #include "citest.h"
+#include "db.h"
 
 static const char *const methods[] = {"auto", "partial", "lr", "gtest", "residual", NULL};
 static const char *const adjusts[] = {"none", "holm", "bh", NULL};
@@ -32,6 +34,38 @@ static int *columns(lua_State *L, const sl_frame *f, int idx, size_t *n) {
 
 #define SETNUM(k, v) (lua_pushnumber(L, (v)), lua_setfield(L, -2, (k)))
 
+/* The result of a test as the table _citest returns; the response is
+** named by the argument a (2) or b (3). */
+static int push_result(lua_State *L, const sl_ci_result *r, int boot) {
+  lua_createtable(L, 0, 14);
+  lua_pushstring(L, sl_citest_name(r->test)); lua_setfield(L, -2, "test");
+  lua_pushinteger(L, (lua_Integer)r->n); lua_setfield(L, -2, "n");
+  lua_pushinteger(L, (lua_Integer)r->dropped); lua_setfield(L, -2, "dropped");
+  SETNUM("effect", r->effect);
+  if (!isnan(r->lo)) { SETNUM("lo", r->lo); SETNUM("hi", r->hi); }
+  SETNUM("stat", r->stat);
+  if (!isnan(r->df)) SETNUM("df", r->df);
+  SETNUM("p", r->p);
+  if (r->response >= 0) {
+    lua_pushvalue(L, r->response == 0 ? 2 : 3);
+    lua_setfield(L, -2, "response");
+  }
+  if (boot) { lua_pushinteger(L, (lua_Integer)r->boot_done); lua_setfield(L, -2, "boot"); }
+  if (r->note[0]) { lua_pushstring(L, r->note); lua_setfield(L, -2, "note"); }
+  return 1;
+}
+
+/* nil, the reason, and the rows used and dropped (nil when no row was
+** read). */
+static int push_failure(lua_State *L, const sl_ci_result *r, const sl_error *e) {
+  lua_pushnil(L);
+  lua_pushstring(L, e->msg);
+  if (r->n == 0 && r->dropped == 0) { lua_pushnil(L); lua_pushnil(L); return 4; }
+  lua_pushinteger(L, (lua_Integer)r->n);
+  lua_pushinteger(L, (lua_Integer)r->dropped);
+  return 4;
+}
+
 /* sluice._citest(frame, a, b, {given}, method, level, boot, seed) -> a
 ** table, or nil and the reason the test cannot be done. */
 static int l_citest(lua_State *L) {
@@ -51,28 +85,43 @@ static int l_citest(lua_State *L) {
   sl_ci_result r;
   if (sl_citest(f, a, b, given, ng, method, level, (size_t)boot, (uint64_t)seed, &r, &e)) {
     if (e.code == SL_ENOMEM) return sl_bind_raise(L, &e, NULL, NULL, 0);
-    lua_pushnil(L);
-    lua_pushstring(L, e.msg);
-    lua_pushinteger(L, (lua_Integer)r.n);
-    lua_pushinteger(L, (lua_Integer)r.dropped);
-    return 4;
+    return push_failure(L, &r, &e);
   }
-  lua_createtable(L, 0, 14);
-  lua_pushstring(L, sl_citest_name(r.test)); lua_setfield(L, -2, "test");
-  lua_pushinteger(L, (lua_Integer)r.n); lua_setfield(L, -2, "n");
-  lua_pushinteger(L, (lua_Integer)r.dropped); lua_setfield(L, -2, "dropped");
-  SETNUM("effect", r.effect);
-  if (!isnan(r.lo)) { SETNUM("lo", r.lo); SETNUM("hi", r.hi); }
-  SETNUM("stat", r.stat);
-  if (!isnan(r.df)) SETNUM("df", r.df);
-  SETNUM("p", r.p);
-  if (r.response >= 0) {
-    lua_pushvalue(L, r.response == 0 ? 2 : 3);
-    lua_setfield(L, -2, "response");
+  return push_result(L, &r, boot != 0);
+}
+
+/* sluice._citest_db(lazy, a, b, {given}, method, level): the test inside
+** the database (citest.lua has refused boot).  A method that does not run
+** there, a failure of the connection or of memory and a Ctrl-C are raised;
+** what the data rule out comes back as for _citest. */
+static int l_citest_db(lua_State *L) {
+  sl_db_table *t = sl_bind_checklazy(L, 1);
+  int a = sl_bind_db_column(L, t, 2), b = sl_bind_db_column(L, t, 3);
+  luaL_checktype(L, 4, LUA_TTABLE);
+  size_t ng = (size_t)luaL_len(L, 4);
+  if (ng + 2 > SL_DB_MAX_SUMS)
+    return luaL_error(L, "%d conditioning columns at most in a test in the database",
+                      SL_DB_MAX_SUMS - 2);
+  int given[SL_DB_MAX_SUMS];
+  for (size_t i = 0; i < ng; i++) {
+    lua_geti(L, 4, (lua_Integer)i + 1);
+    given[i] = sl_bind_db_column(L, t, lua_gettop(L));
+    lua_pop(L, 1);
   }
-  if (boot) { lua_pushinteger(L, (lua_Integer)r.boot_done); lua_setfield(L, -2, "boot"); }
-  if (r.note[0]) { lua_pushstring(L, r.note); lua_setfield(L, -2, "note"); }
-  return 1;
+  int method = luaL_checkoption(L, 5, "auto", methods);
+  double level = luaL_optnumber(L, 6, 0.95);
+  sl_error e;
+  if (sl_citest_db_method(method, &e)) return sl_bind_raise(L, &e, NULL, NULL, 0);
+  if (!sl_db_is_open(sl_db_of(t)))
+    return luaL_error(L, "the connection is closed (db:close()); connect again");
+  sl_ci_result r;
+  sl_bind_stop = 0;
+  if (sl_citest_db(t, a, b, given, ng, method, level, &r, &e)) {
+    if (e.code == SL_ENOMEM || e.code == SL_EIO || sl_bind_stop)
+      return sl_bind_raise(L, &e, NULL, NULL, 0);
+    return push_failure(L, &r, &e);
+  }
+  return push_result(L, &r, 0);
 }
 
 /* sluice._padjust({p...}, "holm" | "bh" | "none") -> {p_adj...}; entries
@@ -102,7 +151,7 @@ static int l_padjust(lua_State *L) {
 }
 
 static const luaL_Reg funcs[] = {
-  {"_citest", l_citest}, {"_padjust", l_padjust},
+  {"_citest", l_citest}, {"_citest_db", l_citest_db}, {"_padjust", l_padjust},
   {NULL, NULL}
 };
 

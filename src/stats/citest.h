@@ -30,6 +30,15 @@
 ** theory only for the partial and rank correlations and the linear LR with
 ** df = 1; otherwise it is NaN unless boot > 0 (percentile intervals).
 ** Rows with a missing value in a, b or given are dropped.
+**
+** On a lazy table (db.h) the partial correlation and the linear LR test
+** run inside the database: both need only the cross-products of the
+** test's columns centred over the complete rows (a query for the means and
+** the kinds of the columns, then one of sl_db_sums), from which the frame
+** and the database compute the same statistic (citest.c).  The tests that
+** need the rows themselves or the cells of discrete columns (the G-test,
+** the rank test, the logistic LR test, bootstrap intervals) and text
+** columns are refused there with an error naming them.
 */
 #ifndef SL_CITEST_H
 #define SL_CITEST_H
@@ -37,6 +46,7 @@
 #include <stddef.h>
 #include <stdint.h>
 #include "error.h"
+#include "db.h"
 #include "frame.h"
 
 #define SL_CITEST_MAX_CELLS 512     /* cells of a table the G-test accepts */
@@ -65,6 +75,19 @@ typedef struct sl_ci_result {
 ** categorical pair without a G-test) is an error naming the reason. */
 int sl_citest(const sl_frame *f, int a, int b, const int *given, size_t ng, int method,
               double level, size_t boot, uint64_t seed, sl_ci_result *r, sl_error *e);
+
+/* The same test of a lazy table, inside the database: method auto,
+** partial or lr, numeric columns only; the tests the frame would run
+** there but the database does not (see above) are an error that names
+** them and says to fetch the rows or use method partial.  At most
+** SL_DB_MAX_SUMS - 2 conditioning columns.  r->n and r->dropped are set
+** once the first query has run, also when the test is then refused. */
+int sl_citest_db(const sl_db_table *t, int a, int b, const int *given, size_t ng, int method,
+                 double level, sl_ci_result *r, sl_error *e);
+
+/* SL_OK when method runs in the database (auto, partial, lr), else the
+** error sl_citest_db gives before any query, naming the method. */
+int sl_citest_db_method(int method, sl_error *e);
 
 /* A short name for a test: "partial r", "LR linear", ... */
 const char *sl_citest_name(int test);
