@@ -89,6 +89,7 @@ int sl_open_implications(lua_State *L); /* g:implications */
 int sl_open_citest(lua_State *L);   /* tests of implications (raw) */
 int sl_open_sensitivity(lua_State *L); /* E-values and omitted-variable bias (raw) */
 int sl_open_db(lua_State *L);       /* connect, lazy tables of a database */
+int sl_open_pois(lua_State *L);     /* hidden checks of the Poisson weights (after db) */
 
 /* Set when the user asks to stop a long computation (the shell's SIGINT
 ** handler); library loops poll it. */

@@ -57,32 +57,49 @@ static int l_connect(lua_State *L) {
 }
 
 /* Push a lazy table of the connection at argument 1, or raise. */
-static int push_lazy(lua_State *L, sl_db_table *t, const sl_error *e) {
+/* The options of db:table and db:query at index 3: {key = "column"}, the
+** rows' key (a column of whole numbers) for the Poisson bootstrap. */
+static void table_options(lua_State *L, sl_db_table *t, const char *fname) {
+  if (lua_isnil(L, 3)) return;
+  static const char *const known[] = {"key"};
+  sl_bind_check_options(L, 3, fname, known, 1);
+  if (lua_getfield(L, 3, "key") != LUA_TNIL) {
+    if (lua_type(L, -1) != LUA_TSTRING) luaL_argerror(L, 3, "key = must name a column");
+    sl_error e;
+    if (sl_db_set_key(t, (size_t)sl_bind_db_column(L, t, -1), &e)) luaL_argerror(L, 3, e.msg);
+  }
+  lua_pop(L, 1);
+}
+
+static int push_lazy(lua_State *L, sl_db_table *t, const sl_error *e, const char *fname) {
   if (!t) return raise_err(L, e);
   lazy_box *b = lua_newuserdatauv(L, sizeof *b, 1);
   b->t = t;
   luaL_setmetatable(L, SL_LAZY_MT);
   lua_pushvalue(L, 1);
   lua_setiuservalue(L, -2, 1);
+  table_options(L, t, fname);
   return 1;
 }
 
 static int db_table(lua_State *L) {
+  lua_settop(L, 3);   /* the options, or nil, at 3 */
   sl_db *db = check_db(L, 1);
   const char *name = luaL_checkstring(L, 2);
   sl_error e;
   sl_bind_stop = 0;
   if (!sl_db_is_open(db)) luaL_error(L, "the connection is closed (db:close()); connect again");
-  return push_lazy(L, sl_db_table_open(db, name, &e), &e);
+  return push_lazy(L, sl_db_table_open(db, name, &e), &e, "db:table");
 }
 
 static int db_query(lua_State *L) {
+  lua_settop(L, 3);
   sl_db *db = check_db(L, 1);
   const char *sql = luaL_checkstring(L, 2);
   sl_error e;
   sl_bind_stop = 0;
   if (!sl_db_is_open(db)) luaL_error(L, "the connection is closed (db:close()); connect again");
-  return push_lazy(L, sl_db_query_open(db, sql, &e), &e);
+  return push_lazy(L, sl_db_query_open(db, sql, &e), &e, "db:query");
 }
 
 static int db_close(lua_State *L) {

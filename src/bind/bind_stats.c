@@ -413,11 +413,48 @@ static void progress(void *ctx, size_t done, size_t total) {
   fflush(stderr);
 }
 
-/* Read the spec from (frame, treatment, outcome, {set...}, opts). */
+/* A frame of a lazy table's columns and no rows, for looking up names;
+** freed with the userdata it is pushed in. */
+static int schema_gc(lua_State *L) {
+  sl_frame **f = lua_touserdata(L, 1);
+  sl_frame_free(*f);
+  *f = NULL;
+  return 0;
+}
+static sl_frame *push_schema(lua_State *L, const sl_db_table *t) {
+  sl_frame **box = lua_newuserdatauv(L, sizeof *box, 0);
+  *box = NULL;
+  lua_createtable(L, 0, 1);
+  lua_pushcfunction(L, schema_gc);
+  lua_setfield(L, -2, "__gc");
+  lua_setmetatable(L, -2);
+  sl_error e;
+  sl_frame *f = sl_frame_alloc(0);
+  if (!f) luaL_error(L, "out of memory");
+  *box = f;
+  for (size_t j = 0; j < sl_db_ncol(t); j++)
+    if ((sl_db_coltype(t, j) == SL_CATEGORICAL
+           ? sl_frame_add_categorical(f, sl_db_colname(t, j), NULL, NULL, 0, &e)
+           : sl_frame_add_numeric(f, sl_db_colname(t, j), NULL, &e)))
+      sl_bind_raise(L, &e, "estimate", NULL, 0);
+  return f;
+}
+
+/* Read the spec from (frame or lazy table, treatment, outcome, {set...},
+** opts); a lazy table's columns are looked up in a frame of its names. */
 static void read_spec(lua_State *L, sl_est_spec *s) {
   memset(s, 0, sizeof *s);
-  sl_frame *f = sl_bind_checkframe(L, 1);
-  s->data = f;
+  const char *mt = luaL_getmetafield(L, 1, "__name") ? lua_tostring(L, -1) : NULL;
+  int lazy = mt && strcmp(mt, "sluice.lazy") == 0;
+  if (mt) lua_pop(L, 1);
+  sl_frame *f;
+  if (lazy) {
+    s->table = sl_bind_checklazy(L, 1);
+    f = push_schema(L, s->table);   /* left on the stack: alive for this call */
+  } else {
+    f = sl_bind_checkframe(L, 1);
+    s->data = f;
+  }
   s->treatment = column(L, f, 2, luaL_checkstring(L, 2));
   s->outcome = lua_isnil(L, 3) ? -1 : column(L, f, 3, luaL_checkstring(L, 3));
   luaL_checktype(L, 4, LUA_TTABLE);
@@ -531,6 +568,8 @@ static void set_list(lua_State *L, const char *name, const double *v, size_t k) 
 static int l_estimate_route(lua_State *L) {
   sl_est_spec s;
   read_spec(L, &s);
+  if (s.table) return luaL_error(L, "estimate: the front-door and IV routes run on data frames; "
+                                 "fetch the rows with t:fetch()");
   const char *m = opt_string(L, 5, "method", "");
   if (strcmp(m, "frontdoor") == 0) s.method = SL_FRONTDOOR;
   else if (strcmp(m, "iv") == 0) s.method = SL_IV;
@@ -573,6 +612,7 @@ static int l_estimate_route(lua_State *L) {
 static int l_weights(lua_State *L) {
   sl_est_spec s;
   read_spec(L, &s);
+  if (s.table) return luaL_error(L, "the rows' weights are computed for a data frame");
   sl_weights w;
   sl_error e;
   if (sl_est_weights(&s, &w, &e)) return sl_bind_raise(L, &e, NULL, NULL, 0);

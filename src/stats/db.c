@@ -18,6 +18,7 @@ struct sl_db_table {
   char *from;        /* what follows FROM: the quoted name, or "(query) AS sl_source" */
   sl_db_desc d;
   char **expr;       /* per column: its value in SQL (quoted name, cast for numbers) */
+  int key;           /* the rows' integer key column, or -1 */
 };
 
 /* ---- text ---- */
@@ -277,6 +278,7 @@ static sl_db_table *new_table(sl_db *db, const char *text, int is_query, char *f
   t->db = db;
   t->is_query = is_query;
   t->from = from;
+  t->key = -1;
   if (describe(t, e) != SL_OK) { sl_db_table_free(t); return NULL; }
   return t;
 }
@@ -315,6 +317,27 @@ const char *sl_db_colname(const sl_db_table *t, size_t j) { return t->d.names[j]
 int sl_db_coltype(const sl_db_table *t, size_t j) { return t->d.types[j]; }
 const char *sl_db_colsql(const sl_db_table *t, size_t j) { return t->d.sqltypes[j]; }
 sl_db *sl_db_of(const sl_db_table *t) { return t->db; }
+int sl_db_key(const sl_db_table *t) { return t->key; }
+
+/* SQLite's rule for INTEGER affinity: the declared type contains "INT". */
+static int has_int(const char *ty) {
+  for (; *ty; ty++)
+    if ((ty[0] | 32) == 'i' && (ty[1] | 32) == 'n' && (ty[2] | 32) == 't') return 1;
+  return 0;
+}
+
+int sl_db_set_key(sl_db_table *t, size_t j, sl_error *e) {
+  if (j >= t->d.n) return sl_error_set(e, SL_EARG, 0, 0, "column %zu is out of range", j + 1);
+  const char *ty = t->d.sqltypes[j];
+  int whole = t->db->engine == SL_DB_SQLITE ? has_int(ty)
+            : strcmp(ty, "integer") == 0 || strcmp(ty, "bigint") == 0 || strcmp(ty, "smallint") == 0;
+  if (!whole)
+    return sl_error_set(e, SL_EARG, 0, 0, "key = '%s' is of type %s: the rows' key must be a "
+                        "column of whole numbers (INTEGER), one per row", t->d.names[j],
+                        ty[0] ? ty : "none");
+  t->key = (int)j;
+  return SL_OK;
+}
 const char *sl_db_from(const sl_db_table *t) { return t->from; }
 const char *sl_db_expr(const sl_db_table *t, size_t j) { return t->expr[j]; }
 const char *sl_db_source(const sl_db_table *t, int *is_query) {
@@ -343,6 +366,15 @@ int sl_db_numbers(const sl_db_table *t, const char *sql, const sl_db_param *p, s
   return db_exec(t->db, sql, p, np, take_row, &o, e);
 }
 
+int sl_db_rows(const sl_db_table *t, const char *sql, const sl_db_param *p, size_t np,
+               sl_db_row_fn fn, void *ctx, sl_error *e) {
+  return db_exec(t->db, sql, p, np, fn, ctx, e);
+}
+
+double sl_db_cell(const sl_db_row *r, int j) {
+  return r->db->ops->kind(r, j) == SL_DB_CELL_NULL ? NAN : r->db->ops->number(r, j);
+}
+
 int sl_db_count(const sl_db_table *t, uint64_t *n, sl_error *e) {
   sl_db_buf b = {0};
   sl_db_buf_add(&b, "SELECT COUNT(*) FROM %s", t->from);
@@ -368,7 +400,7 @@ static int quartile(const sl_db_table *t, size_t j, size_t n, double p, double *
          t->expr[j], sl_db_placeholder(t->db, 1, ph));
   char *sql = sl_db_buf_done(&b, e);
   if (!sql) return e->code;
-  sl_db_param par = {1, 0, (int64_t)lo};
+  sl_db_param par = {1, 0, (int64_t)lo, NULL};
   double v[2];
   int status = sl_db_numbers(t, sql, &par, 1, v, 2, e);
   free(sql);
@@ -406,7 +438,7 @@ static char *second_pass_sql(const sl_db_table *t, const double *v, sl_db_param 
   *np = 0;
   for (size_t j = 0; j < t->d.n; j++) {
     if (t->d.types[j] != SL_NUMERIC || !isfinite(v[1 + 4 * j + 1])) continue;
-    par[*np] = (sl_db_param){0, v[1 + 4 * j + 1], 0};
+    par[*np] = (sl_db_param){0, v[1 + 4 * j + 1], 0, NULL};
     sl_db_placeholder(t->db, (int)++*np, ph);
     sl_db_buf_add(&b, ", SUM(%s - %s), SUM((%s - %s) * (%s - %s))", t->expr[j], ph, t->expr[j], ph,
            t->expr[j], ph);
@@ -539,7 +571,7 @@ sl_frame *sl_db_fetch(const sl_db_table *t, size_t head, size_t limit, sl_error 
   if (!sql) return NULL;
   /* one row past the limit tells that there are more */
   size_t want = head < limit ? head : limit < INT64_MAX ? limit + 1 : limit;
-  sl_db_param par = {1, 0, want > INT64_MAX ? INT64_MAX : (int64_t)want};
+  sl_db_param par = {1, 0, want > INT64_MAX ? INT64_MAX : (int64_t)want, NULL};
   sl_build b;
   memset(&b, 0, sizeof b);
   sl_frame *fr = NULL;
@@ -579,7 +611,7 @@ static char *sums_sql(const sl_db_table *t, const int *cols, size_t p, int w,
   sl_db_buf_add(&b, "1 = 1 THEN 1 END AS sl_k, %s AS sl_w", w >= 0 ? t->expr[w] : "1.0");
   for (size_t k = 0; k < p; k++) {
     if (centre) {
-      par[*np] = (sl_db_param){0, centre[k], 0};
+      par[*np] = (sl_db_param){0, centre[k], 0, NULL};
       sl_db_placeholder(t->db, (int)++*np, ph);
       sl_db_buf_add(&b, ", %s - %s AS sl_x%zu", t->expr[cols[k]], ph, k);
     } else sl_db_buf_add(&b, ", %s AS sl_x%zu", t->expr[cols[k]], k);

@@ -71,6 +71,11 @@ size_t sl_db_ncol(const sl_db_table *t);
 const char *sl_db_colname(const sl_db_table *t, size_t j);
 int sl_db_coltype(const sl_db_table *t, size_t j);
 const char *sl_db_colsql(const sl_db_table *t, size_t j);
+/* The rows' key: a column of whole numbers (the engine's integer types)
+** that tells the rows apart, from which the Poisson bootstrap draws each
+** row's weights; -1 when none was given. */
+int sl_db_set_key(sl_db_table *t, size_t j, sl_error *e);
+int sl_db_key(const sl_db_table *t);
 /* What the table reads: the quoted name, or the query's text. */
 const char *sl_db_source(const sl_db_table *t, int *is_query);
 sl_db *sl_db_of(const sl_db_table *t);

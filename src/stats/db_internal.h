@@ -18,8 +18,9 @@ typedef struct sl_db_row { const sl_db *db; void *cur; int row; } sl_db_row;
 #define SL_DB_STOP (-1)
 typedef int (*sl_db_row_fn)(void *ctx, const sl_db_row *r, size_t i, sl_error *e);
 
-/* A bound parameter: a double or a 64-bit integer. */
-typedef struct sl_db_param { int is_int; double x; int64_t i; } sl_db_param;
+/* A bound parameter: a double, a 64-bit integer, or a text when text is
+** not NULL. */
+typedef struct sl_db_param { int is_int; double x; int64_t i; const char *text; } sl_db_param;
 
 /* Columns of a described statement; types SL_NUMERIC, SL_CATEGORICAL, or
 ** -1 when the engine cannot tell without looking at a value. */
@@ -72,6 +73,12 @@ const char *sl_db_expr(const sl_db_table *t, size_t j);
 /* Run sql, a query of one row of n numbers (NULL as NaN), into v. */
 int sl_db_numbers(const sl_db_table *t, const char *sql, const sl_db_param *p, size_t np,
                   double *v, size_t n, sl_error *e);
+
+/* Run sql on the lazy table's connection, fn once per result row; a
+** cell's number (NaN for NULL). */
+int sl_db_rows(const sl_db_table *t, const char *sql, const sl_db_param *p, size_t np,
+               sl_db_row_fn fn, void *ctx, sl_error *e);
+double sl_db_cell(const sl_db_row *r, int j);
 
 /* The engines (db_sqlite.c, db_pg.c): fill db or return an error. */
 int sl_db_sqlite_open(sl_db *db, const char *path, sl_error *e);

@@ -87,12 +87,18 @@ static int command(sl_db *db, const char *sql, sl_error *e) {
 }
 
 /* The parameters in text form (a double's "%.17g" reads back exactly). */
-typedef struct params { char text[SL_DB_MAX_SUMS * 2 + 8][32]; const char *v[SL_DB_MAX_SUMS * 2 + 8];
-                        Oid type[SL_DB_MAX_SUMS * 2 + 8]; } params;
+typedef struct params { char (*text)[32]; const char **v; Oid *type; } params;
+static void params_free(params *out) { free(out->text); free(out->v); free(out->type); }
 static int format_params(const sl_db_param *p, size_t np, params *out, sl_error *e) {
-  if (np > sizeof out->v / sizeof out->v[0])
-    return sl_error_set(e, SL_ELIMIT, 0, 0, "too many parameters (%zu)", np);
+  out->text = malloc((np + 1) * sizeof *out->text);
+  out->v = malloc((np + 1) * sizeof *out->v);
+  out->type = malloc((np + 1) * sizeof *out->type);
+  if (!out->text || !out->v || !out->type) {
+    params_free(out);
+    return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  }
   for (size_t k = 0; k < np; k++) {
+    if (p[k].text) { out->v[k] = p[k].text; out->type[k] = 25; continue; }   /* text */
     if (p[k].is_int) snprintf(out->text[k], sizeof out->text[k], "%lld", (long long)p[k].i);
     else snprintf(out->text[k], sizeof out->text[k], "%.17g", p[k].x);
     out->v[k] = out->text[k];
@@ -104,14 +110,14 @@ static int format_params(const sl_db_param *p, size_t np, params *out, sl_error 
 /* Send sql and collect its single result into *res (a tuples result). */
 static int run(sl_db *db, const char *sql, const sl_db_param *p, size_t np, PGresult **out,
                sl_error *e) {
-  params *pp = malloc(sizeof *pp);
-  if (!pp) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
-  int status = format_params(p, np, pp, e);
+  params pp;
   *out = NULL;
-  if (status == SL_OK &&
-      !PQsendQueryParams(db->h, sql, (int)np, pp->type, pp->v, NULL, NULL, 0))
+  if (np > 65535) return sl_error_set(e, SL_ELIMIT, 0, 0, "too many parameters (%zu)", np);
+  int status = format_params(p, np, &pp, e);
+  if (status != SL_OK) return status;
+  if (!PQsendQueryParams(db->h, sql, (int)np, pp.type, pp.v, NULL, NULL, 0))
     status = pg_error(db->h, NULL, e);
-  free(pp);
+  params_free(&pp);
   if (status != SL_OK) return status;
   int cancelled = 0;
   PGresult *res;
@@ -276,5 +282,9 @@ int sl_db_pg_open(sl_db *db, const char *uri, sl_error *e) {
     p_disconnect(db);
     return e->code;
   }
+  /* the estimators' queries are long expressions over few rows of output:
+  ** compiling them (JIT, PostgreSQL 11 on) costs seconds and saves little.
+  ** An engine without the setting ignores the failure. */
+  if (db->version >= 110000) command(db, "SET jit = off", &e2);
   return SL_OK;
 }

@@ -75,7 +75,7 @@ static void add_where(sl_db_buf *b, const dfit *d) {
 /* Bind x as the next parameter and append its placeholder. */
 static void add_param(sl_db_buf *b, const dfit *d, sl_db_param *par, size_t *np, double x) {
   char ph[16];
-  par[*np] = (sl_db_param){0, x, 0};
+  par[*np] = (sl_db_param){0, x, 0, NULL};
   sl_db_buf_add(b, "%s", sl_db_placeholder(sl_db_of(d->t), (int)++*np, ph));
 }
 

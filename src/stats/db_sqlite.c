@@ -40,7 +40,8 @@ static int prepare(sqlite3 *h, const char *sql, const sl_db_param *p, size_t np,
     return sl_error_set(e, SL_EARG, 0, 0, "the statement would change the database; "
                         "sluice only reads");
   for (size_t k = 0; k < np; k++) {
-    rc = p[k].is_int ? sqlite3_bind_int64(*st, (int)k + 1, p[k].i)
+    rc = p[k].text ? sqlite3_bind_text(*st, (int)k + 1, p[k].text, -1, SQLITE_TRANSIENT)
+       : p[k].is_int ? sqlite3_bind_int64(*st, (int)k + 1, p[k].i)
                      : sqlite3_bind_double(*st, (int)k + 1, p[k].x);
     if (rc != SQLITE_OK) return sqlite_error(h, rc, e);
   }

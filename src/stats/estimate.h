@@ -49,8 +49,12 @@ enum sl_interval { SL_CI_DEFAULT = 0, SL_CI_PERCENTILE = 1, SL_CI_BCA = 2, SL_CI
 /* Called now and then from the calling thread during a bootstrap. */
 typedef void (*sl_progress_fn)(void *ctx, size_t done, size_t total);
 
+struct sl_db_table;
 typedef struct sl_est_spec {
   const sl_frame *data;
+  const struct sl_db_table *table;   /* or a lazy table (then data is NULL and the
+                                    columns are the table's): standardize, ipw and
+                                    aipw inside the database (estimate_db.c) */
   int treatment, outcome;        /* column indices */
   const int *set;                /* covariate column indices */
   size_t nset;

@@ -43,6 +43,29 @@ typedef struct sl_point {
 } sl_point;
 
 int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *e);
+
+/* Checks shared by the frame and the lazy table: the roles and options
+** (on a frame's columns: a lazy table passes a frame of its columns and
+** no rows); the kinds of treatment and outcome the method needs; which of
+** a two-level treatment's values (seen sorted, txt their texts) is the
+** treated one, given = the treated = option or NULL. */
+int sl_est_check_roles(const sl_est_spec *s, sl_error *e);
+int sl_est_check_kinds(const sl_est_spec *s, int bin_t, int bin_y, const char *tname, sl_error *e);
+int sl_est_pick_treated(const char *name, int num, const double seen[2], char txt[2][64],
+                        const char *given, int *treated, sl_error *e);
+
+/* What the result says of the data beside the point (sl_est_report). */
+typedef struct sl_est_info {
+  size_t n, nclusters, t_values;
+  int bin_t, bin_y;
+  double ess_weights;    /* Kish's ESS of weights =, 0 without */
+  char t_level[2][64];
+  const char *tname, *yname;
+} sl_est_info;
+int sl_est_report(const sl_est_spec *s, const sl_point *pt, const sl_est_info *I, double *boot,
+                  sl_est_result *res, sl_error *e);
+/* The estimate on a lazy table (estimate_db.c). */
+int sl_estimate_db(const sl_est_spec *s, sl_est_result *res, sl_error *e);
 void sl_est_prep_free(sl_prep *P);
 /* want_se: also the analytic standard error (the whole sample only). */
 int sl_est_point(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
@@ -74,13 +97,9 @@ void sl_gram_start(sl_gram *a, double *G, double *blk, size_t q);
 void sl_gram_add(sl_gram *a, const double *x, double s);
 void sl_gram_finish(sl_gram *a);
 
-/* Analytic standard errors (influence.c): u = H^-1 d for nd vectors d,
-** H = sum v x x' / n over X's n rows (SL_EARG when H is singular); and
-** the contrast's SE from the rows' influence values of mu1 and mu0. */
-int sl_infl_solve(const double *X, const double *v, size_t n, size_t p, const double *d,
-                  size_t nd, double *u, sl_error *e);
-int sl_infl_finish(const sl_prep *P, int scale, double mu1, double mu0, const double *phi1,
-                   const double *phi0, sl_point *out, sl_error *e);
+/* The gradient of the contrast on the scale of its SE (influence.c):
+** the difference; the logarithm of a ratio or odds ratio. */
+void sl_infl_gradient(int scale, double mu1, double mu0, double *g1, double *g0);
 
 /* The SE and intervals of the result from the whole sample's point and the
 ** replicates (boot: s->boot entries, NaN for a failed one; reordered). */

@@ -80,7 +80,7 @@ static int check_aux(const sl_est_spec *s, sl_error *e) {
 }
 
 /* Check the roles of the columns. */
-static int check_roles(const sl_est_spec *s, sl_error *e) {
+int sl_est_check_roles(const sl_est_spec *s, sl_error *e) {
   const sl_frame *f = s->data;
   if (s->treatment < 0 || (size_t)s->treatment >= f->ncol || s->outcome < -1 ||
       s->outcome >= (int)f->ncol)
@@ -208,6 +208,25 @@ static int reads_treated(const char *v) {
   return 0;
 }
 
+int sl_est_pick_treated(const char *name, int num, const double seen[2], char txt[2][64],
+                        const char *given, int *treated, sl_error *e) {
+  *treated = 1;   /* default: the larger number, or the level that reads as treated */
+  if (given) {
+    int hit = -1;
+    for (int i = 0; i < 2; i++) {
+      char *end;
+      double v = num ? strtod(given, &end) : 0;
+      if (num ? (end != given && *end == 0 && v == seen[i]) : strcmp(given, txt[i]) == 0)
+        hit = i;
+    }
+    if (hit < 0)
+      return sl_error_set(e, SL_EARG, 0, 0, "treated = '%s' is not a value of '%s', whose values "
+                          "are '%s' and '%s'", given, name, txt[0], txt[1]);
+    *treated = hit;
+  } else if (!num && reads_treated(txt[0]) && !reads_treated(txt[1])) *treated = 0;
+  return SL_OK;
+}
+
 /* A treatment value as text: a level, or a number. */
 static void value_text(const sl_column *c, double v, char *out, size_t size) {
   if (c->type == SL_NUMERIC) snprintf(out, size, "%.15g", v);
@@ -246,20 +265,8 @@ static int code_treatment(const sl_est_spec *s, sl_prep *P, sl_error *e) {
   char txt[2][64];
   if (seen[0] > seen[1]) { double v = seen[0]; seen[0] = seen[1]; seen[1] = v; }
   for (int i = 0; i < 2; i++) value_text(c, seen[i], txt[i], sizeof txt[i]);
-  int treated = 1;   /* default: the larger number, or the level that reads as treated */
-  if (s->treated) {
-    int hit = -1;
-    for (int i = 0; i < 2; i++) {
-      char *end;
-      double v = num ? strtod(s->treated, &end) : 0;
-      if (num ? (end != s->treated && *end == 0 && v == seen[i]) : strcmp(s->treated, txt[i]) == 0)
-        hit = i;
-    }
-    if (hit < 0)
-      return sl_error_set(e, SL_EARG, 0, 0, "treated = '%s' is not a value of '%s', whose values "
-                          "are '%s' and '%s'", s->treated, c->name, txt[0], txt[1]);
-    treated = hit;
-  } else if (!num && reads_treated(txt[0]) && !reads_treated(txt[1])) treated = 0;
+  int treated, rc = sl_est_pick_treated(c->name, num, seen, txt, s->treated, &treated, e);
+  if (rc) return rc;
   for (size_t m = 0; m < P->n; m++) {
     double v = num ? c->x[P->rows[m]] : (double)c->code[P->rows[m]];
     P->t[m] = v == seen[treated];
@@ -327,9 +334,24 @@ static int fill_clusters(const sl_est_spec *s, sl_prep *P, sl_error *e) {
   return SL_OK;
 }
 
+int sl_est_check_kinds(const sl_est_spec *s, int bin_t, int bin_y, const char *tname, sl_error *e) {
+  if (!bin_t && s->method == SL_FRONTDOOR)
+    return sl_error_set(e, SL_EARG, 0, 0, "treatment = '%s' takes values other than 0 and 1, and "
+                        "method = \"frontdoor\" needs a 0/1 treatment: use f:binarize", tname);
+  if (!bin_t && s->method != SL_STANDARDIZE && s->method != SL_IV)
+    return sl_error_set(e, SL_EARG, 0, 0, "%s needs a 0/1 treatment, and '%s' takes other values: "
+                        "use f:binarize, or method = \"standardize\" for a continuous treatment",
+                        s->method == SL_IPW ? "ipw" : "aipw", tname);
+  if (!bin_t && s->estimand != SL_ATE)
+    return sl_error_set(e, SL_EARG, 0, 0, "ATT and ATC need a 0/1 treatment");
+  if (s->scale == SL_ODDS_RATIO && !bin_y)
+    return sl_error_set(e, SL_EARG, 0, 0, "an odds ratio needs a 0/1 outcome");
+  return SL_OK;
+}
+
 int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *e) {
   memset(P, 0, sizeof *P);
-  int rc = check_roles(s, e);
+  int rc = sl_est_check_roles(s, e);
   if (rc) return rc;
   const sl_frame *f = s->data;
   size_t nr = f->nrow;
@@ -417,30 +439,54 @@ int sl_est_prepare(const sl_est_spec *s, sl_prep *P, size_t *dropped, sl_error *
     return sl_error_set(e, SL_EARG, 0, 0, "the treatment '%s' takes the single value %g in the "
                         "%zu complete rows", tname, t0, n);
   }
-  if (!P->bin_t && s->method == SL_FRONTDOOR) {
-    sl_est_prep_free(P);
-    return sl_error_set(e, SL_EARG, 0, 0, "treatment = '%s' takes values other than 0 and 1, and "
-                        "method = \"frontdoor\" needs a 0/1 treatment: use f:binarize", tname);
-  }
-  if (!P->bin_t && s->method != SL_STANDARDIZE && s->method != SL_IV) {
-    sl_est_prep_free(P);
-    return sl_error_set(e, SL_EARG, 0, 0, "%s needs a 0/1 treatment, and '%s' takes other values: "
-                        "use f:binarize, or method = \"standardize\" for a continuous treatment",
-                        s->method == SL_IPW ? "ipw" : "aipw", tname);
-  }
-  if (!P->bin_t && s->estimand != SL_ATE) {
-    sl_est_prep_free(P);
-    return sl_error_set(e, SL_EARG, 0, 0, "ATT and ATC need a 0/1 treatment");
-  }
-  if (s->scale == SL_ODDS_RATIO && !P->bin_y) {
-    sl_est_prep_free(P);
-    return sl_error_set(e, SL_EARG, 0, 0, "an odds ratio needs a 0/1 outcome");
-  }
+  if ((rc = sl_est_check_kinds(s, P->bin_t, P->bin_y, tname, e))) { sl_est_prep_free(P); return rc; }
   return SL_OK;
+}
+
+/* The result from the whole sample's point and the replicates (either
+** place: a frame here, a lazy table in estimate_db.c). */
+int sl_est_report(const sl_est_spec *s, const sl_point *pt, const sl_est_info *I, double *boot,
+                  sl_est_result *res, sl_error *e) {
+  if (s->scale == SL_RATIO && !(pt->mu0 > 0 && pt->mu1 >= 0))
+    return sl_error_set(e, SL_EARG, 0, 0, "scale = \"ratio\" needs positive mean outcomes, and the "
+                        "mean of '%s' is %g under control and %g under treatment: their ratio is "
+                        "not meaningful; use scale = \"difference\"", I->yname, pt->mu0, pt->mu1);
+  res->estimate = pt->est;
+  res->mu1 = pt->mu1; res->mu0 = pt->mu0;
+  res->n = I->n;
+  res->ess = pt->ess; res->ess1 = pt->ess1; res->ess0 = pt->ess0;
+  res->ps_min = pt->ps_min; res->ps_max = pt->ps_max; res->ps_extreme = pt->ps_extreme;
+  res->binary_outcome = I->bin_y; res->binary_treatment = I->bin_t;
+  res->route = pt->route;
+  if (I->nclusters && I->nclusters < SL_CLUSTERS_FEW) {
+    char m[200];
+    snprintf(m, sizeof m, "%zu clusters: clustered standard errors are too small with fewer "
+             "than %d (common practice); read the interval with care", I->nclusters, SL_CLUSTERS_FEW);
+    sl_est_warn(res->warnings, m);
+  }
+  res->nclusters = I->nclusters;
+  res->ess_weights = I->ess_weights;
+  memcpy(res->control_level, I->t_level[0], sizeof res->control_level);
+  memcpy(res->treated_level, I->t_level[1], sizeof res->treated_level);
+  if (!I->bin_t && I->t_values <= SL_FEW_VALUES && s->method != SL_IV) {
+    char m[240];
+    snprintf(m, sizeof m, "the treatment '%s' takes only %zu distinct values and is estimated as "
+             "continuous (the effect of +%g): if its values are categories, compare two of them "
+             "with f:binarize", I->tname, I->t_values, s->contrast);
+    sl_est_warn(res->warnings, m);
+  }
+  if (s->method != SL_STANDARDIZE && pt->ps_extreme) {
+    char m[160];
+    snprintf(m, sizeof m, "%zu fitted propensities fall outside [0.01, 0.99]: check overlap{}",
+             pt->ps_extreme);
+    sl_est_warn(res->warnings, m);
+  }
+  return sl_est_intervals(s, pt, boot, res, e);
 }
 
 int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
   memset(res, 0, sizeof *res);
+  if (s->table) return sl_estimate_db(s, res, e);
   if (s->outcome < 0) return sl_error_set(e, SL_EARG, 0, 0, "an estimate needs an outcome column");
   sl_prep P;
   int rc = sl_est_prepare(s, &P, &res->dropped, e);
@@ -452,53 +498,20 @@ int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
   sl_point pt;
   rc = sl_est_point(s, &P, ix, P.n, 1, &pt, res->warnings, e);
   if (rc) goto done;
-  if (s->scale == SL_RATIO && !(pt.mu0 > 0 && pt.mu1 >= 0)) {
-    rc = sl_error_set(e, SL_EARG, 0, 0, "scale = \"ratio\" needs positive mean outcomes, and the "
-                      "mean of '%s' is %g under control and %g under treatment: their ratio is "
-                      "not meaningful; use scale = \"difference\"",
-                      s->data->col[s->outcome].name, pt.mu0, pt.mu1);
-    goto done;
-  }
-  res->estimate = pt.est;
-  res->mu1 = pt.mu1; res->mu0 = pt.mu0;
-  res->n = P.n;
-  res->ess = pt.ess; res->ess1 = pt.ess1; res->ess0 = pt.ess0;
-  res->ps_min = pt.ps_min; res->ps_max = pt.ps_max; res->ps_extreme = pt.ps_extreme;
-  res->binary_outcome = P.bin_y; res->binary_treatment = P.bin_t;
-  res->route = pt.route;
-  if (P.cluster && P.nclusters < SL_CLUSTERS_FEW) {
-    char m[200];
-    snprintf(m, sizeof m, "%zu clusters: clustered standard errors are too small with fewer "
-             "than %d (common practice); read the interval with care", P.nclusters, SL_CLUSTERS_FEW);
-    sl_est_warn(res->warnings, m);
-  }
-  res->nclusters = P.nclusters;
+  sl_est_info I = {P.n, P.nclusters, P.t_values, P.bin_t, P.bin_y, 0, {{0}},
+                   s->data->col[s->treatment].name, s->data->col[s->outcome].name};
+  memcpy(I.t_level, P.t_level, sizeof I.t_level);
   if (P.w) {
     double sw = 0, sw2 = 0;
     for (size_t k = 0; k < P.n; k++) { sw += P.w[k]; sw2 += P.w[k] * P.w[k]; }
-    res->ess_weights = sw * sw / sw2;
-  }
-  memcpy(res->control_level, P.t_level[0], sizeof res->control_level);
-  memcpy(res->treated_level, P.t_level[1], sizeof res->treated_level);
-  if (!P.bin_t && P.t_values <= SL_FEW_VALUES && s->method != SL_IV) {
-    char m[240];
-    snprintf(m, sizeof m, "the treatment '%s' takes only %zu distinct values and is estimated as "
-             "continuous (the effect of +%g): if its values are categories, compare two of them "
-             "with f:binarize", s->data->col[s->treatment].name, P.t_values, s->contrast);
-    sl_est_warn(res->warnings, m);
-  }
-  if (s->method != SL_STANDARDIZE && pt.ps_extreme) {
-    char m[160];
-    snprintf(m, sizeof m, "%zu fitted propensities fall outside [0.01, 0.99]: check overlap{}",
-             pt.ps_extreme);
-    sl_est_warn(res->warnings, m);
+    I.ess_weights = sw * sw / sw2;
   }
   if (s->boot > 0) {
     boot = malloc(s->boot * sizeof *boot);
     if (!boot) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
     if ((rc = sl_est_bootstrap(s, &P, boot, e))) goto done;
   }
-  rc = sl_est_intervals(s, &pt, boot, res, e);
+  rc = sl_est_report(s, &pt, &I, boot, res, e);
 done:
   free(ix); free(boot);
   sl_est_prep_free(&P);

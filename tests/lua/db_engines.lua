@@ -206,6 +206,10 @@ end)
 
 -- ols{} and logit{} inside the database equal the fits of the fetched rows
 dofile("tests/lua/db_models.lua")(name, db)
+-- Poisson bootstrap weights computed in SQL equal the C values
+dofile("tests/lua/db_pois.lua")(name, db)
+-- estimate{} inside the database equals the fetched frame's
+dofile("tests/lua/db_estimate.lua")(name, db)
 
 test(name("db:close() ends the connection; its tables say so"), function()
   local d2 = connect(target)
