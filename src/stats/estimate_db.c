@@ -140,10 +140,11 @@ static int add_slot(dprep *d, double x, const char *text, sl_error *e) {
   return SL_OK;
 }
 
-/* "CASE WHEN <column j> = <slot> THEN 1.0 ELSE 0.0 END" */
+/* "CASE WHEN <column j> = <slot> THEN 1 ELSE 0 END", as doubles */
 static int indicator(dprep *d, size_t k, int j, double x, const char *text, sl_error *e) {
   sl_db_buf b = {0};
-  sl_db_buf_add(&b, "CASE WHEN %s = %c THEN 1.0 ELSE 0.0 END", sl_db_expr(d->t, (size_t)j), SL_DB_SLOT);
+  sl_db_buf_add(&b, "CASE WHEN %s = %c THEN CAST(1 AS DOUBLE PRECISION) ELSE CAST(0 AS DOUBLE "
+                "PRECISION) END", sl_db_expr(d->t, (size_t)j), SL_DB_SLOT);
   char *sql = sl_db_buf_done(&b, e);
   if (!sql) return e->code;
   int rc = add_var(d, k, sql, e);
@@ -265,7 +266,7 @@ static int outcome(dprep *d, sl_error *e) {
 
 /* The weights: not negative, not all 0; Kish's ESS of them. */
 static int weights(dprep *d, sl_error *e) {
-  if (!d->s->weights) return add_var(d, SL_RV_W, "1.0", e);
+  if (!d->s->weights) return add_var(d, SL_RV_W, "CAST(1 AS DOUBLE PRECISION)", e);
   int j = d->s->weights - 1;
   const char *w = sl_db_expr(d->t, (size_t)j), *name = sl_db_colname(d->t, (size_t)j);
   if (sl_db_coltype(d->t, (size_t)j) != SL_NUMERIC)

@@ -35,6 +35,11 @@ static const char *fence(const sl_db *db) {
   return sl_db_engine(db) == SL_DB_POSTGRES ? " OFFSET 0" : " LIMIT -1 OFFSET 0";
 }
 
+/* 1 and 0 as doubles: PostgreSQL reads 1.0 as NUMERIC, whose arithmetic
+** row by row is slow (the cast of a constant is folded once). */
+#define ONE "CAST(1 AS DOUBLE PRECISION)"
+#define ZERO "CAST(0 AS DOUBLE PRECISION)"
+
 /* Aggregates in one query (PostgreSQL allows 1664 columns). */
 #define AGG_PER_QUERY 1000
 /* Beyond this the exponential's result is 0 or 1 to double precision, and
@@ -86,7 +91,7 @@ static void emit(sl_db_buf *b, const sl_rx *x, int k) {
       emit(b, x, d->a);
       sl_db_buf_add(b, " < ");
       emit(b, x, d->b);
-      sl_db_buf_add(b, " THEN 1.0 ELSE 0.0 END)");
+      sl_db_buf_add(b, " THEN " ONE " ELSE " ZERO " END)");
       return;
     default: break;
   }
@@ -96,14 +101,14 @@ static void emit(sl_db_buf *b, const sl_rx *x, int k) {
   sl_db_buf_add(b, "(CASE WHEN ");
   emit(b, x, d->a);
   sl_db_buf_add(b, " > %d THEN ", EXP_CUT);
-  if (expit) sl_db_buf_add(b, "1.0"); else emit(b, x, d->a);
+  if (expit) sl_db_buf_add(b, ONE); else emit(b, x, d->a);
   sl_db_buf_add(b, " WHEN ");
   emit(b, x, d->a);
   sl_db_buf_add(b, " >= 0 THEN ");
-  if (expit) { sl_db_buf_add(b, "1.0 / (1.0 + EXP(-"); emit(b, x, d->a); sl_db_buf_add(b, "))"); }
+  if (expit) { sl_db_buf_add(b, ONE " / (" ONE " + EXP(-"); emit(b, x, d->a); sl_db_buf_add(b, "))"); }
   else {
     emit(b, x, d->a);
-    sl_db_buf_add(b, " + LN(1.0 + EXP(-");
+    sl_db_buf_add(b, " + LN(" ONE " + EXP(-");
     emit(b, x, d->a);
     sl_db_buf_add(b, "))");
   }
@@ -113,11 +118,11 @@ static void emit(sl_db_buf *b, const sl_rx *x, int k) {
   if (expit) {
     sl_db_buf_add(b, "EXP(");
     emit(b, x, d->a);
-    sl_db_buf_add(b, ") / (1.0 + EXP(");
+    sl_db_buf_add(b, ") / (" ONE " + EXP(");
     emit(b, x, d->a);
     sl_db_buf_add(b, "))");
-  } else { sl_db_buf_add(b, "LN(1.0 + EXP("); emit(b, x, d->a); sl_db_buf_add(b, "))"); }
-  sl_db_buf_add(b, " ELSE 0.0 END)");
+  } else { sl_db_buf_add(b, "LN(" ONE " + EXP("); emit(b, x, d->a); sl_db_buf_add(b, "))"); }
+  sl_db_buf_add(b, " ELSE " ZERO " END)");
 }
 
 /* The stage of each value: 1 + the latest stage of the values it reads. */
@@ -177,9 +182,9 @@ static void add_replicates(qbuild *q, const sl_db_vars *v, const sl_sum_req *r) 
 static char *weighted(const sl_db *db, const sl_sum_req *r, char *sql, sl_error *e) {
   sl_db_buf w = {0};
   sl_db_buf_add(&w, "SELECT sw.*, ");
-  if (r->nrep == 1 && r->rep[0] == 0) sl_db_buf_add(&w, "1.0");
+  if (r->nrep == 1 && r->rep[0] == 0) sl_db_buf_add(&w, ONE);
   else {
-    sl_db_buf_add(&w, "CASE WHEN sw.r_ = 0 THEN 1.0 ELSE CAST(");
+    sl_db_buf_add(&w, "CASE WHEN sw.r_ = 0 THEN " ONE " ELSE CAST(");
     sl_pois_sql_draw(&w, "sw.h_");
     sl_db_buf_add(&w, " AS DOUBLE PRECISION) END");
   }

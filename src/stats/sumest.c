@@ -426,31 +426,45 @@ done:
 }
 
 /* Inverse probability weighting with normalised (Hajek) weights. */
+/* The propensity model and each replicate's weight parameters: par gets
+** nrep rows of gamma (1 + q), P(T = 1) when stabilised (else 1) and the
+** cuts of truncated weights (else -inf and inf). */
+static int ipw_setup(est *E, sl_term **term, double *par, int *ok) {
+  size_t p = 1 + E->q, nr = E->nrep;
+  double *gamma = NULL, *o = malloc(nr * 2 * sizeof *o);
+  sl_req r;
+  sl_req_init(&r);
+  int rc = o ? propensity(E, term, &gamma, ok) : nomem(E);
+  int stab = E->s->stabilized && E->s->estimand == SL_ATE;
+  if (rc == SL_OK && stab) {   /* P(T = 1) of the sample */
+    sl_rx *x = &r.rx;
+    int b = sl_req_val(&r, VAR(x, SL_RV_BOOT));
+    sl_req_agg(&r, SL_AGG_SUM, b, -1, -1);
+    sl_req_agg(&r, SL_AGG_SUM, b, sl_req_val(&r, VAR(x, SL_RV_T)), -1);
+    rc = sl_req_run(E->S, &r, NULL, 0, E->rep, nr, o, E->e);
+  }
+  for (size_t i = 0; rc == SL_OK && i < nr; i++) {
+    double *pi = par + i * (p + 3);
+    memcpy(pi, gamma + i * p, p * sizeof *par);
+    pi[p] = stab ? o[2 * i + 1] / o[2 * i] : 1;
+    pi[p + 1] = -INFINITY; pi[p + 2] = INFINITY;
+  }
+  if (rc == SL_OK) rc = cuts(E, *term, par, p);
+  free(gamma); free(o);
+  sl_req_free(&r);
+  return rc;
+}
+
 static int ipw(est *E) {
   size_t p = 1 + E->q, nr = E->nrep;
   sl_term *term = NULL;
-  double *gamma = NULL, *o = malloc(nr * 12 * sizeof *o), *mu = malloc(nr * 2 * sizeof *mu);
+  double *o = malloc(nr * 12 * sizeof *o), *mu = malloc(nr * 2 * sizeof *mu);
   double *par = malloc(nr * (p + 3) * sizeof *par);
   int *ok = malloc(nr * sizeof *ok), rc = SL_OK;
   sl_req r;
   sl_req_init(&r);
   if (!o || !mu || !par || !ok) { rc = nomem(E); goto done; }
-  if ((rc = propensity(E, &term, &gamma, ok))) goto done;
-  if (E->s->stabilized && E->s->estimand == SL_ATE) {   /* P(T = 1) of the sample */
-    sl_rx *x = &r.rx;
-    int b = sl_req_val(&r, VAR(x, SL_RV_BOOT));
-    sl_req_agg(&r, SL_AGG_SUM, b, -1, -1);
-    sl_req_agg(&r, SL_AGG_SUM, b, sl_req_val(&r, VAR(x, SL_RV_T)), -1);
-    if ((rc = sl_req_run(E->S, &r, NULL, 0, E->rep, nr, o, E->e))) goto done;
-    sl_req_clear(&r);
-  }
-  for (size_t i = 0; i < nr; i++) {   /* gamma, stab, the cuts lo and hi */
-    double *pi = par + i * (p + 3);
-    memcpy(pi, gamma + i * p, p * sizeof *par);
-    pi[p] = E->s->stabilized && E->s->estimand == SL_ATE ? o[2 * i + 1] / o[2 * i] : 1;
-    pi[p + 1] = -INFINITY; pi[p + 2] = INFINITY;
-  }
-  if ((rc = cuts(E, term, par, p))) goto done;
+  if ((rc = ipw_setup(E, &term, par, ok))) goto done;
   sl_rx *x = &r.rx;
   int ps = sl_req_val(&r, predict(x, term, p, 0, -1, 1));
   int wt = sl_req_val(&r, MUL(x, weight(x), ipw_weight(E, x, sl_rx_ref(x, ps), (int)p, 1, NULL)));
@@ -475,8 +489,28 @@ static int ipw(est *E) {
     rc = ipw_se(E, term, par, sw1, sw0);
   }
 done:
-  free(term); free(gamma); free(o); free(mu); free(par); free(ok);
+  free(term); free(o); free(mu); free(par); free(ok);
   sl_req_free(&r);
+  return rc;
+}
+
+size_t sl_sum_ipw_npar(size_t q) { return q + 4; }
+
+int sl_sum_ipw_values(const sl_est_spec *s, const sl_summer *S, sl_req *r, double *par, int *ps,
+                      int *w, char *warn, sl_error *e) {
+  int rep0 = 0, ok;
+  sl_point pt;
+  est E = {s, S, 1, 0, S->q, &rep0, 1, 0, NULL, &pt, warn, e};
+  sl_term *term = NULL;
+  int rc = ipw_setup(&E, &term, par, &ok);
+  if (rc == SL_OK) {
+    sl_rx *x = &r->rx;
+    size_t p = 1 + S->q;
+    *ps = sl_req_val(r, predict(x, term, p, 0, -1, 1));
+    *w = sl_req_val(r, ipw_weight(&E, x, sl_rx_ref(x, *ps), (int)p, 1, NULL));
+    if (r->rx.bad) rc = nomem(&E);
+  }
+  free(term);
   return rc;
 }
 

@@ -53,4 +53,13 @@ size_t sl_sum_warm_size(size_t q);
 int sl_sum_point(const sl_est_spec *s, const sl_summer *S, int bin_t, int bin_y, const int *rep,
                  size_t nrep, int want_se, double *warm, sl_point *out, char *warn, sl_error *e);
 
+/* For the diagnostics (balance, overlap): the propensity model fitted on
+** the whole sample and its IPW weights for s's estimand (stabilised and
+** truncated as s asks; not times the rows' own weights), as the values ps
+** and w of the request r, whose parameters go to par (sl_sum_ipw_npar(q)
+** numbers, to give with the request). */
+size_t sl_sum_ipw_npar(size_t q);
+int sl_sum_ipw_values(const sl_est_spec *s, const sl_summer *S, sl_req *r, double *par, int *ps,
+                      int *w, char *warn, sl_error *e);
+
 #endif

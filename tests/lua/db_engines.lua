@@ -206,6 +206,7 @@ end)
 
 -- ols{} and logit{} inside the database equal the fits of the fetched rows
 dofile("tests/lua/db_models.lua")(name, db)
+dofile("tests/lua/db_citest.lua")(name, db, target)
 -- Poisson bootstrap weights computed in SQL equal the C values
 dofile("tests/lua/db_pois.lua")(name, db)
 -- estimate{} inside the database equals the fetched frame's
