@@ -372,7 +372,8 @@ local function se_text(r)
   local log = r.se_log_scale and "of the log " .. (r.scale == "ratio" and "ratio" or "odds ratio")
               .. ", " or ""
   if r.se_method == "bootstrap" then
-    return string.format("bootstrap, %d replicates%s", r.boot, r.se_analytic and
+    return string.format("%sbootstrap, %d replicates%s", r.in_database and "Poisson " or "",
+                         r.boot, r.se_analytic and
                          ("; sandwich " .. (r.se_log_scale and "(log scale) " or "") ..
                           fmt(r.se_analytic)) or "")
   elseif r.se_method == "ps known" then
@@ -415,6 +416,9 @@ function estimate_mt.__tostring(r)
     add("SE", "none: give boot = 200 or more")
   end
   add("n", string.format("%d used, %d dropped for missing values", r.n, r.dropped))
+  if r.in_database then
+    add("data", "summed inside the database (" .. r.in_database .. "); no row left it")
+  end
   local set = {}
   for i, v in ipairs(r.set) do set[i] = P.name(v) end
   add("set", "{" .. table.concat(set, ", ") .. "}   (" .. r.set_reason .. ")")
@@ -890,6 +894,7 @@ function E.estimate(a)
   local set, why, opts = E.spec("estimate", a)
   local outcome = a.outcome
   local r = call("estimate", S._estimate, a.data, a.treatment, outcome, set, opts)
+  if E.is_lazy(a.data) then r.in_database = a.data:_engine() end
   r.method, r.estimand, r.scale = opts.method, opts.estimand, opts.scale
   r.treatment, r.outcome, r.level = a.treatment, outcome, a.level or 0.95
   r.contrast, r.weights, r.cluster = a.contrast, a.weights, a.cluster

@@ -466,6 +466,18 @@ is a local effect for compliers (Imbens and Angrist 1994), not the effect
 in everyone. With graph =, the smallest front-door set, or the instrument
 with the smallest conditioning set (the first listed), is used and named;
 given via = or instrument = are checked against the graph.
+data = a lazy table (connect) runs standardize, ipw and aipw inside the
+database: the same estimator, its working models fitted from aggregate
+queries (least squares from centred cross-products, logistic regression by
+Newton steps), its means and analytic SE as sums over the rows; only a few
+numbers per query come back, whatever the number of rows. Equal to the
+estimate of the fetched rows to about 1e-9. Text covariates become dummies
+(at most 100 levels), weights = and cluster = work; truncate = and the
+front-door and IV routes need the fetched rows. boot = there is the
+Poisson bootstrap (Hanley and MacGibbon 2006): each row is weighted in
+replicate r by a Poisson(1) draw from its key, the seed and r, computed in
+SQL (the same on SQLite and PostgreSQL), 50 replicates per query; name the
+rows' key, a column of whole numbers, with db:table(name, {key = "id"}).
 An estimate is only as good as the graph and the assumptions behind it
 (no unmeasured confounding for adjustment; the front-door or instrument
 conditions for those routes); it is no substitute for qualified
@@ -760,7 +772,7 @@ part is an error naming the closest.]],
     example = [=[exercise{graph = g, model = m, treatment = "mulch", outcome = "harvest",
          n = 300, seed = 4, dir = "kit", questions = {"valid", "estimate"}}]=] },
   { name = "connect", topic = "data",
-    sig = "connect(target); db:table(name), db:query(sql), db:close()",
+    sig = "connect(target); db:table(name, {key=}), db:query(sql, {key=}), db:close()",
     brief = "Connect to a database and read its tables lazily",
     returns = "a connection; its tables and queries as lazy tables",
     summary = [[target is an SQLite file (read through the SQLite built into sluice) or a
@@ -780,8 +792,10 @@ transaction that is rolled back. Names are quoted and values bound, never
 pasted into SQL. tostring(db) names the engine, file or database and user,
 never a password. db:close() ends the connection; its tables then say so.
 Errors relay the engine's own message on one line. Ctrl-C cancels a
-query. ols{} and logit{} take a lazy table as data = and fit inside the
-database from aggregate queries.]],
+query. ols{}, logit{}, estimate{} and g:test() take a lazy table as
+data = and compute inside the database from aggregate queries. key = names
+the rows' key (a column of whole numbers, one per row), from which
+estimate{boot =} draws each row's Poisson weights.]],
     example = [[db = connect "survey.db"      -- or "postgresql:///survey?host=/run/postgresql"
 trees = db:table "trees"
 #trees; trees:summary(); f = trees:fetch()]] },

@@ -371,9 +371,16 @@ static int t_tostring(lua_State *L) {
 static const luaL_Reg db_methods[] = {
   {"table", db_table}, {"query", db_query}, {"close", db_close}, {NULL, NULL}
 };
+/* t:_engine(): "SQLite" or "PostgreSQL", for printouts */
+static int t_engine(lua_State *L) {
+  sl_db_table *t = check_lazy(L, 1);
+  lua_pushstring(L, sl_db_engine(sl_db_of(t)) == SL_DB_POSTGRES ? "PostgreSQL" : "SQLite");
+  return 1;
+}
+
 static const luaL_Reg lazy_methods[] = {
   {"names", t_names}, {"types", t_types}, {"summary", t_summary}, {"head", t_head},
-  {"fetch", t_fetch}, {"_sums", t_sums}, {NULL, NULL}
+  {"fetch", t_fetch}, {"_sums", t_sums}, {"_engine", t_engine}, {NULL, NULL}
 };
 
 /* A metatable with methods (published under prefix) as __index. */

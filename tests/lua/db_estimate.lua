@@ -110,6 +110,18 @@ return function(name, db)
     end
   end)
 
+  test(name("compare{} of a lazy table: each set's estimate inside the database"), function()
+    local g = graph "rain -> treated -> yield; rain -> yield; soil -> yield"
+    local a = compare{data = q, treatment = "treated", outcome = "yield", graph = g}
+    local b = compare{data = f, treatment = "treated", outcome = "yield", graph = g}
+    eq(#a, #b, "the same candidate sets")
+    for i = 1, #b do
+      eq(a[i].set_text, b[i].set_text, "set " .. i)
+      rel(a[i].estimate, b[i].estimate, "set " .. b[i].set_text .. ": estimate")
+      rel(a[i].se, b[i].se, "set " .. b[i].set_text .. ": SE")
+    end
+  end)
+
   test(name("what estimate{} in the database cannot do is refused by name"), function()
     local t = db:table("plots")
     raises(function() estimate{data = t, treatment = "treated", outcome = "yield", set = {"rain"},

@@ -92,8 +92,5 @@ return function(name, db)
       raises(function() _G[fn]{data = t, treatment = "treated", outcome = "yield", set = {"rain"}} end,
              fn .. ":", "is a database table", "t:fetch()")
     end
-    raises(function() compare{data = t, treatment = "treated", outcome = "yield",
-                              graph = graph "rain -> treated -> yield; rain -> yield"} end,
-           "compare:", "is a database table", "t:fetch()")
   end)
 end
