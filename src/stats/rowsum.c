@@ -32,7 +32,28 @@ static int add(sl_rx *x, int op, int a, int b, double v) {
 int sl_rx_num(sl_rx *x, double v) { return add(x, SL_RX_NUM, 0, 0, v); }
 int sl_rx_var(sl_rx *x, int var) { return add(x, SL_RX_VAR, var, 0, 0); }
 int sl_rx_par(sl_rx *x, int j) { return add(x, SL_RX_PAR, j, 0, 0); }
-int sl_rx_op2(sl_rx *x, int op, int a, int b) { return add(x, op, a, b, 0); }
+/* Whether node k is the number v. */
+static int is_num(const sl_rx *x, int k, double v) {
+  return k >= 0 && x->node[k].op == SL_RX_NUM && x->node[k].x == v;
+}
+
+/* Constants folded (x * 1, x * 0, x + 0, x - 0, number op number), so
+** that setting the treatment to 1 or 0 leaves no dead terms for the
+** database to compute row by row.  The values are finite. */
+int sl_rx_op2(sl_rx *x, int op, int a, int b) {
+  if (!x->bad && a >= 0 && b >= 0 && op >= SL_RX_ADD && op <= SL_RX_DIV) {
+    if (x->node[a].op == SL_RX_NUM && x->node[b].op == SL_RX_NUM) {
+      double u = x->node[a].x, v = x->node[b].x;
+      return sl_rx_num(x, op == SL_RX_ADD ? u + v : op == SL_RX_SUB ? u - v
+                          : op == SL_RX_MUL ? u * v : u / v);
+    }
+    if (op == SL_RX_MUL && (is_num(x, a, 0) || is_num(x, b, 0))) return sl_rx_num(x, 0);
+    if ((op == SL_RX_MUL && is_num(x, a, 1)) || (op == SL_RX_ADD && is_num(x, a, 0))) return b;
+    if ((op == SL_RX_MUL || op == SL_RX_DIV) && is_num(x, b, 1)) return a;
+    if ((op == SL_RX_ADD || op == SL_RX_SUB) && is_num(x, b, 0)) return a;
+  }
+  return add(x, op, a, b, 0);
+}
 int sl_rx_op1(sl_rx *x, int op, int a) { return add(x, op, a, -1, 0); }
 
 int sl_rx_value(sl_rx *x, int node) {

@@ -252,7 +252,7 @@ static int db_sums(void *ctx, const sl_sum_req *r, double *out, sl_error *e) {
     char *rows = rows_sql(&q, v, r, e);
     if (!rows) { free(q.par); return e->code; }
     sl_db_buf b = {0};
-    sl_db_buf_add(&b, "SELECT r_");
+    sl_db_buf_add(&b, r->nrep == 1 ? "SELECT MIN(r_)" : "SELECT r_");
     for (size_t j = first; j < first + k; j++) {
       const sl_agg *g = &r->agg[j];
       if (g->kind == SL_AGG_SUM) {
@@ -262,7 +262,9 @@ static int db_sums(void *ctx, const sl_sum_req *r, double *out, sl_error *e) {
         sl_db_buf_add(&b, ")");
       } else sl_db_buf_add(&b, ", %s(u%d)", g->kind == SL_AGG_MIN ? "MIN" : "MAX", g->a);
     }
-    sl_db_buf_add(&b, " FROM (%s%s) AS z GROUP BY r_ ORDER BY r_", rows, fence(q.db));
+    /* one replicate: a plain aggregate (a GROUP BY may sort every row) */
+    if (r->nrep == 1) sl_db_buf_add(&b, " FROM (%s%s) AS z", rows, fence(q.db));
+    else sl_db_buf_add(&b, " FROM (%s%s) AS z GROUP BY r_ ORDER BY r_", rows, fence(q.db));
     free(rows);
     char *sql = sl_db_buf_done(&b, e);
     take t = {r, out, first, k};

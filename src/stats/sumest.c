@@ -99,7 +99,8 @@ static int predict(sl_rx *x, const sl_term *term, size_t p, size_t first, int tn
   for (size_t j = 0; j < p; j++) z[j] = sl_term_node(x, term[j], tnode);
   int eta = sl_rx_linear(x, z, p, (int)first);
   free(z);
-  return logistic ? sl_rx_op1(x, SL_RX_EXPIT, eta) : eta;
+  /* the linear predictor as a value: expit reads it several times */
+  return logistic ? sl_rx_op1(x, SL_RX_EXPIT, sl_rx_ref(x, sl_rx_value(x, eta))) : eta;
 }
 
 /* The row's weight in the replicate, and its membership of the
