@@ -195,22 +195,54 @@ static char *weighted(const sl_db *db, const sl_sum_req *r, char *sql, sl_error 
 
 /* The rows with every value: the replicates' level wrapped in one SELECT
 ** per stage.  Returns the SQL (to free) with its parameters in q. */
+/* The last stage that reads each variable, parameter and value (top + 1:
+** the aggregates), so that a stage passes on only what is read later. */
+typedef struct uses { int *var, *par, *val; } uses;
+static void mark(const sl_rx *x, int k, int s, uses *u) {
+  const sl_rx_node *d = &x->node[k];
+  int *at = d->op == SL_RX_VAR ? &u->var[d->a] : d->op == SL_RX_PAR ? &u->par[d->a]
+          : d->op == SL_RX_VAL ? &u->val[d->a] : NULL;
+  if (at) { if (*at < s) *at = s; return; }
+  if (d->op == SL_RX_NUM) return;
+  mark(x, d->a, s, u);
+  if (d->b >= 0) mark(x, d->b, s, u);
+}
+
+/* The rows with every value: the replicates' level wrapped in one SELECT
+** per stage, each passing on the columns that later stages or the
+** aggregates (every value that nothing reads is dropped) still read. */
 static char *rows_sql(qbuild *q, const sl_db_vars *v, const sl_sum_req *r, sl_error *e) {
   const sl_rx *x = r->rx;
-  int *stage = malloc((x->nval + 1) * sizeof *stage), top = 0;
-  if (!stage) { sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); return NULL; }
-  for (size_t k = 0; k < x->nval; k++) {
+  size_t nv = v->nvar > SL_RV_BOOT ? v->nvar : SL_RV_BOOT + 1, nval = x->nval;
+  int *stage = malloc((nval + 1) * sizeof *stage), top = 0;
+  uses u = {calloc(nv, sizeof(int)), calloc(r->npar + 1, sizeof(int)), calloc(nval + 1, sizeof(int))};
+  char *sql = NULL;
+  if (!stage || !u.var || !u.par || !u.val) { sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+  for (size_t k = 0; k < nval; k++) {
     stage[k] = 1 + stage_of(x, x->root[k], stage);
     if (stage[k] > top) top = stage[k];
   }
+  for (size_t k = 0; k < nval; k++) mark(x, x->root[k], stage[k], &u);
+  for (size_t a = 0; a < r->nagg; a++) {   /* the aggregates read at top + 1 */
+    const sl_agg *g = &r->agg[a];
+    u.val[g->a] = top + 1;
+    if (g->b >= 0) u.val[g->b] = top + 1;
+    if (g->c >= 0) u.val[g->c] = top + 1;
+  }
+  if (r->nagg == 0)   /* the clusters' request: every value may be read */
+    for (size_t k = 0; k < nval; k++) u.val[k] = top + 1;
   add_replicates(q, v, r);
-  char *sql = sl_db_buf_done(&q->b, e);
+  sql = sl_db_buf_done(&q->b, e);
   if (sql) sql = weighted(q->db, r, sql, e);
   for (int s = 1; sql && s <= top; s++) {
     sl_db_buf w = {0};
-    sl_db_buf_add(&w, "SELECT s%d.*", s - 1);
-    for (size_t k = 0; k < x->nval; k++)
-      if (stage[k] == s) {
+    sl_db_buf_add(&w, "SELECT r_%s", v->cluster ? ", vcl" : "");
+    for (size_t k = 0; k < nv; k++) if (u.var[k] > s) sl_db_buf_add(&w, ", v%zu", k);
+    for (size_t k = 0; k < r->npar; k++) if (u.par[k] > s) sl_db_buf_add(&w, ", p%zu", k);
+    for (size_t k = 0; k < nval; k++)
+      if (stage[k] < s && u.val[k] > s) sl_db_buf_add(&w, ", u%zu", k);
+    for (size_t k = 0; k < nval; k++)
+      if (stage[k] == s && u.val[k] > s) {
         sl_db_buf_add(&w, ", ");
         emit(&w, x, x->root[k]);
         sl_db_buf_add(&w, " AS u%zu", k);
@@ -219,7 +251,8 @@ static char *rows_sql(qbuild *q, const sl_db_vars *v, const sl_sum_req *r, sl_er
     free(sql);
     sql = sl_db_buf_done(&w, e);
   }
-  free(stage);
+done:
+  free(stage); free(u.var); free(u.par); free(u.val);
   return sql;
 }
 

@@ -301,6 +301,13 @@ static int logistic(const sl_summer *S, const sl_term *term, size_t p, int yvar,
       gsl_vector_view sv = gsl_vector_view_array(si, p);
       gsl_linalg_cholesky_svx(&L.matrix, &sv.vector);
       h[i] = 0;
+      /* the Newton decrement: the step will lower the deviance by about
+      ** score' step; when that passes the rule already, take it and stop
+      ** rather than pay a query to confirm (Boyd and Vandenberghe 2004,
+      ** 9.5.1) */
+      double dec = 0;
+      for (size_t j = 0; j < p; j++) dec += si[j] * o[p * (p + 1) / 2 + j];
+      if (dec >= 0 && dec / (fabs(dc) + 0.1) < LOGIT_TOL) conv = 1;
       if (conv) {   /* one more step from the information in hand: the error squared */
         for (size_t j = 0; j < p; j++) ti[j] += si[j];
         done[i] = 1;
