@@ -122,6 +122,28 @@ return function(name, db)
     end
   end)
 
+  test(name("hostile column names and levels are quoted and bound, never pasted"), function()
+    local h = db:query([[SELECT plot AS "id""; x", rain AS "r""a""in; --", yield AS "ÿield ünï",
+                                soil AS "sö'il", CASE WHEN treated = 1 THEN 'o''brien; DROP TABLE y; --'
+                                ELSE 'x"y' END AS "tr; DROP TABLE y; --" FROM plots]], {key = 'id"; x'})
+    local hf = h:fetch()
+    for _, m in ipairs({"standardize", "ipw", "aipw"}) do
+      local a = {treatment = "tr; DROP TABLE y; --", outcome = "ÿield ünï",
+                 set = {'r"a"in; --', "sö'il"}, method = m, treated = "o'brien; DROP TABLE y; --"}
+      a.data = h
+      local r1 = estimate(a)
+      a.data = hf
+      local r2 = estimate(a)
+      rel(r1.estimate, r2.estimate, m .. ": hostile names")
+      rel(r1.se, r2.se, m .. ": hostile names, SE")
+      eq(r1.treated_level, "o'brien; DROP TABLE y; --", m .. ": the level as bound")
+    end
+    local b = estimate{data = h, treatment = "tr; DROP TABLE y; --", outcome = "ÿield ünï",
+                       set = {'r"a"in; --'}, boot = 5, seed = 3}
+    eq(b.boot, 5, "the Poisson bootstrap with a hostile key name")
+    eq(#db:table("y"), 1, "the table y is still there")
+  end)
+
   test(name("what estimate{} in the database cannot do is refused by name"), function()
     local t = db:table("plots")
     raises(function() estimate{data = t, treatment = "treated", outcome = "yield", set = {"rain"},
