@@ -1,7 +1,9 @@
 -- sluice.diagnostics: balance{} (standardized mean differences before and
 -- after weighting) and overlap{} (the propensities by group, as a text
--- histogram and a picture), with their printed tables; the weights come
--- from the C primitive S._weights.
+-- histogram and a picture), with their printed tables.  The numbers come
+-- from the C primitives S._balance and S._overlap, written once over sums
+-- (src/stats/sumdiag.c), so that a data frame and a lazy table (whose rows
+-- stay in the database) give the same.
 local P = require "sluice.print"
 local E = require "sluice.estimate"
 local fail, show, call, whole = E.fail, E.show, E.call, E.whole
@@ -9,39 +11,22 @@ local D = {}
 
 local S   -- the module, set by install
 
--- Standardized mean difference of x between t = 1 and t = 0, weighted.
-local function smd(x, t, w)
-  local s = {[0] = {0, 0, 0}, [1] = {0, 0, 0}}
-  for i = 1, #x do
-    local g = s[t[i]]
-    g[1] = g[1] + w[i]; g[2] = g[2] + w[i] * x[i]; g[3] = g[3] + w[i] * x[i] * x[i]
-  end
-  local function mv(g) local m = g[2] / g[1]; return m, g[3] / g[1] - m * m end
-  local m1, v1 = mv(s[1])
-  local m0, v0 = mv(s[0])
-  local pooled = math.sqrt((v1 + v0) / 2)
-  if pooled == 0 then return 0 end
-  return (m1 - m0) / pooled
+-- The propensity model's warnings, one line each.
+local function warning_lines(w)
+  local out = {}
+  for line in (w or ""):gmatch("[^\n]+") do out[#out + 1] = "  warning: " .. line end
+  return out
 end
 
 local balance_mt = {__name = "sluice.balance"}
 function balance_mt.__tostring(b)
+  local w = warning_lines(b.warnings)
   return string.format("covariate balance between treated and control (%s weights for the %s)\n",
                        b.weights, b.estimand) ..
          E.table_text(b, {{"covariate", "covariate", "left"}, {"SMD before", "before"},
                           {"SMD after", "after"}, {"", "flag", "left"}}) ..
-         "\n  * |SMD| > 0.1 after weighting (common practice; Austin 2009)"
-end
-
--- A covariate that takes one value among the treated and another among
--- the controls: the treatment under another name; no weights balance it.
-local function separates(x, t)
-  local v = {}
-  for i = 1, #x do
-    local g = t[i]
-    if v[g] == nil then v[g] = x[i] elseif v[g] ~= x[i] then return false end
-  end
-  return v[0] ~= nil and v[1] ~= nil and v[0] ~= v[1]
+         "\n  * |SMD| > 0.1 after weighting (common practice; Austin 2009)" ..
+         (#w > 0 and "\n" .. table.concat(w, "\n") or "")
 end
 
 function D.balance(a)
@@ -52,36 +37,13 @@ function D.balance(a)
     end
   end
   opts.method = "ipw"
-  local ps, w, t, rows = call("balance", S._weights, a.data, a.treatment, a.outcome, set, opts)
-  local out = {weights = "inverse probability", estimand = opts.estimand}
-  local ones = {}   -- before weighting: the rows' own weights, or 1
-  local sw = a.weights and a.data[a.weights]
-  for i = 1, #w do ones[i] = sw and sw[rows[i]] or 1 end
-  if sw then out.weights = "inverse probability times " .. P.name(a.weights) end
-  for _, name in ipairs(set) do
-    local c = a.data[name]
-    local function add(label, x)
-      if separates(x, t) then
-        fail("balance", string.format("the covariate '%s' takes one value among the treated and " ..
-             "another among the controls: it is the treatment '%s' under another name, and its " ..
-             "SMD is not defined", label, a.treatment))
-      end
-      local before, after = smd(x, t, ones), smd(x, t, w)
-      out[#out + 1] = {covariate = label, before = before, after = after,
-                       flag = math.abs(after) > 0.1 and "*" or ""}
-    end
-    if c.type == "category" then
-      local lv = c:levels()
-      for l = 2, #lv do
-        local x = {}
-        for i, r in ipairs(rows) do x[i] = c[r] == lv[l] and 1 or 0 end
-        add(name .. "=" .. lv[l], x)
-      end
-    else
-      local x = {}
-      for i, r in ipairs(rows) do x[i] = c[r] end
-      add(name, x)
-    end
+  local r = call("balance", S._balance, a.data, a.treatment, a.outcome, set, opts)
+  local out = {weights = "inverse probability", estimand = opts.estimand, n = r.n,
+               dropped = r.dropped, warnings = r.warnings}
+  if a.weights then out.weights = "inverse probability times " .. P.name(a.weights) end
+  for i, row in ipairs(r) do
+    row.flag = math.abs(row.after) > 0.1 and "*" or ""
+    out[i] = row
   end
   return setmetatable(out, balance_mt)
 end
@@ -108,19 +70,9 @@ function overlap_mt.__tostring(o)
     lines[#lines + 1] = string.format("  warning: %d propensities outside [0.01, 0.99] " ..
                                       "(common practice): weights there are unstable", o.extreme)
   end
+  for _, w in ipairs(warning_lines(o.warnings)) do lines[#lines + 1] = w end
   if o.plot then lines[#lines + 1] = "  picture: " .. o.plot end
   return table.concat(lines, "\n")
-end
-
-local function quantiles(v)
-  table.sort(v)
-  local function q(p)
-    local h = (#v - 1) * p
-    local lo = math.floor(h)
-    if lo + 1 >= #v then return v[#v] end
-    return v[lo + 1] + (h - lo) * (v[lo + 2] - v[lo + 1])
-  end
-  return {n = #v, min = v[1], q1 = q(0.25), median = q(0.5), q3 = q(0.75), max = v[#v]}
 end
 
 function D.overlap(a)
@@ -133,23 +85,12 @@ function D.overlap(a)
   if a.plot ~= nil and type(a.plot) ~= "string" then
     fail("overlap", "plot = must be a file name ending in .svg, .png or .pdf, got " .. show(a.plot))
   end
-  local ps, _, t = call("overlap", S._weights, a.data, a.treatment, a.outcome, set, opts)
-  local g1, g0, extreme = {}, {}, 0
-  local hist = {}
-  for k = 1, bins do hist[k] = {0, 0} end
-  for i = 1, #ps do
-    if t[i] == 1 then g1[#g1 + 1] = ps[i] else g0[#g0 + 1] = ps[i] end
-    if ps[i] < 0.01 or ps[i] > 0.99 then extreme = extreme + 1 end
-    local k = math.min(bins, math.floor(ps[i] * bins) + 1)
-    local h = hist[k]
-    if t[i] == 1 then h[1] = h[1] + 1 else h[2] = h[2] + 1 end
-  end
-  local treated, control = quantiles({table.unpack(g1)}), quantiles({table.unpack(g0)})
-  treated.group, control.group = "treated", "control"
-  local o = {groups = {treated, control}, n = #ps, extreme = extreme, hist = hist, ps = ps}
+  local o = call("overlap", S._overlap, a.data, a.treatment, a.outcome, set, opts, bins)
   if a.plot then
+    local c1, c0 = {}, {}
+    for k, h in ipairs(o.hist) do c1[k], c0[k] = h[1], h[2] end
     o.plot = call("overlap", S._histograms, a.plot, "Propensity of " .. a.treatment .. " by group",
-                  "fitted propensity", g1, "treated", g0, "control", 0, 1, bins)
+                  "fitted propensity", c1, "treated", c0, "control", 0, 1)
   end
   return setmetatable(o, overlap_mt)
 end

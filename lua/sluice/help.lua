@@ -494,28 +494,43 @@ estimate{data = wards, treatment = "screened", outcome = "stage",
   { name = "balance", topic = "estimate",
     sig = "balance{data=, treatment=, set= | graph=, [outcome=]}",
     brief = "Covariate balance before and after weighting",
-    returns = "a table of standardized mean differences",
+    returns = "a table of standardized mean differences (each covariate: before, after; treated_mean, control_mean, treated_var, control_var, and the same ending in _after); fields n, dropped",
     summary = [[The standardized mean difference of each covariate between treated and
-control, before and after inverse probability weighting. With graph = the
+control, before and after inverse probability weighting: the difference of
+the groups' weighted means over the root of the mean of their weighted
+variances (Austin 2009). With graph = the
 covariates are the graph's adjustment set for outcome = when it is given,
 otherwise the treatment's parents (an error when one is hidden or shares a
-hidden common cause with it). |SMD| > 0.1 is
+hidden common cause with it). A text covariate gives a row for each level
+but the first. |SMD| > 0.1 is
 flagged (common practice; Austin 2009). A covariate that is the treatment,
 or that takes one value among the treated and another among the controls,
 is an error: its SMD is not defined. weights = "column" (sampling weights,
 as in estimate{}): "before" is weighted by them, "after" by them times the
-inverse probability weights; treated = as in estimate{}.]],
+inverse probability weights; treated = as in estimate{}.
+data = a lazy table (connect) computes inside the database: the propensity
+model as estimate{} fits it there, then each covariate's sums by group in
+a few aggregate queries; equal to the fetched rows' to about 1e-9.
+truncate = needs the fetched rows.]],
     example = [[balance{data = plots, treatment = "mulch", set = {"slope", "tree age"}}]] },
   { name = "overlap", topic = "estimate",
-    sig = "overlap{data=, treatment=, set= | graph=, [outcome=], plot=}",
+    sig = "overlap{data=, treatment=, set= | graph=, [outcome=], [bins=], [plot=]}",
     brief = "Propensity overlap between the groups",
-    returns = "a summary by group, with a text histogram",
-    summary = [[Fitted propensities of treatment by group: quartiles, a text histogram, and
-with plot = "file.svg" (or .png, .pdf) a picture. Propensities outside
-[0.01, 0.99] are counted and warned about (common practice). graph = chooses
+    returns = "a summary by group (groups: n, min, q1, median, q3, max), with a text histogram (hist: treated and control rows of each bin); fields n, dropped, extreme",
+    summary = [[Fitted propensities of treatment by group: quartiles, a text histogram of
+bins = 20 bins (1 to 1000) from 0 to 1, and with plot = "file.svg" (or
+.png, .pdf) a picture. Propensities outside [0.01, 0.99] are counted and
+warned about (common practice). A propensity less than 1e-12 of itself
+below a bin's edge or 0.01, or above 0.99, counts as on it: a model of
+text covariates can put one there exactly (1/2, 3/4). graph = chooses
 the covariates as in balance{}: the adjustment set for outcome = when
 given, otherwise the treatment's parents. weights = "column" fits the
-propensity model with the rows' sampling weights (the counts are of rows).]],
+propensity model with the rows' sampling weights (the counts are of rows).
+data = a lazy table (connect) computes inside the database: the propensity
+model as estimate{} fits it there, the counts and extremes in one aggregate
+query, and each quartile exactly from a few rounds of counting the rows
+below chosen values (a pass over the rows each); equal to the fetched
+rows' to about 1e-9.]],
     example = [[overlap{data = plots, treatment = "mulch", set = {"slope"}, plot = "overlap.svg"}]] },
   { name = "evalue", topic = "estimate",
     sig = "evalue(r, {sd=, data=, rare=}) or evalue{rr= | or_= | hr= | d= | diff=, sd=, lo=, hi=, rare=}",
