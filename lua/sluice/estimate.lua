@@ -193,18 +193,20 @@ local function args(fname, a, keys)
     if not keys[k] then unknown_key(fname, k, names, "argument") end
   end
   if E.is_lazy(a.data) then
-    if fname == "estimate" and (a.method == nil or a.method == "standardize" or
-                                a.method == "ipw" or a.method == "aipw") then
+    if (fname == "estimate" and (a.method == nil or a.method == "standardize" or
+                                 a.method == "ipw" or a.method == "aipw")) or
+       fname == "balance" or fname == "overlap" then
       return a
     end
     fail(fname, "data = is a database table: " .. (fname == "estimate" and
          'method = "' .. tostring(a.method) .. '"' or fname .. "{}") .. " runs on data frames " ..
-         "(estimate{} with standardize, ipw and aipw, ols{} and logit{} run in the database); " ..
+         "(estimate{} with standardize, ipw and aipw, balance{}, overlap{}, ols{} and logit{} " ..
+         "run in the database); " ..
          "fetch the rows with t:fetch()")
   end
   if not is_frame(a.data) then
-    fail(fname, "data = must be a data frame (read_csv, read_sql) or, for estimate{}, ols{} and " ..
-         "logit{}, a database table (connect)")
+    fail(fname, "data = must be a data frame (read_csv, read_sql) or, for estimate{}, balance{}, " ..
+         "overlap{}, ols{} and logit{}, a database table (connect)")
   end
   return a
 end

@@ -90,6 +90,7 @@ int sl_open_citest(lua_State *L);   /* tests of implications (raw) */
 int sl_open_sensitivity(lua_State *L); /* E-values and omitted-variable bias (raw) */
 int sl_open_db(lua_State *L);       /* connect, lazy tables of a database */
 int sl_open_pois(lua_State *L);     /* hidden checks of the Poisson weights (after db) */
+int sl_open_diag(lua_State *L);     /* balance and overlap (raw), their picture */
 
 /* Set when the user asks to stop a long computation (the shell's SIGINT
 ** handler); library loops poll it. */
@@ -101,5 +102,9 @@ struct sl_db_table *sl_bind_checklazy(lua_State *L, int arg);
 /* The column of lazy table t named by the string at idx, or an error
 ** naming the closest column. */
 int sl_bind_db_column(lua_State *L, const struct sl_db_table *t, int idx);
+/* The estimators' question from the arguments (frame or lazy table,
+** treatment, outcome or nil, {set}, opts) (bind_stats.c). */
+struct sl_est_spec;
+void sl_bind_read_spec(lua_State *L, struct sl_est_spec *s);
 
 #endif

@@ -1,8 +1,8 @@
 /*
 ** bind_stats.c: models, estimators and pictures in Lua.  These are the
 ** raw primitives (sluice._ols, _estimate, ...); lua/sluice/estimate.lua
-** gives them their public form (ols{}, logit{}, estimate{}, balance{},
-** overlap{}) with argument checking and printing.
+** gives them their public form (ols{}, logit{}, estimate{}) with argument
+** checking and printing; balance{} and overlap{} are in bind_diag.c.
 */
 #include <math.h>
 #include <stdlib.h>
@@ -442,7 +442,7 @@ static sl_frame *push_schema(lua_State *L, const sl_db_table *t) {
 
 /* Read the spec from (frame or lazy table, treatment, outcome, {set...},
 ** opts); a lazy table's columns are looked up in a frame of its names. */
-static void read_spec(lua_State *L, sl_est_spec *s) {
+void sl_bind_read_spec(lua_State *L, sl_est_spec *s) {
   memset(s, 0, sizeof *s);
   const char *mt = luaL_getmetafield(L, 1, "__name") ? lua_tostring(L, -1) : NULL;
   int lazy = mt && strcmp(mt, "sluice.lazy") == 0;
@@ -547,7 +547,7 @@ static void push_result(lua_State *L, const sl_est_spec *sp, const sl_est_result
 /* sluice._estimate(frame, treatment, outcome, {set}, opts) */
 static int l_estimate(lua_State *L) {
   sl_est_spec s;
-  read_spec(L, &s);
+  sl_bind_read_spec(L, &s);
   sl_est_result r;
   sl_error e;
   if (sl_estimate(&s, &r, &e)) return sl_bind_raise(L, &e, "estimate", NULL, 0);
@@ -567,7 +567,7 @@ static void set_list(lua_State *L, const char *name, const double *v, size_t k) 
 ** "iv" (aux: the excluded instruments). */
 static int l_estimate_route(lua_State *L) {
   sl_est_spec s;
-  read_spec(L, &s);
+  sl_bind_read_spec(L, &s);
   if (s.table) return luaL_error(L, "estimate: the front-door and IV routes run on data frames; "
                                  "fetch the rows with t:fetch()");
   const char *m = opt_string(L, 5, "method", "");
@@ -608,25 +608,6 @@ static int l_estimate_route(lua_State *L) {
   return 1;
 }
 
-/* sluice._weights(frame, treatment, outcome, {set}, opts) -> ps, w, t, rows */
-static int l_weights(lua_State *L) {
-  sl_est_spec s;
-  read_spec(L, &s);
-  if (s.table) return luaL_error(L, "the rows' weights are computed for a data frame");
-  sl_weights w;
-  sl_error e;
-  if (sl_est_weights(&s, &w, &e)) return sl_bind_raise(L, &e, NULL, NULL, 0);
-  double *arr[3] = {w.ps, w.w, w.t};
-  for (int k = 0; k < 3; k++) {
-    lua_createtable(L, (int)w.n, 0);
-    for (size_t i = 0; i < w.n; i++) { lua_pushnumber(L, arr[k][i]); lua_rawseti(L, -2, (lua_Integer)i + 1); }
-  }
-  lua_createtable(L, (int)w.n, 0);
-  for (size_t i = 0; i < w.n; i++) { lua_pushinteger(L, (lua_Integer)w.rows[i] + 1); lua_rawseti(L, -2, (lua_Integer)i + 1); }
-  sl_weights_free(&w);
-  return 4;
-}
-
 /* A Lua list of numbers as a C array in a userdata pushed on the stack. */
 static double *numbers(lua_State *L, int idx, size_t *n) {
   luaL_checktype(L, idx, LUA_TTABLE);
@@ -638,20 +619,6 @@ static double *numbers(lua_State *L, int idx, size_t *n) {
     lua_pop(L, 1);
   }
   return v;
-}
-
-/* sluice._histograms(path, title, xlabel, a, alabel, b, blabel, lo, hi, bins) */
-static int l_histograms(lua_State *L) {
-  size_t na, nb;
-  double *a = numbers(L, 4, &na), *b = numbers(L, 6, &nb);
-  sl_error e;
-  if (sl_plot_histograms(luaL_checkstring(L, 1), luaL_checkstring(L, 2), luaL_checkstring(L, 3),
-                         a, na, luaL_checkstring(L, 5), b, nb, luaL_checkstring(L, 7),
-                         luaL_checknumber(L, 8), luaL_checknumber(L, 9),
-                         (int)luaL_checkinteger(L, 10), &e))
-    return sl_bind_raise(L, &e, NULL, NULL, 0);
-  lua_pushvalue(L, 1);
-  return 1;
 }
 
 /* sluice._forest(path, title, xlabel, labels, est, lo, hi, ref, reflabel) */
@@ -677,8 +644,7 @@ static int l_forest(lua_State *L) {
 
 static const luaL_Reg funcs[] = {
   {"_fit", l_fit}, {"_fit_db", l_fit_db}, {"_estimate", l_estimate}, {"_estimate_route", l_estimate_route},
-  {"_weights", l_weights},
-  {"_histograms", l_histograms}, {"_forest", l_forest},
+  {"_forest", l_forest},
   {NULL, NULL}
 };
 

@@ -97,6 +97,7 @@ int luaopen_sluice(lua_State *L) {
   sl_open_sensitivity(L);
   sl_open_db(L);
   sl_open_pois(L);
+  sl_open_diag(L);
   lua_pushliteral(L, SLUICE_VERSION);
   lua_setfield(L, -2, "version");
   /* the Lua layer: printing, then help; each may add to the module */

@@ -1,17 +1,16 @@
 /*
 ** estimate.c: a point estimate on a sample of the complete rows: the
 ** standardization, IPW and AIPW estimators of sumest.c over the frame's
-** sums, or the front-door and IV routes; and what the diagnostics and the
-** fast bootstrap routes share (design rows, propensities, IPW weights per
-** row).  Preparation of the data is in estimate_prep.c, the bootstrap in
-** bootstrap.c.
+** sums, or the front-door and IV routes; and the helpers the routes and
+** the bootstrap share (design rows, contrasts, quantiles, warnings).  Preparation of the data is in
+** estimate_prep.c, the bootstrap in bootstrap.c, the diagnostics in
+** sumdiag.c.
 */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include "estimate_internal.h"
-#include "regress.h"
 #include "sumest.h"
 
 /* Append a warning line (kept once). */
@@ -33,43 +32,6 @@ void sl_est_outcome_row(const sl_prep *P, size_t i, double tv, int inter, double
     for (size_t j = 0; j < P->q; j++) row[2 + P->q + j] = tv * c[j];
 }
 
-
-/* The weights of the sample rows ix, or NULL without weights (freed by the
-** caller). *bad is set when memory runs out. */
-static double *sample_weights(const sl_prep *P, const size_t *ix, size_t n, int *bad) {
-  *bad = 0;
-  if (!P->w) return NULL;
-  double *w = malloc(n * sizeof *w);
-  if (!w) { *bad = 1; return NULL; }
-  for (size_t k = 0; k < n; k++) w[k] = P->w[ix[k]];
-  return w;
-}
-
-/* Propensity model on the sample: e[k] = P(T = 1 | C) for sample row k. */
-int sl_est_propensity(const sl_prep *P, const size_t *ix, size_t n, double *ps,
-                      char *warn, sl_error *e) {
-  size_t p = 1 + P->q;
-  double *X = malloc(n * p * sizeof *X), *t = malloc(n * sizeof *t);
-  int bad, rc = SL_OK;
-  double *sw = sample_weights(P, ix, n, &bad);
-  if (!X || !t || bad) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
-  for (size_t k = 0; k < n; k++) {
-    X[k * p] = 1;
-    memcpy(X + k * p + 1, P->C + ix[k] * P->q, P->q * sizeof *X);
-    t[k] = P->t[ix[k]];
-  }
-  sl_fit fit;
-  memset(&fit, 0, sizeof fit);
-  char w[256] = "";
-  rc = sl_logit(X, t, sw, n, p, P->pnames, 0, 0, &fit, w, sizeof w, e);
-  if (rc) goto done;
-  if (w[0]) { char m[300]; snprintf(m, sizeof m, "propensity model: %s", w); sl_est_warn(warn, m); }
-  sl_predict(&fit, X, n, 1, ps);
-  sl_fit_free(&fit);
-done:
-  free(X); free(t); free(sw);
-  return rc;
-}
 
 /* Whether sample row k belongs to the target population of the estimand. */
 int sl_est_in_target(const sl_est_spec *s, double t) {
@@ -97,38 +59,6 @@ double sl_est_quantile(double *v, size_t n, double q) {
   size_t lo = (size_t)floor(h);
   if (lo + 1 >= n) return v[n - 1];
   return v[lo] + (h - (double)lo) * (v[lo + 1] - v[lo]);
-}
-
-/* IPW weights for the estimand, stabilised and truncated on request.
-** kappa (may be NULL) gets each weight's log-derivative along the
-** propensity model's linear predictor, dw/d(gamma) = w kappa x: 0 for a
-** constant or a truncated weight. */
-int sl_est_ipw_weights(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
-                       const double *ps, double *w, double *kappa, sl_error *e) {
-  double pt = 0;
-  for (size_t k = 0; k < n; k++) pt += P->t[ix[k]];
-  pt /= (double)n;
-  for (size_t k = 0; k < n; k++) {
-    double t = P->t[ix[k]], p = ps[k], kp;
-    if (s->estimand == SL_ATE) { w[k] = t ? 1 / p : 1 / (1 - p); kp = t ? -(1 - p) : p; }
-    else if (s->estimand == SL_ATT) { w[k] = t ? 1 : p / (1 - p); kp = t ? 0 : 1; }
-    else { w[k] = t ? (1 - p) / p : 1; kp = t ? -1 : 0; }
-    if (s->stabilized && s->estimand == SL_ATE) w[k] *= t ? pt : 1 - pt;
-    if (kappa) kappa[k] = kp;
-  }
-  if (s->trunc_lo > 0 || s->trunc_hi < 100) {
-    double *tmp = malloc(n * sizeof *tmp);
-    if (!tmp) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
-    memcpy(tmp, w, n * sizeof *tmp);
-    double lo = sl_est_quantile(tmp, n, s->trunc_lo), hi = sl_est_quantile(tmp, n, s->trunc_hi);
-    free(tmp);
-    for (size_t k = 0; k < n; k++)
-      if (w[k] < lo || w[k] > hi) {
-        w[k] = w[k] < lo ? lo : hi;
-        if (kappa) kappa[k] = 0;
-      }
-  }
-  return SL_OK;
 }
 
 int sl_est_point(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,

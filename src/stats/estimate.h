@@ -146,15 +146,4 @@ typedef struct sl_est_result {
 ** error naming the problem. */
 int sl_estimate(const sl_est_spec *spec, sl_est_result *res, sl_error *e);
 
-/* Fitted propensities and weights for the complete rows, for diagnostics:
-** ps, w and t get n entries each (caller frees with free()); rows gives the
-** frame row of each. */
-typedef struct sl_weights {
-  size_t n;
-  double *ps, *w, *t;
-  size_t *rows;
-} sl_weights;
-int sl_est_weights(const sl_est_spec *spec, sl_weights *out, sl_error *e);
-void sl_weights_free(sl_weights *w);
-
 #endif

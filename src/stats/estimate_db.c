@@ -23,6 +23,7 @@
 #define LEVELS_MAX 100
 
 typedef struct dprep {
+  sl_est_spec spec;            /* the caller's, with the schema as data */
   const sl_est_spec *s;
   const sl_db_table *t;
   sl_frame *schema;
@@ -173,7 +174,7 @@ static int complete_rows(dprep *d, sl_error *e) {
   size_t nu = 0;
   sl_db_buf b = {0};
   used[nu++] = s->treatment;
-  used[nu++] = s->outcome;
+  if (s->outcome >= 0) used[nu++] = s->outcome;
   if (s->weights) used[nu++] = s->weights - 1;
   if (s->cluster) used[nu++] = s->cluster - 1;
   for (size_t k = 0; k < nu; k++)
@@ -246,8 +247,13 @@ static int treatment(dprep *d, sl_error *e) {
   return rc;
 }
 
-/* The outcome, and whether it takes only 0 and 1. */
+/* The outcome, and whether it takes only 0 and 1; none for the
+** diagnostics (a constant 0). */
 static int outcome(dprep *d, sl_error *e) {
+  if (d->s->outcome < 0) {
+    d->I.bin_y = 1;
+    return add_var(d, SL_RV_Y, "CAST(0 AS DOUBLE PRECISION)", e);
+  }
   const char *y = sl_db_expr(d->t, (size_t)d->s->outcome);
   d->I.yname = sl_db_colname(d->t, (size_t)d->s->outcome);
   int rc = add_var(d, SL_RV_Y, y, e);
@@ -395,7 +401,7 @@ static int key(dprep *d, sl_error *e) {
 
 /* ---- the estimate ---- */
 
-static int bootstrap(const sl_est_spec *s, const sl_summer *S, const dprep *d, double *warm,
+static int bootstrap(const sl_est_spec *s, const sl_summer *S, const sl_est_info *I, double *warm,
                      double *boot, sl_error *e) {
   sl_point *pts = malloc(BATCH * sizeof *pts);
   int *rep = malloc(BATCH * sizeof *rep), rc = SL_OK;
@@ -404,7 +410,7 @@ static int bootstrap(const sl_est_spec *s, const sl_summer *S, const dprep *d, d
     size_t nb = s->boot - first < BATCH ? s->boot - first : BATCH;
     for (size_t i = 0; i < nb; i++) rep[i] = (int)(first + i + 1);
     if (s->stop && *s->stop) { rc = sl_error_set(e, SL_ELIMIT, 0, 0, "interrupted"); break; }
-    rc = sl_sum_point(s, S, d->I.bin_t, d->I.bin_y, rep, nb, 0, warm, pts, NULL, e);
+    rc = sl_sum_point(s, S, I->bin_t, I->bin_y, rep, nb, 0, warm, pts, NULL, e);
     for (size_t i = 0; rc == SL_OK && i < nb; i++) boot[first + i] = pts[i].est;
     if (s->progress) s->progress(s->progress_ctx, first + nb, s->boot);
   }
@@ -412,53 +418,68 @@ static int bootstrap(const sl_est_spec *s, const sl_summer *S, const dprep *d, d
   return rc;
 }
 
-int sl_estimate_db(const sl_est_spec *s0, sl_est_result *res, sl_error *e) {
-  dprep d;
-  memset(&d, 0, sizeof d);
-  sl_est_spec s = *s0;
-  d.s = &s;
-  d.t = s.table;
-  d.v.t = s.table;
-  d.v.seed = s.seed;
-  double *boot = NULL, *warm = NULL;
+int sl_db_summer_open(const sl_est_spec *s, sl_summer *S, void **handle, sl_est_info *I,
+                      size_t *dropped, sl_error *e) {
+  dprep *d = calloc(1, sizeof *d);
+  if (!d) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  d->spec = *s;
+  d->s = &d->spec;
+  d->t = s->table;
+  d->v.t = s->table;
+  d->v.seed = s->seed;
   int rc = SL_OK;
-  if (s.method != SL_STANDARDIZE && s.method != SL_IPW && s.method != SL_AIPW) {
-    rc = sl_error_set(e, SL_EARG, 0, 0, "inside the database: method = standardize, ipw or aipw");
+  if (!(d->schema = schema_of(d->t, e))) { rc = e->code; goto done; }
+  d->spec.data = d->schema;
+  if ((rc = sl_est_check_roles(d->s, e))) goto done;
+  if ((rc = complete_rows(d, e)) || (rc = treatment(d, e)) || (rc = outcome(d, e)) ||
+      (rc = weights(d, e)) || (rc = add_var(d, SL_RV_BOOT, "", e)) || (rc = covariates(d, e)) ||
+      (rc = clusters(d, e)) || (rc = key(d, e)))
     goto done;
-  }
-  if (s.trunc_lo > 0 || s.trunc_hi < 100) {
-    rc = sl_error_set(e, SL_EARG, 0, 0, "truncate = is not computed inside the database (it needs "
-                      "the weights' percentiles); fetch the rows with t:fetch()");
-    goto done;
-  }
-  if (!(d.schema = schema_of(d.t, e))) { rc = e->code; goto done; }
-  s.data = d.schema;
-  if (s.outcome < 0) { rc = sl_error_set(e, SL_EARG, 0, 0, "an estimate needs an outcome column"); goto done; }
-  if ((rc = sl_est_check_roles(&s, e))) goto done;
-  if ((rc = complete_rows(&d, e)) || (rc = treatment(&d, e)) || (rc = outcome(&d, e)) ||
-      (rc = weights(&d, e)) || (rc = add_var(&d, SL_RV_BOOT, "", e)) || (rc = covariates(&d, e)) ||
-      (rc = clusters(&d, e)) || (rc = key(&d, e)))
-    goto done;
-  if ((rc = sl_est_check_kinds(&s, d.I.bin_t, d.I.bin_y, d.I.tname, e))) goto done;
-  res->dropped = (size_t)(d.total - d.I.n);
+  if ((rc = sl_est_check_kinds(d->s, d->I.bin_t, d->I.bin_y, d->I.tname, e))) goto done;
+  *dropped = (size_t)(d->total - d->I.n);
+  sl_summer_db(S, &d->v);
+  S->n = d->I.n;
+  S->onames = d->onames;
+  S->pnames = d->pnames;
+  *I = d->I;
+done:
+  if (rc) { sl_db_summer_close(d); d = NULL; }
+  *handle = d;
+  return rc;
+}
+
+void sl_db_summer_close(void *handle) {
+  if (!handle) return;
+  dprep_free(handle);
+  free(handle);
+}
+
+int sl_estimate_db(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
+  if (s->method != SL_STANDARDIZE && s->method != SL_IPW && s->method != SL_AIPW)
+    return sl_error_set(e, SL_EARG, 0, 0, "inside the database: method = standardize, ipw or aipw");
+  if (s->trunc_lo > 0 || s->trunc_hi < 100)
+    return sl_error_set(e, SL_EARG, 0, 0, "truncate = is not computed inside the database (it needs "
+                        "the weights' percentiles); fetch the rows with t:fetch()");
+  if (s->outcome < 0) return sl_error_set(e, SL_EARG, 0, 0, "an estimate needs an outcome column");
   sl_summer S;
-  sl_summer_db(&S, &d.v);
-  S.n = d.I.n;
-  S.onames = d.onames;
-  S.pnames = d.pnames;
+  sl_est_info I;
+  void *h;
+  double *boot = NULL, *warm = NULL;
+  int rc = sl_db_summer_open(s, &S, &h, &I, &res->dropped, e);
+  if (rc) return rc;
   warm = malloc(sl_sum_warm_size(S.q) * sizeof *warm);
   if (!warm) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
   sl_point pt;
   int rep0 = 0;
-  if ((rc = sl_sum_point(&s, &S, d.I.bin_t, d.I.bin_y, &rep0, 1, 1, warm, &pt, res->warnings, e)))
+  if ((rc = sl_sum_point(s, &S, I.bin_t, I.bin_y, &rep0, 1, 1, warm, &pt, res->warnings, e)))
     goto done;
-  if (s.boot) {
-    if (!(boot = malloc(s.boot * sizeof *boot))) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
-    if ((rc = bootstrap(&s, &S, &d, warm, boot, e))) goto done;
+  if (s->boot) {
+    if (!(boot = malloc(s->boot * sizeof *boot))) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
+    if ((rc = bootstrap(s, &S, &I, warm, boot, e))) goto done;
   }
-  rc = sl_est_report(&s, &pt, &d.I, boot, res, e);
+  rc = sl_est_report(s, &pt, &I, boot, res, e);
 done:
   free(boot); free(warm);
-  dprep_free(&d);
+  sl_db_summer_close(h);
   return rc;
 }

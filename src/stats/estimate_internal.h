@@ -66,14 +66,21 @@ int sl_est_report(const sl_est_spec *s, const sl_point *pt, const sl_est_info *I
                   sl_est_result *res, sl_error *e);
 /* The estimate on a lazy table (estimate_db.c). */
 int sl_estimate_db(const sl_est_spec *s, sl_est_result *res, sl_error *e);
+/* The sums of s's complete rows (rowsum.h), for the estimators written
+** over them and the diagnostics (sumdiag.c): a lazy table's answered in
+** SQL (estimate_db.c), a frame's in C (estimate_prep.c).  The roles are
+** checked and the data's facts go to I; close the handle afterwards. */
+struct sl_summer;
+int sl_db_summer_open(const sl_est_spec *s, struct sl_summer *S, void **handle, sl_est_info *I,
+                      size_t *dropped, sl_error *e);
+void sl_db_summer_close(void *handle);
+int sl_est_summer_open(const sl_est_spec *s, struct sl_summer *S, void **handle, sl_est_info *I,
+                       size_t *dropped, sl_error *e);
+void sl_est_summer_close(void *handle);
 void sl_est_prep_free(sl_prep *P);
 /* want_se: also the analytic standard error (the whole sample only). */
 int sl_est_point(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
                  int want_se, sl_point *out, char *warn, sl_error *e);
-int sl_est_propensity(const sl_prep *P, const size_t *ix, size_t n, double *ps,
-                      char *warn, sl_error *e);
-int sl_est_ipw_weights(const sl_est_spec *s, const sl_prep *P, const size_t *ix, size_t n,
-                       const double *ps, double *w, double *kappa, sl_error *e);
 double sl_est_contrast(int scale, double mu1, double mu0);
 double sl_est_quantile(double *v, size_t n, double q);
 void sl_est_warn(char *buf, const char *msg);

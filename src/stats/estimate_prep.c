@@ -1,6 +1,7 @@
 /*
 ** estimate_prep.c: checking the question and collecting the complete rows
-** (covariates dummy-coded), then the whole estimate with its interval.
+** (covariates dummy-coded), then the whole estimate with its interval, or
+** the rows' sums for the diagnostics.
 */
 #include <math.h>
 #include <stdio.h>
@@ -8,6 +9,7 @@
 #include <string.h>
 #include <strings.h>
 #include "estimate_internal.h"
+#include "rowsum.h"
 
 void sl_est_prep_free(sl_prep *P) {
   free(P->rows); free(P->t); free(P->y); free(P->C); free(P->A);
@@ -90,7 +92,7 @@ int sl_est_check_roles(const sl_est_spec *s, sl_error *e) {
   const sl_column *y = &f->col[s->outcome >= 0 ? s->outcome : s->treatment];
   if (s->treatment == s->outcome)
     return sl_error_set(e, SL_EARG, 0, 0, "'%s' is both the treatment and the outcome", t->name);
-  if (y->type != SL_NUMERIC)
+  if (s->outcome >= 0 && y->type != SL_NUMERIC)
     return sl_error_set(e, SL_EARG, 0, 0, "the outcome '%s' has text values: code it as a number",
                         y->name);
   for (size_t i = 0; i < s->nset; i++) {
@@ -484,6 +486,19 @@ int sl_est_report(const sl_est_spec *s, const sl_point *pt, const sl_est_info *I
   return sl_est_intervals(s, pt, boot, res, e);
 }
 
+/* What the result says of the prepared rows (sl_est_report). */
+static void info_of(const sl_est_spec *s, const sl_prep *P, sl_est_info *I) {
+  *I = (sl_est_info){P->n, P->nclusters, P->t_values, P->bin_t, P->bin_y, 0, {{0}},
+                     s->data->col[s->treatment].name,
+                     s->outcome >= 0 ? s->data->col[s->outcome].name : NULL};
+  memcpy(I->t_level, P->t_level, sizeof I->t_level);
+  if (P->w) {
+    double sw = 0, sw2 = 0;
+    for (size_t k = 0; k < P->n; k++) { sw += P->w[k]; sw2 += P->w[k] * P->w[k]; }
+    I->ess_weights = sw * sw / sw2;
+  }
+}
+
 int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
   memset(res, 0, sizeof *res);
   if (s->table) return sl_estimate_db(s, res, e);
@@ -498,14 +513,8 @@ int sl_estimate(const sl_est_spec *s, sl_est_result *res, sl_error *e) {
   sl_point pt;
   rc = sl_est_point(s, &P, ix, P.n, 1, &pt, res->warnings, e);
   if (rc) goto done;
-  sl_est_info I = {P.n, P.nclusters, P.t_values, P.bin_t, P.bin_y, 0, {{0}},
-                   s->data->col[s->treatment].name, s->data->col[s->outcome].name};
-  memcpy(I.t_level, P.t_level, sizeof I.t_level);
-  if (P.w) {
-    double sw = 0, sw2 = 0;
-    for (size_t k = 0; k < P.n; k++) { sw += P.w[k]; sw2 += P.w[k] * P.w[k]; }
-    I.ess_weights = sw * sw / sw2;
-  }
+  sl_est_info I;
+  info_of(s, &P, &I);
   if (s->boot > 0) {
     boot = malloc(s->boot * sizeof *boot);
     if (!boot) { rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); goto done; }
@@ -518,35 +527,32 @@ done:
   return rc;
 }
 
-int sl_est_weights(const sl_est_spec *s, sl_weights *out, sl_error *e) {
-  memset(out, 0, sizeof *out);
-  sl_prep P;
-  size_t dropped;
-  int rc = sl_est_prepare(s, &P, &dropped, e);
-  if (rc) return rc;
-  if (!P.bin_t) { sl_est_prep_free(&P); return sl_error_set(e, SL_EARG, 0, 0, "weights need a 0/1 treatment"); }
-  size_t n = P.n;
-  size_t *ix = malloc(n * sizeof *ix);
-  out->ps = malloc(n * sizeof *out->ps); out->w = malloc(n * sizeof *out->w);
-  out->t = malloc(n * sizeof *out->t); out->rows = malloc(n * sizeof *out->rows);
-  if (!ix || !out->ps || !out->w || !out->t || !out->rows) {
-    rc = sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
-    goto done;
+/* A frame's complete rows as sums. */
+typedef struct frame_summer { sl_prep P; size_t *ix; sl_frame_rows rows; } frame_summer;
+
+int sl_est_summer_open(const sl_est_spec *s, sl_summer *S, void **handle, sl_est_info *I,
+                       size_t *dropped, sl_error *e) {
+  frame_summer *h = calloc(1, sizeof *h);
+  *handle = NULL;
+  if (!h) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  int rc = sl_est_prepare(s, &h->P, dropped, e);
+  if (rc) { free(h); return rc; }
+  if (!(h->ix = malloc(h->P.n * sizeof *h->ix))) {
+    sl_est_summer_close(h);
+    return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
   }
-  for (size_t i = 0; i < n; i++) { ix[i] = i; out->t[i] = P.t[i]; out->rows[i] = P.rows[i]; }
-  char warn[SL_WARN_MAX] = "";
-  if ((rc = sl_est_propensity(&P, ix, n, out->ps, warn, e))) goto done;
-  if ((rc = sl_est_ipw_weights(s, &P, ix, n, out->ps, out->w, NULL, e))) goto done;
-  for (size_t k = 0; P.w && k < n; k++) out->w[k] *= P.w[k];   /* times the rows' own */
-  out->n = n;
-done:
-  free(ix);
-  sl_est_prep_free(&P);
-  if (rc) sl_weights_free(out);
-  return rc;
+  for (size_t i = 0; i < h->P.n; i++) h->ix[i] = i;
+  h->rows = (sl_frame_rows){&h->P, h->ix, h->P.n};
+  sl_summer_frame(S, &h->rows);
+  info_of(s, &h->P, I);
+  *handle = h;
+  return SL_OK;
 }
 
-void sl_weights_free(sl_weights *w) {
-  free(w->ps); free(w->w); free(w->t); free(w->rows);
-  memset(w, 0, sizeof *w);
+void sl_est_summer_close(void *handle) {
+  frame_summer *h = handle;
+  if (!h) return;
+  free(h->ix);
+  sl_est_prep_free(&h->P);
+  free(h);
 }

@@ -66,27 +66,25 @@ static void set_colour(int r, int g, int b) {
 }
 
 int sl_plot_histograms(const char *path, const char *title, const char *xlabel,
-                       const double *a, size_t na, const char *alabel,
-                       const double *b, size_t nb, const char *blabel,
+                       const double *a, const char *alabel, const double *b, const char *blabel,
                        double lo, double hi, int nbins, sl_error *e) {
   if (nbins < 1 || nbins > 1000 || !(hi > lo))
     return sl_error_set(e, SL_EARG, 0, 0, "a histogram needs 1 to 1000 bins and lo < hi");
   double *ca = calloc((size_t)nbins, sizeof *ca), *cb = calloc((size_t)nbins, sizeof *cb);
   if (!ca || !cb) { free(ca); free(cb); return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); }
   double width = (hi - lo) / nbins, top = 0;
-  for (int pass = 0; pass < 2; pass++) {
+  for (int pass = 0; pass < 2; pass++) {   /* as shares of each group */
     const double *v = pass ? b : a;
-    size_t n = pass ? nb : na;
-    double *c = pass ? cb : ca;
-    for (size_t i = 0; i < n; i++) {
-      if (isnan(v[i])) continue;
-      int k = (int)((v[i] - lo) / width);
-      if (k < 0) k = 0;
-      if (k >= nbins) k = nbins - 1;
-      c[k] += 1;
+    double *c = pass ? cb : ca, n = 0;
+    for (int k = 0; k < nbins; k++) {
+      if (!(v[k] >= 0) || isinf(v[k])) {
+        free(ca); free(cb);
+        return sl_error_set(e, SL_EARG, 0, 0, "a histogram's counts are finite numbers, not negative");
+      }
+      n += v[k];
     }
-    for (int k = 0; k < nbins; k++) {   /* as proportions of each group */
-      c[k] /= n ? (double)n : 1;
+    for (int k = 0; k < nbins; k++) {
+      c[k] = v[k] / (n > 0 ? n : 1);
       if (c[k] > top) top = c[k];
     }
   }

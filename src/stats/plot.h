@@ -9,11 +9,11 @@
 #include <stddef.h>
 #include "error.h"
 
-/* Two histograms on [lo, hi] in nbins bins, drawn as outlines over each
-** other, with a legend naming each group. */
+/* Two histograms on [lo, hi] in nbins bins from their counts (a[k] and
+** b[k] in bin k), drawn as shares of each group, outlines over each other,
+** with a legend naming each group. */
 int sl_plot_histograms(const char *path, const char *title, const char *xlabel,
-                       const double *a, size_t na, const char *alabel,
-                       const double *b, size_t nb, const char *blabel,
+                       const double *a, const char *alabel, const double *b, const char *blabel,
                        double lo, double hi, int nbins, sl_error *e);
 
 /* The size of a picture in points (pixels for PNG); a forest plot grows

@@ -288,7 +288,8 @@ static int propensity(est *E, sl_term **term, double **gamma, int *ok) {
 ** (a node), times P(T = t) (the parameter stab) when stabilised, and cut
 ** at the parameters stab + 1 and stab + 2 when truncated; kappa (may be
 ** NULL) gets its log-derivative along the propensity model's linear
-** predictor, 0 where cut (estimate.c, sl_est_ipw_weights). */
+** predictor, 0 where cut: dw/d(gamma) = w kappa x (Lunceford and
+** Davidian 2004). */
 static int ipw_weight(const est *E, sl_rx *x, int ps, int stab, int cut, int *kappa) {
   int t = VAR(x, SL_RV_T), one = NUM(x, 1), c = SUB(x, one, t), q = SUB(x, one, ps), w, k;
   if (E->s->estimand == SL_ATE) {

@@ -211,6 +211,8 @@ dofile("tests/lua/db_citest.lua")(name, db, target)
 dofile("tests/lua/db_pois.lua")(name, db)
 -- estimate{} inside the database equals the fetched frame's
 dofile("tests/lua/db_estimate.lua")(name, db)
+-- balance{} and overlap{} inside the database equal the fetched frame's
+dofile("tests/lua/db_diag.lua")(name, db)
 
 test(name("db:close() ends the connection; its tables say so"), function()
   local d2 = connect(target)

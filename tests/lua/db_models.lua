@@ -86,11 +86,5 @@ return function(name, db)
     local q = db:query("SELECT yield, rain, 2 * rain AS rain2 FROM plots")
     raises(function() ols{data = q, y = "yield", x = {"rain", "rain2"}} end,
            "ols:", "column 'rain2' is a linear combination of earlier columns")
-    -- the diagnostics that do not run in the database yet say so, by name
-    -- (estimate{} does: db_estimate.lua)
-    for _, fn in ipairs({"balance", "overlap"}) do
-      raises(function() _G[fn]{data = t, treatment = "treated", outcome = "yield", set = {"rain"}} end,
-             fn .. ":", "is a database table", "t:fetch()")
-    end
   end)
 end
