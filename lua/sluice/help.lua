@@ -807,8 +807,9 @@ transaction that is rolled back. Names are quoted and values bound, never
 pasted into SQL. tostring(db) names the engine, file or database and user,
 never a password. db:close() ends the connection; its tables then say so.
 Errors relay the engine's own message on one line. Ctrl-C cancels a
-query. ols{}, logit{}, estimate{} and g:test() take a lazy table as
-data = and compute inside the database from aggregate queries. key = names
+query. ols{}, logit{}, estimate{}, compare{}, balance{}, overlap{} and
+g:test() take a lazy table as data = and compute inside the database from
+aggregate queries. key = names
 the rows' key (a column of whole numbers, one per row), from which
 estimate{boot =} draws each row's Poisson weights.]],
     example = [[db = connect "survey.db"      -- or "postgresql:///survey?host=/run/postgresql"
