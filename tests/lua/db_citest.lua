@@ -19,11 +19,7 @@ return function(name, db, target)
   local g = graph "plot -> rain -> yield; treated -> yield"
 
   -- Relative closeness (1e-9 is the issue's bar on well-conditioned data).
-  local function rel(a, b, what)
-    if not (math.abs(a - b) <= 1e-9 * math.abs(b)) then
-      error(string.format("%s: expected %.17g, got %.17g", what, b, a), 2)
-    end
-  end
+  local rel = dofile("tests/lua/db_common.lua").rel
 
   -- Two rows of g:test alike: the same test on the same rows, every number
   -- to 1e-9 relative, the same verdict (and p_adj unless alone is false:

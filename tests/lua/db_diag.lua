@@ -10,12 +10,7 @@
 -- db_engines.lua (SQLite and PostgreSQL, tests/shell/postgres.sh); the
 -- table is "plots" of tests/data/db_plots.csv.  Returns function(name, db)
 -- and the checks, for test_db_diag.lua's larger tables.
-local function rel(a, b, what, tol)
-  tol = tol or 1e-9
-  if not (math.abs(a - b) <= tol * math.max(math.abs(b), 1e-12)) then
-    error(string.format("%s: expected %.17g, got %.17g", what, b, a), 2)
-  end
-end
+local rel = dofile("tests/lua/db_common.lua").rel
 
 -- Near in absolute terms for numbers about 1 (SMDs near 0, propensities).
 local function near(a, b, what, tol)

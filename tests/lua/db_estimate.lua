@@ -8,12 +8,7 @@
 return function(name, db)
   -- Relative closeness: 1e-9 is the issue's bar; sums added in another
   -- order and Newton steps stopped by the same rule differ far less.
-  local function rel(a, b, what, tol)
-    tol = tol or 1e-9
-    if not (math.abs(a - b) <= tol * math.max(math.abs(b), 1e-12)) then
-      error(string.format("%s: expected %.17g, got %.17g", what, b, a), 2)
-    end
-  end
+  local rel = dofile("tests/lua/db_common.lua").rel
 
   -- a 0/1 outcome, a text treatment and weights, from the same rows
   local q = db:query("SELECT plot, soil, rain, treated, yield, " ..

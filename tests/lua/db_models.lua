@@ -10,11 +10,7 @@ return function(name, db)
   local f = t:fetch()
 
   -- Relative closeness (1e-9 is the issue's bar on well-conditioned data).
-  local function rel(a, b, what)
-    if not (math.abs(a - b) <= 1e-9 * math.abs(b)) then
-      error(string.format("%s: expected %.17g, got %.17g", what, b, a), 2)
-    end
-  end
+  local rel = dofile("tests/lua/db_common.lua").rel
 
   local function same_fit(a, b, what, fields)
     eq(a.n, b.n, what .. ": n")

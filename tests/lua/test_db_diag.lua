@@ -5,16 +5,9 @@
 -- many rounds of counting: propensities spread over (0, 1), and two tight
 -- clusters of them, each spread over a few units of the 13th digit; its quartiles
 -- beside Python's statistics.quantiles.
-local dir = os.tmpname()
-os.remove(dir)
-assert(os.execute("mkdir " .. dir), "a folder for the test database")
-assert(os.execute(string.format("python3 tests/lib/db_load.py tests/data/db_plots.csv %s/plots.db " ..
-                                "%s/load.sql %s/expect.lua", dir, dir, dir)),
-       "tests/lib/db_load.py made the SQLite file")
-local db = connect(dir .. "/plots.db")
+local db, dir, done = dofile("tests/lua/db_common.lua").sqlite_plots()
 local run, C = dofile("tests/lua/db_diag.lua")
 run(function(s) return "SQLite: " .. s end, db)
-db:close()
 
 test("SQLite: 3000 rows: balance{} and overlap{} equal the frame's, and their definitions", function()
   -- a seedbed trial: soil warmth (x1), a two-bed layout whose second bed
@@ -81,4 +74,4 @@ test("SQLite: 3000 rows: balance{} and overlap{} equal the frame's, and their de
   end
   sdb:close()
 end)
-os.execute("rm -rf " .. dir)
+done()

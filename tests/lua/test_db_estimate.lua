@@ -3,15 +3,8 @@
 -- in db_estimate.lua; tests/shell/postgres.sh runs them on PostgreSQL too),
 -- and the Poisson bootstrap's SE beside the multinomial bootstrap's on a
 -- larger simulated table.
-local dir = os.tmpname()
-os.remove(dir)
-assert(os.execute("mkdir " .. dir), "a folder for the test database")
-assert(os.execute(string.format("python3 tests/lib/db_load.py tests/data/db_plots.csv %s/plots.db " ..
-                                "%s/load.sql %s/expect.lua", dir, dir, dir)),
-       "tests/lib/db_load.py made the SQLite file")
-local db = connect(dir .. "/plots.db")
+local db, dir, done = dofile("tests/lua/db_common.lua").sqlite_plots()
 dofile("tests/lua/db_estimate.lua")(function(s) return "SQLite: " .. s end, db)
-db:close()
 
 test("the Poisson bootstrap's SE agrees with the multinomial bootstrap's within Monte Carlo error", function()
   -- 2000 simulated rows; B = 400 replicates each: a bootstrap SE has a
@@ -46,4 +39,4 @@ test("the Poisson bootstrap's SE agrees with the multinomial bootstrap's within 
   end
   sdb:close()
 end)
-os.execute("rm -rf " .. dir)
+done()
