@@ -45,17 +45,17 @@ if [ ! -f "$B/libsluice.a" ]; then
 fi
 mkdir -p "$D"
 # SECTION=NAME runs some sections alone: model (9, 10), log (10), estimate
-# (8), routes (12), implications (14), citest (15), coverage (16).
+# (8), routes (12), implications (14), citest (15), coverage (16), db (17).
 section_range() {
   case $1 in
     model) echo "9 10" ;; log) echo "10 10" ;; estimate) echo "8 8" ;;
     routes) echo "12 12" ;; implications) echo "14 14" ;; citest) echo "15 15" ;;
-    coverage) echo "16 16" ;;
+    coverage) echo "16 16" ;; db) echo "17 17" ;;
   esac
 }
 if [ -n "${SECTION:-}" ]; then
   set -- $(section_range "$SECTION")
-  [ $# = 2 ] || { echo "bench: no section '$SECTION' (model, log, estimate, routes, implications, citest, coverage)"; exit 2; }
+  [ $# = 2 ] || { echo "bench: no section '$SECTION' (model, log, estimate, routes, implications, citest, coverage, db)"; exit 2; }
   row "figure" "sluice" "target" "vs target" "reference" "vs ref"
   eval "$(sed -n "/^# ---- $1: /,/^# ---- end of $2 /p" bench/run.sh)"
   echo "bench: done"
@@ -710,5 +710,14 @@ else
   failed "bench/bench_coverage.lua (crashed)"
 fi
 # ---- end of 16 ----
+# ---- 17: estimation inside the database, 1e6 and 1e7 rows x 8 columns ----
+# bench/bench_db.sh: an invented farm trial loaded into SQLite and into a
+# throw-away PostgreSQL 15 cluster (load times not counted); the estimate
+# with the rows left in the database beside t:fetch and the same estimate
+# in memory, wall time and peak memory of whole processes, and the peak
+# memory at 1e7 rows beside 1e6.  DB_ROWS, DB_ENGINES and DB_WHAT choose
+# (see the script).  SECTION=db runs this section alone.
+DB_NO_HEADER=1 B=$B PYTHON=$PYTHON sh bench/bench_db.sh || failed "bench/bench_db.sh (see above)"
+# ---- end of 17 ----
 echo "bench: done"
 exit $fail
