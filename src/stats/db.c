@@ -329,7 +329,9 @@ static int has_int(const char *ty) {
 int sl_db_set_key(sl_db_table *t, size_t j, sl_error *e) {
   if (j >= t->d.n) return sl_error_set(e, SL_EARG, 0, 0, "column %zu is out of range", j + 1);
   const char *ty = t->d.sqltypes[j];
-  int whole = t->db->engine == SL_DB_SQLITE ? has_int(ty)
+  /* SQLite: a column computed by a query has no declared type; its values
+  ** are cast to whole numbers and then must be distinct (estimate_db.c) */
+  int whole = t->db->engine == SL_DB_SQLITE ? has_int(ty) || ty[0] == 0
             : strcmp(ty, "integer") == 0 || strcmp(ty, "bigint") == 0 || strcmp(ty, "smallint") == 0;
   if (!whole)
     return sl_error_set(e, SL_EARG, 0, 0, "key = '%s' is of type %s: the rows' key must be a "
@@ -364,6 +366,10 @@ int sl_db_numbers(const sl_db_table *t, const char *sql, const sl_db_param *p, s
   one_row o = {v, n, 0};
   for (size_t j = 0; j < n; j++) v[j] = NAN;
   return db_exec(t->db, sql, p, np, take_row, &o, e);
+}
+
+const char *sl_db_fence(const sl_db *db) {
+  return db->engine == SL_DB_POSTGRES ? " OFFSET 0" : " LIMIT -1 OFFSET 0";
 }
 
 int sl_db_rows(const sl_db_table *t, const char *sql, const sl_db_param *p, size_t np,

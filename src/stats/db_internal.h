@@ -74,6 +74,12 @@ const char *sl_db_expr(const sl_db_table *t, size_t j);
 int sl_db_numbers(const sl_db_table *t, const char *sql, const sl_db_param *p, size_t np,
                   double *v, size_t n, sl_error *e);
 
+/* What closes a subquery in FROM so that the engine keeps it whole: both
+** engines would otherwise pull it up and copy each of its expressions into
+** every place that reads it (a chain of values, exponentially often).
+** OFFSET 0 is standard SQL (SQL:2008); SQLite needs a LIMIT before it. */
+const char *sl_db_fence(const sl_db *db);
+
 /* Run sql on the lazy table's connection, fn once per result row; a
 ** cell's number (NaN for NULL). */
 int sl_db_rows(const sl_db_table *t, const char *sql, const sl_db_param *p, size_t np,

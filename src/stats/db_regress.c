@@ -341,6 +341,10 @@ static void finish(const dfit *d, sl_vcov_kind se, const double *Ai, const doubl
   fit->npos = (size_t)d->n;
 }
 
+/* The engine's subquery fence (db_internal.h): the logistic pass reads
+** each of its values many times. */
+static const char *fence(const dfit *d) { return sl_db_fence(sl_db_of(d->t)); }
+
 /* ---- least squares ---- */
 
 /* The residual-weighted cross-products sum e_i^2 z_i z_i' at theta. */
@@ -356,7 +360,7 @@ static int ols_meat(const dfit *d, const double *theta, double *M, double *v, sl
   add_linear(&b, d, theta, par, &np);
   sl_db_buf_add(&b, ") AS sl_e FROM (");
   add_centred(&b, d, 1, par, &np);
-  sl_db_buf_add(&b, ") AS sl_centred) AS sl_resid");
+  sl_db_buf_add(&b, "%s) AS sl_centred%s) AS sl_resid", fence(d), fence(d));
   int status = run(d, &b, par, np, v, 1 + d->p * (d->p + 1) / 2, e);
   if (status == SL_OK) take_cross(d, v + 1, M);
   return status;
@@ -459,7 +463,8 @@ static int logit_pass(const dfit *d, const double *theta, lpass *o, double *v, s
   add_linear(&b, d, theta, par, &np);
   sl_db_buf_add(&b, " AS sl_eta FROM (");
   add_centred(&b, d, 0, par, &np);
-  sl_db_buf_add(&b, ") AS sl_centred) AS sl_linear) AS sl_exp) AS sl_prob");
+  sl_db_buf_add(&b, "%s) AS sl_centred%s) AS sl_linear%s) AS sl_exp%s) AS sl_prob", fence(d),
+                fence(d), fence(d), fence(d));
   int status = run(d, &b, par, np, v, 3 + p + p * (p + 1), e);
   if (status != SL_OK) return status;
   o->ll = v[1];

@@ -380,23 +380,40 @@ static int clusters(dprep *d, sl_error *e) {
   return SL_OK;
 }
 
-/* The rows' key, for the Poisson bootstrap. */
+/* The rows' key, for the Poisson bootstrap: present and distinct in every
+** complete row (rows sharing a key would share their weights). */
 static int key(dprep *d, sl_error *e) {
   int k = sl_db_key(d->t);
-  if (k < 0) {
-    if (d->s->boot)
-      return sl_error_set(e, SL_EARG, 0, 0, "boot = on a database table draws Poisson weights "
-                          "from each row's key: name a column of whole numbers, one per row, "
-                          "with db:table(name, {key = \"column\"})");
-    return SL_OK;
-  }
-  char *q = sl_db_quote_ident(sl_db_colname(d->t, (size_t)k), e);
+  if (!d->s->boot) return SL_OK;   /* only the Poisson weights read it */
+  if (k < 0)
+    return sl_error_set(e, SL_EARG, 0, 0, "boot = on a database table draws Poisson weights "
+                        "from each row's key: name a column of whole numbers, one per row, "
+                        "with db:table(name, {key = \"column\"})");
+  const char *name = sl_db_colname(d->t, (size_t)k);
+  char *q = sl_db_quote_ident(name, e);
   if (!q) return e->code;
   size_t len = strlen(q) + 32;
   d->v.key = malloc(len);
   if (d->v.key) snprintf(d->v.key, len, "CAST(%s AS BIGINT)", q);
   free(q);
-  return d->v.key ? SL_OK : sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  if (!d->v.key) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  sl_db_buf b = {0};
+  sl_db_buf_add(&b, "SELECT COUNT(*), COUNT(%s), COUNT(DISTINCT %s) FROM %s WHERE %s", d->v.key,
+                d->v.key, sl_db_from(d->t), d->v.cond);
+  char *sql = sl_db_buf_done(&b, e);
+  if (!sql) return e->code;
+  double v[3];
+  int rc = one_number(d, sql, NULL, 0, v, 3, e);
+  free(sql);
+  if (rc) return rc;
+  if (v[1] < v[0])
+    return sl_error_set(e, SL_EARG, 0, 0, "key = '%s' is missing in %.0f of the %.0f complete rows: "
+                        "the Poisson bootstrap needs a key in every row", name, v[0] - v[1], v[0]);
+  if (v[2] < v[1])
+    return sl_error_set(e, SL_EARG, 0, 0, "key = '%s' repeats: %.0f distinct values in %.0f "
+                        "complete rows, and rows that share a key would share their Poisson "
+                        "weights", name, v[2], v[1]);
+  return SL_OK;
 }
 
 /* ---- the estimate ---- */

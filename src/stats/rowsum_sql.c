@@ -12,6 +12,9 @@
 **              CROSS JOIN (VALUES (?, ?, ...), ...) AS rp) ...)
 **   GROUP BY r_ ORDER BY r_
 **
+** Each subquery is closed by the engine's fence (sl_db_fence: OFFSET 0),
+** so that it is not pulled up with its expressions copied into every sum
+** that reads a value; each stage passes on only the columns read later.
 ** A value refers only to values of earlier stages, since a SELECT cannot
 ** read its own aliases.  Numbers of sluice's own are written as literals;
 ** every user value (a level, a parameter) is bound.  Only standard SQL:
@@ -24,16 +27,6 @@
 #include "db_internal.h"
 #include "poisson_weight.h"
 #include "rowsum.h"
-
-/* A fence after a subquery: both engines would otherwise pull the
-** subquery up and copy each value's expression into every place that reads
-** it, so that a value read by many sums is computed many times (and a
-** chain of values, exponentially often).  OFFSET 0 is standard SQL
-** (SQL:2008) and PostgreSQL keeps such a subquery whole; SQLite needs a
-** LIMIT before its OFFSET. */
-static const char *fence(const sl_db *db) {
-  return sl_db_engine(db) == SL_DB_POSTGRES ? " OFFSET 0" : " LIMIT -1 OFFSET 0";
-}
 
 /* 1 and 0 as doubles: PostgreSQL reads 1.0 as NUMERIC, whose arithmetic
 ** row by row is slow (the cast of a constant is folded once). */
@@ -188,7 +181,7 @@ static char *weighted(const sl_db *db, const sl_sum_req *r, char *sql, sl_error 
     sl_pois_sql_draw(&w, "sw.h_");
     sl_db_buf_add(&w, " AS DOUBLE PRECISION) END");
   }
-  sl_db_buf_add(&w, " AS v%d FROM (%s%s) AS sw", SL_RV_BOOT, sql, fence(db));
+  sl_db_buf_add(&w, " AS v%d FROM (%s%s) AS sw", SL_RV_BOOT, sql, sl_db_fence(db));
   free(sql);
   return sl_db_buf_done(&w, e);
 }
@@ -247,7 +240,7 @@ static char *rows_sql(qbuild *q, const sl_db_vars *v, const sl_sum_req *r, sl_er
         emit(&w, x, x->root[k]);
         sl_db_buf_add(&w, " AS u%zu", k);
       }
-    sl_db_buf_add(&w, " FROM (%s%s) AS s%d", sql, fence(q->db), s - 1);
+    sl_db_buf_add(&w, " FROM (%s%s) AS s%d", sql, sl_db_fence(q->db), s - 1);
     free(sql);
     sql = sl_db_buf_done(&w, e);
   }
@@ -296,8 +289,8 @@ static int db_sums(void *ctx, const sl_sum_req *r, double *out, sl_error *e) {
       } else sl_db_buf_add(&b, ", %s(u%d)", g->kind == SL_AGG_MIN ? "MIN" : "MAX", g->a);
     }
     /* one replicate: a plain aggregate (a GROUP BY may sort every row) */
-    if (r->nrep == 1) sl_db_buf_add(&b, " FROM (%s%s) AS z", rows, fence(q.db));
-    else sl_db_buf_add(&b, " FROM (%s%s) AS z GROUP BY r_ ORDER BY r_", rows, fence(q.db));
+    if (r->nrep == 1) sl_db_buf_add(&b, " FROM (%s%s) AS z", rows, sl_db_fence(q.db));
+    else sl_db_buf_add(&b, " FROM (%s%s) AS z GROUP BY r_ ORDER BY r_", rows, sl_db_fence(q.db));
     free(rows);
     char *sql = sl_db_buf_done(&b, e);
     take t = {r, out, first, k};
@@ -328,7 +321,7 @@ static int db_cluster_ss(void *ctx, const sl_rx *x, int val, const double *par, 
   if (!rows) { free(q.par); return e->code; }
   sl_db_buf b = {0};
   sl_db_buf_add(&b, "SELECT SUM(g_ * g_), COUNT(*) FROM (SELECT SUM(u%d) AS g_ FROM (%s%s) AS z "
-                "GROUP BY vcl) AS c", val, rows, fence(q.db));
+                "GROUP BY vcl) AS c", val, rows, sl_db_fence(q.db));
   free(rows);
   char *sql = sl_db_buf_done(&b, e);
   double two[2] = {NAN, NAN};

@@ -20,6 +20,9 @@
 #define LOGIT_MAX_ITER 50
 #define LOGIT_TOL 1e-10
 #define HALVINGS 30
+/* A deviance summed over 10^7 rows moves by about this much, relatively,
+** with the order of the additions: a rise that small is no rise. */
+#define ROUNDING 1e-12
 
 void sl_req_init(sl_req *r) { memset(r, 0, sizeof *r); sl_rx_init(&r->rx); }
 void sl_req_clear(sl_req *r) { sl_rx_clear(&r->rx); r->nagg = 0; r->bad = 0; }
@@ -275,7 +278,8 @@ static int logistic(const sl_summer *S, const sl_term *term, size_t p, int yvar,
       double dc = -2 * o[p * (p + 1) / 2 + p];
       double *ti = th + i * p, *ci = cand + i * p, *si = step + i * p;
       int first = isinf(dev[i]);
-      if (!first && !(dc <= dev[i])) {   /* worse: halve the step */
+      /* worse (beyond the rounding of a sum over many rows): halve the step */
+      if (!first && !(dc <= dev[i] + ROUNDING * (fabs(dev[i]) + 0.1))) {
         if (++h[i] > HALVINGS) { done[i] = 1; continue; }
         for (size_t j = 0; j < p; j++) ci[j] = ti[j] + ldexp(si[j], -h[i]);
         continue;

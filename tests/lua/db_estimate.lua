@@ -160,6 +160,13 @@ return function(name, db)
                                weights = "soil"} end,
            "estimate:", "weights = 'soil' has text values")
     raises(function() db:table("plots", {key = "soil"}) end, "key = 'soil'", "whole numbers")
+    local dup = db:query("SELECT plot % 7 AS k, treated, yield, rain FROM plots", {key = "k"})
+    raises(function() estimate{data = dup, treatment = "treated", outcome = "yield", set = {"rain"},
+                               boot = 10} end, "estimate:", "key = 'k' repeats", "share their Poisson")
+    local gap = db:query("SELECT CASE WHEN plot > 3 THEN plot END AS k, treated, yield, rain " ..
+                         "FROM plots", {key = "k"})
+    raises(function() estimate{data = gap, treatment = "treated", outcome = "yield", set = {"rain"},
+                               boot = 10} end, "estimate:", "key = 'k' is missing in 3 of the 35")
     raises(function() db:table("plots", {kye = "plot"}) end, "unknown option 'kye'", "did you mean 'key'")
   end)
 end
