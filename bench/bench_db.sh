@@ -135,16 +135,8 @@ if [ -n "$pg" ] && { [ ! -x "$pgbin/initdb" ] || ! command -v psql >/dev/null 2>
   pg=
 fi
 if [ -n "$pg" ]; then
-  if [ "$(id -u)" = 0 ]; then
-    user=postgres
-    id "$user" >/dev/null 2>&1 || user=nobody
-    as_server() { runuser -u "$user" -- "$@"; }
-  else
-    as_server() { "$@"; }
-  fi
-  sock=$tmp/pg
-  mkdir "$sock" && chmod 755 "$tmp" || { failed "a folder for the server"; pg=; }
-  [ "$(id -u)" = 0 ] && chown "$user" "$sock"
+  . tests/lib/pg_user.sh
+  pg_folder "$tmp" || { failed "a folder for the server"; pg=; }
 fi
 if [ -n "$pg" ]; then
   # no WAL for the tables loaded in the transaction that makes them, no

@@ -67,6 +67,9 @@ int sl_bind_opt_error(lua_State *L, const char *fname, const char *fmt, ...);
 ** closest name (bind_options.c). */
 void sl_bind_check_options(lua_State *L, int idx, const char *fname,
                            const char *const *known, size_t nknown);
+/* The list at idx as numbers (NaN where an item is not one), in a
+** userdata pushed on the stack; *n gets its length. */
+double *sl_bind_numbers(lua_State *L, int idx, size_t *n);
 
 /* Gathering listed sets into the list on top of the stack, up to a limit. */
 typedef struct sl_bind_sets { lua_State *L; const sl_graph *g; lua_Integer count, limit;

@@ -127,19 +127,10 @@ static int l_overlap(lua_State *L) {
 
 /* The list of counts at idx, in a userdata pushed on the stack. */
 static double *counts(lua_State *L, int idx, size_t *n) {
-  luaL_checktype(L, idx, LUA_TTABLE);
-  *n = (size_t)luaL_len(L, idx);
-  double *v = lua_newuserdatauv(L, (*n ? *n : 1) * sizeof *v, 0);
-  for (size_t i = 0; i < *n; i++) {
-    lua_geti(L, idx, (lua_Integer)i + 1);
-    int ok;
-    v[i] = lua_tonumberx(L, -1, &ok);
-    if (!ok) luaL_argerror(L, idx, "a list of counts");
-    lua_pop(L, 1);
-  }
+  double *v = sl_bind_numbers(L, idx, n);
+  for (size_t i = 0; i < *n; i++) if (isnan(v[i])) luaL_argerror(L, idx, "a list of counts");
   return v;
 }
-
 /* sluice._histograms(path, title, xlabel, a, alabel, b, blabel, lo, hi):
 ** a and b the counts of the same bins on [lo, hi] */
 static int l_histograms(lua_State *L) {

@@ -2,6 +2,7 @@
 ** bind_options.c: the options table of a binding ({limit = 10, ...}):
 ** an unknown name is an error that suggests the closest known one.
 */
+#include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <string.h>
@@ -45,4 +46,16 @@ void sl_bind_check_options(lua_State *L, int idx, const char *fname,
     sl_bind_opt_error(L, fname, "unknown option %s (options: %s)",
               k ? lua_pushfstring(L, "'%s'", k) : sl_bind_value_text(L, -2), names);
   }
+}
+
+double *sl_bind_numbers(lua_State *L, int idx, size_t *n) {
+  luaL_checktype(L, idx, LUA_TTABLE);
+  *n = (size_t)luaL_len(L, idx);
+  double *v = lua_newuserdatauv(L, (*n ? *n : 1) * sizeof *v, 0);
+  for (size_t i = 0; i < *n; i++) {
+    lua_geti(L, idx, (lua_Integer)i + 1);
+    v[i] = lua_isnumber(L, -1) ? lua_tonumber(L, -1) : NAN;
+    lua_pop(L, 1);
+  }
+  return v;
 }

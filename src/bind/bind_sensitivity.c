@@ -67,17 +67,11 @@ static int l_adjust(lua_State *L) {
 
 /* The list at idx as n numbers in a userdata pushed on the stack. */
 static double *numbers(lua_State *L, int idx, size_t n) {
-  luaL_checktype(L, idx, LUA_TTABLE);
-  if ((size_t)luaL_len(L, idx) != n) luaL_argerror(L, idx, "one value per point");
-  double *v = lua_newuserdatauv(L, (n ? n : 1) * sizeof *v, 0);
-  for (size_t i = 0; i < n; i++) {
-    lua_geti(L, idx, (lua_Integer)i + 1);
-    v[i] = lua_isnumber(L, -1) ? lua_tonumber(L, -1) : NAN;
-    lua_pop(L, 1);
-  }
+  size_t k;
+  double *v = sl_bind_numbers(L, idx, &k);
+  if (k != n) luaL_argerror(L, idx, "one value per point");
   return v;
 }
-
 /* sluice._sens_contour(path, title, est, se, df, xmax, ymax, special, speciallabel,
 **                      labels, px, py): the adjusted estimate over the grid. */
 static int l_contour(lua_State *L) {

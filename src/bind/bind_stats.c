@@ -608,19 +608,6 @@ static int l_estimate_route(lua_State *L) {
   return 1;
 }
 
-/* A Lua list of numbers as a C array in a userdata pushed on the stack. */
-static double *numbers(lua_State *L, int idx, size_t *n) {
-  luaL_checktype(L, idx, LUA_TTABLE);
-  *n = (size_t)luaL_len(L, idx);
-  double *v = lua_newuserdatauv(L, (*n ? *n : 1) * sizeof *v, 0);
-  for (size_t i = 0; i < *n; i++) {
-    lua_geti(L, idx, (lua_Integer)i + 1);
-    v[i] = lua_isnumber(L, -1) ? lua_tonumber(L, -1) : NAN;
-    lua_pop(L, 1);
-  }
-  return v;
-}
-
 /* sluice._forest(path, title, xlabel, labels, est, lo, hi, ref, reflabel) */
 static int l_forest(lua_State *L) {
   luaL_checktype(L, 4, LUA_TTABLE);
@@ -632,7 +619,8 @@ static int l_forest(lua_State *L) {
     lua_pop(L, 1);   /* the list keeps the strings alive */
     if (!labels[i]) luaL_argerror(L, 4, "labels are strings");
   }
-  double *est = numbers(L, 5, &n1), *lo = numbers(L, 6, &n2), *hi = numbers(L, 7, &n3);
+  double *est = sl_bind_numbers(L, 5, &n1), *lo = sl_bind_numbers(L, 6, &n2),
+         *hi = sl_bind_numbers(L, 7, &n3);
   if (n1 != n || n2 != n || n3 != n) luaL_argerror(L, 5, "one estimate and interval per label");
   sl_error e;
   if (sl_plot_forest(luaL_checkstring(L, 1), luaL_checkstring(L, 2), luaL_checkstring(L, 3),

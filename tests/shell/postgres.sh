@@ -44,18 +44,9 @@ if ! command -v psql >/dev/null 2>&1; then
   echo "skipped: PostgreSQL client not installed (postgresql-client-15)"
   exit 0
 fi
-# the server runs as this user: ourselves, or (as root) postgres or nobody
-if [ "$(id -u)" = 0 ]; then
-  user=postgres
-  id "$user" >/dev/null 2>&1 || user=nobody
-  as_server() { runuser -u "$user" -- "$@"; }
-else
-  as_server() { "$@"; }
-fi
-# the server's own folder (data and socket); the rest stays ours
-sock=$tmp/pg
-mkdir "$sock" && chmod 755 "$tmp" || fail "a folder for the server"
-[ "$(id -u)" = 0 ] && chown "$user" "$sock"
+# the server's user and its own folder (data and socket); the rest stays ours
+. tests/lib/pg_user.sh
+pg_folder "$tmp" || fail "a folder for the server"
 as_server "$pgbin/initdb" -D "$sock/data" -U sluice --auth=trust -E UTF8 --no-locale \
   > "$tmp/out.txt" 2>&1 || fail "initdb made a cluster"
 started=1
