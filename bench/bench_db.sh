@@ -61,11 +61,8 @@ if ! command -v "$PYTHON" >/dev/null 2>&1; then
 fi
 tmp=$(mktemp -d /tmp/sluice-benchdb.XXXXXX) || exit 1
 started=
-cleanup() {
-  [ -n "$started" ] && as_server "$pgbin/pg_ctl" -D "$sock/data" -m immediate stop >/dev/null 2>&1
-  rm -rf "$tmp"
-}
-trap cleanup EXIT
+. tests/lib/pg_user.sh
+trap pg_cleanup EXIT
 trap 'exit 1' INT TERM
 # shellcheck disable=SC2046
 cc -std=c11 -O2 -D_POSIX_C_SOURCE=200809L -D_DEFAULT_SOURCE bench/db_gen.c \
@@ -135,7 +132,6 @@ if [ -n "$pg" ] && { [ ! -x "$pgbin/initdb" ] || ! command -v psql >/dev/null 2>
   pg=
 fi
 if [ -n "$pg" ]; then
-  . tests/lib/pg_user.sh
   pg_folder "$tmp" || { failed "a folder for the server"; pg=; }
 fi
 if [ -n "$pg" ]; then

@@ -63,11 +63,6 @@ static sl_frame *schema_of(const sl_db_table *t, sl_error *e) {
 
 /* ---- small queries ---- */
 
-static int one_number(const dprep *d, const char *sql, const sl_db_param *p, size_t np,
-                      double *v, size_t n, sl_error *e) {
-  return sl_db_numbers(d->t, sql, p, np, v, n, e);
-}
-
 /* The distinct values of column j over the complete rows, at most max + 1
 ** of them: numbers sorted, or texts sorted bytewise (as a frame's levels). */
 typedef struct distinct { int num; size_t n, max; double x[LEVELS_MAX + 2]; char *txt[LEVELS_MAX + 2]; } distinct;
@@ -188,7 +183,7 @@ static int complete_rows(dprep *d, sl_error *e) {
   char *sql = sl_db_buf_done(&q, e);
   if (!sql) return e->code;
   double v[2];
-  int rc = one_number(d, sql, NULL, 0, v, 2, e);
+  int rc = sl_db_numbers(d->t, sql, NULL, 0, v, 2, e);
   free(sql);
   if (rc) return rc;
   d->total = (uint64_t)v[0];
@@ -264,7 +259,7 @@ static int outcome(dprep *d, sl_error *e) {
   char *sql = sl_db_buf_done(&b, e);
   if (!sql) return e->code;
   double other;
-  rc = one_number(d, sql, NULL, 0, &other, 1, e);
+  rc = sl_db_numbers(d->t, sql, NULL, 0, &other, 1, e);
   free(sql);
   d->I.bin_y = other == 0;
   return rc;
@@ -285,7 +280,7 @@ static int weights(dprep *d, sl_error *e) {
   char *sql = sl_db_buf_done(&b, e);
   if (!sql) return e->code;
   double v[3];
-  rc = one_number(d, sql, NULL, 0, v, 3, e);
+  rc = sl_db_numbers(d->t, sql, NULL, 0, v, 3, e);
   free(sql);
   if (rc) return rc;
   if (!(v[0] >= 0) || !isfinite(v[1]) || !isfinite(v[2]))
@@ -369,7 +364,7 @@ static int clusters(dprep *d, sl_error *e) {
   char *sql = sl_db_buf_done(&b, e);
   if (!sql) return e->code;
   double g;
-  int rc = one_number(d, sql, NULL, 0, &g, 1, e);
+  int rc = sl_db_numbers(d->t, sql, NULL, 0, &g, 1, e);
   free(sql);
   if (rc) return rc;
   d->I.nclusters = (size_t)g;
@@ -403,7 +398,7 @@ static int key(dprep *d, sl_error *e) {
   char *sql = sl_db_buf_done(&b, e);
   if (!sql) return e->code;
   double v[3];
-  int rc = one_number(d, sql, NULL, 0, v, 3, e);
+  int rc = sl_db_numbers(d->t, sql, NULL, 0, v, 3, e);
   free(sql);
   if (rc) return rc;
   if (v[1] < v[0])

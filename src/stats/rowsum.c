@@ -96,41 +96,6 @@ static double log1pexp(double a) {
   return a >= 0 ? a + log1p(exp(-a)) : log1p(exp(a));
 }
 
-static double eval(const sl_rx *x, int k, const double *var, const double *u, const double *par) {
-  const sl_rx_node *d = &x->node[k];
-  switch (d->op) {
-    case SL_RX_NUM: return d->x;
-    case SL_RX_VAR: return var[d->a];
-    case SL_RX_PAR: return par[d->a];
-    case SL_RX_VAL: return u[d->a];
-    default: break;
-  }
-  double a = eval(x, d->a, var, u, par);
-  double b = d->b >= 0 ? eval(x, d->b, var, u, par) : 0;
-  switch (d->op) {
-    case SL_RX_ADD: return a + b;
-    case SL_RX_SUB: return a - b;
-    case SL_RX_MUL: return a * b;
-    case SL_RX_DIV: return a / b;
-    case SL_RX_EXPIT: return expit(a);
-    case SL_RX_LOG1PEXP: return log1pexp(a);
-    default: return a < b;   /* SL_RX_LT */
-  }
-}
-
-/* The variables and values of sample row k. */
-static void row_values(const frame_ctx *c, const sl_rx *x, size_t k, const double *par,
-                       double *var, double *u) {
-  const sl_prep *P = c->P;
-  size_t i = c->ix[k];
-  var[SL_RV_T] = P->t[i];
-  var[SL_RV_Y] = P->y[i];
-  var[SL_RV_W] = P->w ? P->w[i] : 1;
-  var[SL_RV_BOOT] = 1;
-  memcpy(var + SL_RV_C0, P->C + i * P->q, P->q * sizeof *var);
-  for (size_t v = 0; v < x->nval; v++) u[v] = eval(x, x->root[v], var, u, par);
-}
-
 /* Rows evaluated a block at a time: each node's values for the block in
 ** a buffer (children come before their parents in the node list), so the
 ** dispatch on a node's kind is paid once per block, not once per row.  The
@@ -177,12 +142,14 @@ static void eval_block(const sl_rx *x, size_t k, size_t nb, double **col, const 
   }
 }
 
-static int frame_sums(void *ctx, const sl_sum_req *q, double *out, sl_error *e) {
-  const frame_ctx *c = ctx;
+/* Called with each block of rows in order: buf[x->root[v]] holds value
+** v for its nb rows, the first of which is sample row k0. */
+typedef void (*block_fn)(void *ctx, const sl_rx *x, double **buf, size_t k0, size_t nb);
+
+/* Walk the sample's rows a block at a time, every value evaluated. */
+static int each_block(const frame_ctx *c, const sl_rx *x, const double *par, block_fn fn,
+                      void *ctx, sl_error *e) {
   const sl_prep *P = c->P;
-  const sl_rx *x = q->rx;
-  if (q->nrep != 1 || q->rep[0] != 0)
-    return sl_error_set(e, SL_EARG, 0, 0, "a data frame sums the whole sample only");
   size_t nvar = SL_RV_C0 + P->q;
   double *store = malloc((x->n + nvar + 1) * BLOCK * sizeof *store);
   double **buf = malloc((x->n + 1) * sizeof *buf), **col = malloc(nvar * sizeof *col);
@@ -193,8 +160,6 @@ static int frame_sums(void *ctx, const sl_sum_req *q, double *out, sl_error *e) 
   }
   for (size_t v = 0; v < nvar; v++) col[v] = store + (x->n + v) * BLOCK;
   for (size_t i = 0; i < BLOCK; i++) col[SL_RV_BOOT][i] = 1;
-  for (size_t a = 0; a < q->nagg; a++)
-    out[a] = q->agg[a].kind == SL_AGG_MIN ? INFINITY : q->agg[a].kind == SL_AGG_MAX ? -INFINITY : 0;
   for (size_t k0 = 0; k0 < c->n; k0 += BLOCK) {
     size_t nb = c->n - k0 < BLOCK ? c->n - k0 : BLOCK;
     for (size_t i = 0; i < nb; i++) {   /* the block's variables */
@@ -205,62 +170,77 @@ static int frame_sums(void *ctx, const sl_sum_req *q, double *out, sl_error *e) 
       for (size_t j = 0; j < P->q; j++) col[SL_RV_C0 + j][i] = P->C[r * P->q + j];
     }
     for (size_t k = 0; k < x->n; k++)
-      if (need[k]) eval_block(x, k, nb, col, q->par, buf, store + k * BLOCK);
-    for (size_t a = 0; a < q->nagg; a++) {
-      const sl_agg *g = &q->agg[a];
-      const double *u = buf[x->root[g->a]];
-      const double *v = g->b >= 0 ? buf[x->root[g->b]] : NULL, *w = g->c >= 0 ? buf[x->root[g->c]] : NULL;
-      double acc = out[a];
-      if (g->kind == SL_AGG_MIN) { for (size_t i = 0; i < nb; i++) if (u[i] < acc) acc = u[i]; }
-      else if (g->kind == SL_AGG_MAX) { for (size_t i = 0; i < nb; i++) if (u[i] > acc) acc = u[i]; }
-      else if (w) for (size_t i = 0; i < nb; i++) acc += u[i] * v[i] * w[i];
-      else if (v) for (size_t i = 0; i < nb; i++) acc += u[i] * v[i];
-      else for (size_t i = 0; i < nb; i++) acc += u[i];
-      out[a] = acc;
-    }
+      if (need[k]) eval_block(x, k, nb, col, par, buf, store + k * BLOCK);
+    fn(ctx, x, buf, k0, nb);
   }
   free(store); free(buf); free(col); free(need);
   return SL_OK;
 }
 
+/* The aggregates, added row by row in order. */
+typedef struct agg_ctx { const sl_sum_req *q; double *out; } agg_ctx;
+static void add_aggs(void *ctx, const sl_rx *x, double **buf, size_t k0, size_t nb) {
+  const agg_ctx *a = ctx;
+  (void)k0;
+  for (size_t j = 0; j < a->q->nagg; j++) {
+    const sl_agg *g = &a->q->agg[j];
+    const double *u = buf[x->root[g->a]];
+    const double *v = g->b >= 0 ? buf[x->root[g->b]] : NULL, *w = g->c >= 0 ? buf[x->root[g->c]] : NULL;
+    double acc = a->out[j];
+    if (g->kind == SL_AGG_MIN) { for (size_t i = 0; i < nb; i++) if (u[i] < acc) acc = u[i]; }
+    else if (g->kind == SL_AGG_MAX) { for (size_t i = 0; i < nb; i++) if (u[i] > acc) acc = u[i]; }
+    else if (w) for (size_t i = 0; i < nb; i++) acc += u[i] * v[i] * w[i];
+    else if (v) for (size_t i = 0; i < nb; i++) acc += u[i] * v[i];
+    else for (size_t i = 0; i < nb; i++) acc += u[i];
+    a->out[j] = acc;
+  }
+}
+
+static int frame_sums(void *ctx, const sl_sum_req *q, double *out, sl_error *e) {
+  if (q->nrep != 1 || q->rep[0] != 0)
+    return sl_error_set(e, SL_EARG, 0, 0, "a data frame sums the whole sample only");
+  for (size_t a = 0; a < q->nagg; a++)
+    out[a] = q->agg[a].kind == SL_AGG_MIN ? INFINITY : q->agg[a].kind == SL_AGG_MAX ? -INFINITY : 0;
+  agg_ctx a = {q, out};
+  return each_block(ctx, q->rx, q->par, add_aggs, &a, e);
+}
+
+/* Value v of each row into its cluster's sum, or into all[k]. */
+typedef struct take_ctx { const frame_ctx *c; int v; double *sum; } take_ctx;
+static void add_cluster(void *ctx, const sl_rx *x, double **buf, size_t k0, size_t nb) {
+  const take_ctx *t = ctx;
+  const double *u = buf[x->root[t->v]];
+  for (size_t i = 0; i < nb; i++) t->sum[t->c->P->cluster[t->c->ix[k0 + i]]] += u[i];
+}
+static void copy_value(void *ctx, const sl_rx *x, double **buf, size_t k0, size_t nb) {
+  const take_ctx *t = ctx;
+  memcpy(t->sum + k0, buf[x->root[t->v]], nb * sizeof *t->sum);
+}
+
 static int frame_cluster_ss(void *ctx, const sl_rx *x, int v, const double *par, size_t npar,
                             double *ss, size_t *groups, sl_error *e) {
   const frame_ctx *c = ctx;
-  const sl_prep *P = c->P;
+  size_t G = c->P->nclusters;
   (void)npar;
-  double *sum = calloc(P->nclusters ? P->nclusters : 1, sizeof *sum);
-  double *var = malloc((SL_RV_C0 + P->q) * sizeof *var), *u = malloc((x->nval + 1) * sizeof *u);
-  if (!sum || !var || !u) {
-    free(sum); free(var); free(u);
-    return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
-  }
-  for (size_t k = 0; k < c->n; k++) {
-    row_values(c, x, k, par, var, u);
-    sum[P->cluster[c->ix[k]]] += u[v];
-  }
+  take_ctx t = {c, v, calloc(G ? G : 1, sizeof *t.sum)};
+  if (!t.sum) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  int rc = each_block(c, x, par, add_cluster, &t, e);
   *ss = 0;
-  for (size_t g = 0; g < P->nclusters; g++) *ss += sum[g] * sum[g];
-  *groups = P->nclusters;
-  free(sum); free(var); free(u);
-  return SL_OK;
+  for (size_t g = 0; g < G; g++) *ss += t.sum[g] * t.sum[g];
+  *groups = G;
+  free(t.sum);
+  return rc;
 }
 
 static int frame_quantiles(void *ctx, const sl_rx *x, int v, const double *par, const double *pct,
                            size_t k, double *out, sl_error *e) {
   const frame_ctx *c = ctx;
-  double *all = malloc((c->n ? c->n : 1) * sizeof *all);
-  double *var = malloc((SL_RV_C0 + c->P->q) * sizeof *var), *u = malloc((x->nval + 1) * sizeof *u);
-  if (!all || !var || !u) {
-    free(all); free(var); free(u);
-    return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
-  }
-  for (size_t r = 0; r < c->n; r++) {
-    row_values(c, x, r, par, var, u);
-    all[r] = u[v];
-  }
-  for (size_t j = 0; j < k; j++) out[j] = sl_est_quantile(all, c->n, pct[j]);
-  free(all); free(var); free(u);
-  return SL_OK;
+  take_ctx t = {c, v, malloc((c->n ? c->n : 1) * sizeof *t.sum)};
+  if (!t.sum) return sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory");
+  int rc = each_block(c, x, par, copy_value, &t, e);
+  for (size_t j = 0; rc == SL_OK && j < k; j++) out[j] = sl_est_quantile(t.sum, c->n, pct[j]);
+  free(t.sum);
+  return rc;
 }
 
 void sl_summer_frame(sl_summer *s, sl_frame_rows *rows) {

@@ -17,10 +17,11 @@ return function(name, db)
                      "1 + plot % 3 AS w FROM plots", {key = "plot"})
   local f = q:fetch()
 
-  local function both(a, what)
-    a.data = q
+  -- the estimate of a lazy table (q unless given) beside its fetched frame
+  local function both(a, what, lazy, frame)
+    a.data = lazy or q
     local r1 = estimate(a)
-    a.data = f
+    a.data = frame or f
     local r2 = estimate(a)
     rel(r1.estimate, r2.estimate, what .. ": estimate")
     rel(r1.se, r2.se, what .. ": SE")
@@ -125,12 +126,7 @@ return function(name, db)
     for _, m in ipairs({"standardize", "ipw", "aipw"}) do
       local a = {treatment = "tr; DROP TABLE y; --", outcome = "ÿield ünï",
                  set = {'r"a"in; --', "sö'il"}, method = m, treated = "o'brien; DROP TABLE y; --"}
-      a.data = h
-      local r1 = estimate(a)
-      a.data = hf
-      local r2 = estimate(a)
-      rel(r1.estimate, r2.estimate, m .. ": hostile names")
-      rel(r1.se, r2.se, m .. ": hostile names, SE")
+      local r1 = both(a, m .. ": hostile names", h, hf)
       eq(r1.treated_level, "o'brien; DROP TABLE y; --", m .. ": the level as bound")
     end
     local b = estimate{data = h, treatment = "tr; DROP TABLE y; --", outcome = "ÿield ünï",

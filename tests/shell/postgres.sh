@@ -15,11 +15,8 @@ exe=$(cd "$B" && pwd)/sluice
 pgbin=/usr/lib/postgresql/15/bin
 tmp=$(mktemp -d /tmp/sluice-db.XXXXXX)
 started=
-cleanup() {
-  [ -n "$started" ] && as_server "$pgbin/pg_ctl" -D "$sock/data" -m immediate stop >/dev/null 2>&1
-  rm -rf "$tmp"
-}
-trap cleanup EXIT
+. tests/lib/pg_user.sh
+trap pg_cleanup EXIT
 trap 'exit 1' INT TERM
 fail() { echo "FAIL  $1"; [ -f "$tmp/out.txt" ] && sed 's/^/      /' "$tmp/out.txt"; exit 1; }
 ok() { echo "ok    $1"; }
@@ -44,8 +41,7 @@ if ! command -v psql >/dev/null 2>&1; then
   echo "skipped: PostgreSQL client not installed (postgresql-client-15)"
   exit 0
 fi
-# the server's user and its own folder (data and socket); the rest stays ours
-. tests/lib/pg_user.sh
+# the server's own folder (data and socket); the rest stays ours
 pg_folder "$tmp" || fail "a folder for the server"
 as_server "$pgbin/initdb" -D "$sock/data" -U sluice --auth=trust -E UTF8 --no-locale \
   > "$tmp/out.txt" 2>&1 || fail "initdb made a cluster"
