@@ -429,15 +429,8 @@ static sl_frame *push_schema(lua_State *L, const sl_db_table *t) {
   lua_setfield(L, -2, "__gc");
   lua_setmetatable(L, -2);
   sl_error e;
-  sl_frame *f = sl_frame_alloc(0);
-  if (!f) luaL_error(L, "out of memory");
-  *box = f;
-  for (size_t j = 0; j < sl_db_ncol(t); j++)
-    if ((sl_db_coltype(t, j) == SL_CATEGORICAL
-           ? sl_frame_add_categorical(f, sl_db_colname(t, j), NULL, NULL, 0, &e)
-           : sl_frame_add_numeric(f, sl_db_colname(t, j), NULL, &e)))
-      sl_bind_raise(L, &e, "estimate", NULL, 0);
-  return f;
+  if (!(*box = sl_db_schema(t, &e))) sl_bind_raise(L, &e, "estimate", NULL, 0);
+  return *box;
 }
 
 /* Read the spec from (frame or lazy table, treatment, outcome, {set...},

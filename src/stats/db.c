@@ -381,6 +381,18 @@ double sl_db_cell(const sl_db_row *r, int j) {
   return r->db->ops->kind(r, j) == SL_DB_CELL_NULL ? NAN : r->db->ops->number(r, j);
 }
 
+sl_frame *sl_db_schema(const sl_db_table *t, sl_error *e) {
+  sl_frame *f = sl_frame_alloc(0);
+  if (!f) { sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); return NULL; }
+  for (size_t j = 0; j < sl_db_ncol(t); j++) {
+    int rc = sl_db_coltype(t, j) == SL_CATEGORICAL
+           ? sl_frame_add_categorical(f, sl_db_colname(t, j), NULL, NULL, 0, e)
+           : sl_frame_add_numeric(f, sl_db_colname(t, j), NULL, e);
+    if (rc) { sl_frame_free(f); return NULL; }
+  }
+  return f;
+}
+
 int sl_db_count(const sl_db_table *t, uint64_t *n, sl_error *e) {
   sl_db_buf b = {0};
   sl_db_buf_add(&b, "SELECT COUNT(*) FROM %s", t->from);

@@ -80,6 +80,10 @@ int sl_db_key(const sl_db_table *t);
 const char *sl_db_source(const sl_db_table *t, int *is_query);
 sl_db *sl_db_of(const sl_db_table *t);
 
+/* A frame of the table's columns (names and kinds) and no rows: what the
+** checks written for frames read (to free with sl_frame_free). */
+sl_frame *sl_db_schema(const sl_db_table *t, sl_error *e);
+
 /* The number of rows (COUNT(*)). */
 int sl_db_count(const sl_db_table *t, uint64_t *n, sl_error *e);
 

@@ -48,19 +48,6 @@ static void dprep_free(dprep *d) {
   sl_frame_free(d->schema);
 }
 
-/* A frame of the table's columns (names and kinds) and no rows. */
-static sl_frame *schema_of(const sl_db_table *t, sl_error *e) {
-  sl_frame *f = sl_frame_alloc(0);
-  if (!f) { sl_error_set(e, SL_ENOMEM, 0, 0, "out of memory"); return NULL; }
-  for (size_t j = 0; j < sl_db_ncol(t); j++) {
-    int rc = sl_db_coltype(t, j) == SL_CATEGORICAL
-           ? sl_frame_add_categorical(f, sl_db_colname(t, j), NULL, NULL, 0, e)
-           : sl_frame_add_numeric(f, sl_db_colname(t, j), NULL, e);
-    if (rc) { sl_frame_free(f); return NULL; }
-  }
-  return f;
-}
-
 /* ---- small queries ---- */
 
 /* The distinct values of column j over the complete rows, at most max + 1
@@ -440,7 +427,7 @@ int sl_db_summer_open(const sl_est_spec *s, sl_summer *S, void **handle, sl_est_
   d->v.t = s->table;
   d->v.seed = s->seed;
   int rc = SL_OK;
-  if (!(d->schema = schema_of(d->t, e))) { rc = e->code; goto done; }
+  if (!(d->schema = sl_db_schema(d->t, e))) { rc = e->code; goto done; }
   d->spec.data = d->schema;
   if ((rc = sl_est_check_roles(d->s, e))) goto done;
   if ((rc = complete_rows(d, e)) || (rc = treatment(d, e)) || (rc = outcome(d, e)) ||
